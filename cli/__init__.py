@@ -1,0 +1,1 @@
+"""leapwright's command line: a thin shell over the core."""

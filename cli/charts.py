@@ -1,0 +1,70 @@
+"""The force-plate view: COM height and ground force against frames, phases shaded.
+
+matplotlib is an optional extra (``pip install leapwright[charts]``); it is
+imported only when a chart is asked for.
+"""
+
+from core.errors import LeapwrightError
+
+_PHASE_COLOURS = {
+    "weighing": "#d9d9d9",
+    "unweighting": "#9ecae1",
+    "braking": "#fdae6b",
+    "propulsion": "#e6550d",
+    "flight": "#a1d99b",
+    "landing": "#bcbddc",
+}
+
+
+def _pyplot():
+    try:
+        import matplotlib
+
+        matplotlib.use("Agg")
+        import matplotlib.pyplot as plt
+    except ImportError:
+        raise LeapwrightError("charts need matplotlib: pip install 'leapwright[charts]'") from None
+    return plt
+
+
+def force_plate_chart(path, frames, height_m, force_bw, spans, title=""):
+    """Write a PNG with COM height [m] above and force [BW] below, against frames.
+
+    Parameters
+    ----------
+    path : str
+        Output PNG path.
+    frames, height_m, force_bw : array_like
+        Samples; frames may be fractional.
+    spans : list of (first_frame, last_frame, label)
+        Regions to shade; labels named after a force-plate phase get its colour.
+    title : str
+    """
+    plt = _pyplot()
+    fig, (ax_h, ax_f) = plt.subplots(2, 1, sharex=True, figsize=(8, 5), dpi=100,
+                                     gridspec_kw={"height_ratios": [1, 1]})
+    seen = set()
+    for first, last, label in spans:
+        colour = _PHASE_COLOURS.get(label, "#c7e9c0")
+        for ax in (ax_h, ax_f):
+            ax.axvspan(first, last, color=colour, alpha=0.55, lw=0,
+                       label=label if (ax is ax_f and label not in seen) else None)
+        seen.add(label)
+    ax_h.plot(frames, height_m, color="#08306b", lw=1.8)
+    ax_h.set_ylabel("COM height [m]")
+    ax_f.plot(frames, force_bw, color="#67000d", lw=1.8)
+    ax_f.axhline(1.0, color="k", lw=0.8, ls="--")
+    ax_f.set_ylabel("ground force [BW]")
+    ax_f.set_xlabel("frame")
+    ax_f.legend(loc="upper right", fontsize=7, ncol=3, frameon=False)
+    if title:
+        ax_h.set_title(title)
+    for ax in (ax_h, ax_f):
+        ax.grid(alpha=0.3)
+    fig.tight_layout()
+    try:
+        fig.savefig(path)
+    except OSError as exc:
+        raise LeapwrightError(f"cannot write the chart to {path!r}: {exc.strerror}; choose a writable path") from None
+    finally:
+        plt.close(fig)

@@ -1,0 +1,54 @@
+"""``leapwright``: plan and check jumps from the command line.
+
+Exit codes: 0 success (no findings), 1 findings (check), 2 bad input. Bad input
+prints one line on stderr and never a traceback.
+"""
+
+import argparse
+import sys
+
+from core.errors import LeapwrightError
+
+from . import plan_command
+
+
+class _Parser(argparse.ArgumentParser):
+    """argparse that exits 2 with one line (no usage dump) on bad arguments."""
+
+    def error(self, message):
+        self.exit(2, f"leapwright: {message}\n")
+
+
+def _subcommands():
+    modules = [plan_command]
+    try:
+        from . import check_command
+    except ImportError:  # the checker is optional while it is being built
+        check_command = None
+    if check_command is not None:
+        modules.append(check_command)
+    return modules
+
+
+def build_parser():
+    parser = _Parser(prog="leapwright", description="Physically consistent jump animation.")
+    sub = parser.add_subparsers(dest="command", required=True, parser_class=_Parser)
+    for module in _subcommands():
+        module.add_parser(sub)
+    return parser
+
+
+def main(argv=None):
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    try:
+        return int(args.func(args) or 0)
+    except LeapwrightError as exc:
+        print(f"leapwright: {exc}", file=sys.stderr)
+        return 2
+    except BrokenPipeError:
+        return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())

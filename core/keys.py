@@ -1,0 +1,123 @@
+"""Keys from a plan: phase poses for blocking, and minimal cubic Hermite keys.
+
+A cubic Hermite span between keys (t0, v0, s0) and (t1, v1, s1) is a Bezier
+curve with handles at t0 + dt/3 (value v0 + s0 dt/3) and t1 - dt/3 (value
+v1 - s1 dt/3); with handles at thirds the time parameter is linear, so a
+flight parabola (a quadratic) is reproduced exactly.
+"""
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from .errors import InvalidGoalError, require_finite
+
+_CHECK_POINTS = 96  # error samples inside a span
+_SAFETY = 0.98  # fit a little inside the tolerance so dense re-checks pass
+
+
+@dataclass(frozen=True)
+class HermiteKeys:
+    """Key times [s], values [m] and slopes [m/s] of a cubic Hermite curve."""
+
+    times: np.ndarray
+    values: np.ndarray
+    slopes: np.ndarray
+
+    def __len__(self):
+        return len(self.times)
+
+
+def _channel(plan, channel):
+    if channel == "height":
+        return plan.height, plan.vertical_speed
+    if channel == "forward":
+        return plan.forward, plan.forward_speed
+    raise InvalidGoalError(f"channel {channel!r} is not one of 'height', 'forward'")
+
+
+def evaluate_hermite(keys, t):
+    """Value of the key curve at times ``t`` [s]; constant beyond the end keys."""
+    t = np.asarray(t, dtype=float)
+    k, v, s = keys.times, keys.values, keys.slopes
+    if len(k) == 1:
+        return np.full_like(t, v[0])
+    i = np.clip(np.searchsorted(k, t, side="right") - 1, 0, len(k) - 2)
+    dt = k[i + 1] - k[i]
+    u = np.clip((t - k[i]) / dt, 0.0, 1.0)
+    h00 = 2 * u**3 - 3 * u**2 + 1
+    h10 = u**3 - 2 * u**2 + u
+    h01 = -2 * u**3 + 3 * u**2
+    h11 = u**3 - u**2
+    out = h00 * v[i] + h10 * dt * s[i] + h01 * v[i + 1] + h11 * dt * s[i + 1]
+    out = np.where(t < k[0], v[0], out)
+    return np.where(t > k[-1], v[-1], out)
+
+
+def _span_error(f, df, t0, t1):
+    t = np.linspace(t0, t1, _CHECK_POINTS + 2)
+    keys = HermiteKeys(np.array([t0, t1]), f(np.array([t0, t1])), df(np.array([t0, t1])))
+    return float(np.max(np.abs(evaluate_hermite(keys, t) - f(t))))
+
+
+def _breakpoints(plan):
+    """Times that must be keys: the ends, and every take-off and touchdown."""
+    points = {0.0, plan.duration_s}
+    for hop in plan.hops:
+        points.update((hop.takeoff_time_s, hop.touchdown_time_s))
+    return sorted(points)
+
+
+def hermite_keys(plan, channel="height", tolerance=5e-4):
+    """The fewest cubic Hermite keys that follow a channel within ``tolerance``.
+
+    Keys sit at take-off and touchdown (so each flight is one exact span) and,
+    between them, as far apart as the tolerance allows: from each key the next
+    is the farthest time whose span stays within tolerance (found by bisection).
+
+    Parameters
+    ----------
+    plan : JumpPlan
+    channel : {"height", "forward"}
+    tolerance : float
+        Largest distance between the key curve and the plan [m].
+
+    Returns
+    -------
+    HermiteKeys
+    """
+    tol = require_finite("key tolerance", tolerance, positive=True, unit=" m") * _SAFETY
+    f, df = _channel(plan, channel)
+    times = [0.0]
+    marks = _breakpoints(plan)
+    for start, end in zip(marks[:-1], marks[1:]):
+        t = start
+        while end - t > 1e-12:
+            if _span_error(f, df, t, end) <= tol:
+                t = end
+            else:
+                lo, hi = t, end
+                for _ in range(40):
+                    mid = 0.5 * (lo + hi)
+                    lo, hi = (mid, hi) if _span_error(f, df, t, mid) <= tol else (lo, mid)
+                if lo - t < 1e-9:
+                    lo = hi  # tolerance below float resolution of the curve: step on
+                t = lo
+            times.append(t)
+    times = np.array(times)
+    return HermiteKeys(times, f(times), df(times))
+
+
+def phase_pose_keys(plan, channel="height"):
+    """One key per phase start plus the end: the poses of a blocking pass (slopes 0)."""
+    f, _ = _channel(plan, channel)
+    times = np.array([p.start_s for p in plan.phases] + [plan.duration_s])
+    times = np.unique(times)
+    return HermiteKeys(times, f(times), np.zeros_like(times))
+
+
+def frame_keys(plan, channel, fps):
+    """A key on every frame at ``fps`` [frames/s], slopes from the plan."""
+    f, df = _channel(plan, channel)
+    t = plan.sample(fps).times
+    return HermiteKeys(t, f(t), df(t))

@@ -1,0 +1,86 @@
+"""Piecewise polynomials of time: the exact form every planned curve takes."""
+
+from dataclasses import dataclass
+
+import numpy as np
+from numpy.polynomial import Polynomial
+
+
+@dataclass(frozen=True)
+class PiecewisePolynomial:
+    """A curve made of polynomials in local time, one per stretch.
+
+    Parameters
+    ----------
+    starts : tuple of float
+        Start time of each piece [s], increasing; piece ``i`` covers
+        ``[starts[i], starts[i+1])`` and the last one ``[starts[-1], end]``.
+    end : float
+        End time of the last piece [s]. Outside ``[starts[0], end]`` the curve
+        holds its end values (position kept, derivatives zero).
+    pieces : tuple of numpy.polynomial.Polynomial
+        Polynomial of local time ``t - starts[i]`` [s] for each piece.
+    """
+
+    starts: tuple
+    end: float
+    pieces: tuple
+
+    def derivative_pieces(self, order):
+        return tuple(p.deriv(order) if order else p for p in self.pieces)
+
+    def evaluate(self, t, order=0):
+        """Value (``order`` 0), speed (1) or acceleration (2) at times ``t`` [s]."""
+        t = np.asarray(t, dtype=float)
+        flat = np.atleast_1d(t).ravel()
+        out = np.empty_like(flat)
+        starts = np.asarray(self.starts)
+        index = np.clip(np.searchsorted(starts, flat, side="right") - 1, 0, len(starts) - 1)
+        inside = (flat >= starts[0]) & (flat <= self.end)
+        pieces = self.derivative_pieces(order)
+        for i, poly in enumerate(pieces):
+            sel = (index == i) & inside
+            if sel.any():
+                out[sel] = poly(flat[sel] - starts[i])
+        before, after = flat < starts[0], flat > self.end
+        if order == 0:
+            out[before] = self.pieces[0](0.0)
+            out[after] = self.pieces[-1](self.end - starts[-1])
+        else:
+            out[before | after] = 0.0
+        return out.reshape(t.shape) if t.ndim else float(out[0])
+
+    def piece_bounds(self):
+        """``(start, end)`` of every piece [s]."""
+        ends = tuple(self.starts[1:]) + (self.end,)
+        return tuple(zip(self.starts, ends))
+
+
+def quintic_between(p0, v0, a0, p1, v1, a1, duration):
+    """The quintic with given position, speed and acceleration at both ends.
+
+    Parameters
+    ----------
+    p0, v0, a0 : float
+        Position [m], speed [m/s] and acceleration [m/s^2] at local time 0.
+    p1, v1, a1 : float
+        The same at local time ``duration`` [s].
+
+    Returns
+    -------
+    numpy.polynomial.Polynomial
+        Six conditions fix the six coefficients: joining such pieces makes a
+        curve with continuous acceleration (C2), so the ground force is continuous.
+    """
+    T = float(duration)
+    c0, c1, c2 = p0, v0, 0.5 * a0
+    m = np.array([[T**3, T**4, T**5], [3 * T**2, 4 * T**3, 5 * T**4], [6 * T, 12 * T**2, 20 * T**3]])
+    rhs = np.array([p1 - (c0 + c1 * T + c2 * T * T), v1 - (c1 + 2 * c2 * T), a1 - 2 * c2])
+    c3, c4, c5 = np.linalg.solve(m, rhs)
+    return Polynomial([c0, c1, c2, c3, c4, c5])
+
+
+def smoothstep(duration):
+    """``3s^2 - 2s^3`` with ``s = t / duration``: 0 -> 1 with zero slope at both ends."""
+    T = float(duration)
+    return Polynomial([0.0, 0.0, 3.0 / T**2, -2.0 / T**3])

@@ -1,0 +1,357 @@
+"""The jump planner: goals in, a ballistic centre-of-mass path and its force story out.
+
+Vertical path z(t) of the centre of mass (COM), relative to the standing COM on
+the take-off ground, Z up:
+
+* weighing: standing still, force 1 BW;
+* a contact stretch of two C2 quintics (:mod:`.contact_shapes`): the dip
+  (unweighting, then braking, to the bottom) and the push (propulsion), ending
+  at take-off with acceleration exactly -g, so the force fades to 0;
+* flight: the exact parabola z = z0 + v0 t - g t^2 / 2;
+* landing: from touchdown (acceleration -g: the force starts from 0) down to the
+  bottom, then back to standing (or straight into the next push for hops).
+
+Phase names follow the force-plate convention of McMahon et al. 2018 (Strength
+Cond J 40(4):96-106): weighing, unweighting, braking, propulsion, flight, landing.
+
+Forward path x(t): no travel in the dip; in propulsion the horizontal force is a
+ramp times the vertical force (Fx = k w(s) Fz, w = smoothstep), so it starts at 0
+and fades with Fz at take-off; constant speed in flight; on landing the mirror
+ramp absorbs it. The required friction coefficient is the largest Fx/Fz.
+"""
+
+from dataclasses import dataclass
+import math
+
+import numpy as np
+from numpy.polynomial import Polynomial
+
+from .contact_shapes import (ABSORPTION, DIP, PROPULSION, RECOVERY, EndState, StretchSpec,
+                             build_pieces, choose_shape)
+from .errors import InfeasibleJumpError
+from .goals import resolved, similarity
+from .piecewise import PiecewisePolynomial, smoothstep
+from .plausibility import plausibility_report
+
+PHASE_NAMES = ("weighing", "unweighting", "braking", "propulsion", "flight", "landing")
+_FREE_DURATION_RANGE = (0.04, 3.0)  # s at human scale, bounds for a chosen duration
+
+
+@dataclass(frozen=True)
+class Phase:
+    """One force-plate phase: ``name`` from :data:`PHASE_NAMES`, hop number from 1, times [s]."""
+
+    name: str
+    hop: int
+    start_s: float
+    end_s: float
+
+
+@dataclass(frozen=True)
+class HopFigures:
+    """Ballistic figures of one hop: times [s], speeds [m/s], apex rise [m]."""
+
+    takeoff_time_s: float
+    touchdown_time_s: float
+    takeoff_speed_m_s: float
+    flight_time_s: float
+    apex_rise_m: float
+    forward_speed_m_s: float
+    friction_needed: float  # largest |Fx| / Fz in the push and its landing [-]
+
+
+@dataclass(frozen=True)
+class PlanSamples:
+    """The plan sampled at a frame rate: times [s], height [m], forward [m], speed [m/s], force [BW]."""
+
+    times: np.ndarray
+    height: np.ndarray
+    forward: np.ndarray
+    vertical_speed: np.ndarray
+    force_bw: np.ndarray
+
+
+@dataclass(frozen=True)
+class JumpPlan:
+    """A planned jump. Times in seconds from the start of weighing.
+
+    Attributes
+    ----------
+    goals : JumpGoals
+        As given. ``resolved_goals`` holds them with every default filled in.
+    gravity : float
+        [m/s^2]
+    phases : tuple of Phase
+    hops : tuple of HopFigures
+    shapes : tuple of contact_shapes.StretchShape
+        The free values chosen for each contact stretch (for inspection).
+    report : plausibility.PlausibilityReport
+    """
+
+    goals: object
+    resolved_goals: object
+    gravity: float
+    phases: tuple
+    hops: tuple
+    shapes: tuple
+    report: object
+    z_path: PiecewisePolynomial
+    x_path: PiecewisePolynomial
+
+    @property
+    def duration_s(self):
+        return self.z_path.end
+
+    def height(self, t):
+        """COM height relative to the standing COM on the take-off ground [m]."""
+        return self.z_path.evaluate(t, 0)
+
+    def vertical_speed(self, t):
+        """[m/s]"""
+        return self.z_path.evaluate(t, 1)
+
+    def vertical_acceleration(self, t):
+        """[m/s^2]"""
+        return self.z_path.evaluate(t, 2)
+
+    def forward(self, t):
+        """Forward COM travel from the standing position [m]."""
+        return self.x_path.evaluate(t, 0)
+
+    def forward_speed(self, t):
+        """[m/s]"""
+        return self.x_path.evaluate(t, 1)
+
+    def force_bw(self, t):
+        """Vertical ground force in body weights, 1 + z''/g; exactly 0 in flight."""
+        force = 1.0 + self.vertical_acceleration(t) / self.gravity
+        t_arr = np.asarray(t, dtype=float)
+        in_flight = np.zeros(np.shape(t_arr), dtype=bool)
+        for hop in self.hops:
+            in_flight |= (t_arr > hop.takeoff_time_s) & (t_arr < hop.touchdown_time_s)
+        return np.where(in_flight, 0.0, force) if np.ndim(force) else (0.0 if in_flight else force)
+
+    def sample(self, fps):
+        """Samples at ``fps`` [frames/s] from time 0 through the end of the plan."""
+        n = int(math.floor(self.duration_s * fps + 1e-9)) + 1
+        t = np.arange(n) / fps
+        return PlanSamples(t, self.height(t), self.forward(t), self.vertical_speed(t), self.force_bw(t))
+
+
+def takeoff_speed_for(goals, gravity, rise):
+    """Take-off speed [m/s] from whichever of height, flight time or speed was given.
+
+    ``rise`` is the landing COM height relative to take-off [m]. For a flight time
+    T: rise = v0 T - g T^2 / 2, so v0 = rise / T + g T / 2.
+    """
+    if goals.height is not None:
+        return math.sqrt(2.0 * gravity * goals.height)
+    if goals.flight_time is not None:
+        return rise / goals.flight_time + 0.5 * gravity * goals.flight_time
+    return float(goals.takeoff_speed)
+
+
+def flight_time_for(v0, gravity, rise):
+    """Time [s] for the parabola from take-off to a landing ``rise`` [m] higher."""
+    return (v0 + math.sqrt(v0 * v0 - 2.0 * gravity * rise)) / gravity
+
+
+def _const(value):
+    return Polynomial([float(value)])
+
+
+def _forward_unit_paths(z_piece, duration, gravity, absorbing):
+    """Forward position polynomials for a unit change of forward speed.
+
+    The horizontal acceleration is ``k w(s) (g + z'')`` (push) or
+    ``-k (1 - w(s)) (g + z'')`` (absorption), with k making the speed change 1 m/s.
+    Returns ``(x_unit, k)``: position for 1 m/s [m per m/s], and k, the largest
+    Fx/Fz ratio per m/s.
+    """
+    w = smoothstep(duration)
+    support = (g_plus := z_piece.deriv(2) + gravity) * (Polynomial([1.0]) - w if absorbing else w)
+    impulse = support.integ()(duration)
+    k = 1.0 / impulse
+    speed = (Polynomial([1.0]) - k * support.integ()) if absorbing else k * support.integ()
+    del g_plus
+    return speed.integ(), k
+
+
+def _infeasible_stretch_message(goals, kind, stretch_spec):
+    g = goals.gravity
+    if kind == "start":
+        # A rest-to-rest quintic's peak acceleration is 5.77 d / T^2 (10 sqrt(3)/3).
+        t_min = math.sqrt(5.7735 * goals.depth / g)
+        return (f"no dip and push meet these goals: a {goals.dip_duration:.3g} s dip to "
+                f"{goals.depth:.3g} m with a take-off at {stretch_spec.end.speed:.3g} m/s"
+                + (f" after a {goals.push_duration:.3g} s push" if goals.push_duration else "")
+                + f" needs the ground to pull or the body to fall faster than g = {g:.4g} m/s^2; "
+                f"lengthen the dip (at least {1.3 * t_min:.2f} s), reduce the depth, or leave the push "
+                "duration to be chosen")
+    return (f"no landing meets these goals: touchdown at {-stretch_spec.start.speed:.3g} m/s stopped "
+            f"within {goals.landing_depth:.3g} m"
+            + (f" in {goals.landing_duration:.3g} s" if goals.landing_duration else "")
+            + "; increase the landing depth or leave the landing duration to be chosen")
+
+
+def plan_jump(goals):
+    """Plan a jump (or hop sequence) that meets ``goals``.
+
+    Parameters
+    ----------
+    goals : JumpGoals
+
+    Returns
+    -------
+    JumpPlan
+
+    Raises
+    ------
+    InfeasibleJumpError
+        When no physical jump meets the goals together (a ledge above the apex,
+        a dip faster than free fall, a landing too short to stop in).
+
+    References
+    ----------
+    McMahon J J, Suchomel T J, Lake J P, Comfort P (2018). Understanding the key
+    phases of the countermovement jump force-time curve. Strength Cond J 40(4):96-106.
+    """
+    G = resolved(goals)
+    g = G.gravity
+    e = G.takeoff_extension
+    _, time_scale = similarity(G)
+    free_range = tuple(x * time_scale for x in _FREE_DURATION_RANGE)
+    rise = G.landing_height
+    v0 = takeoff_speed_for(G, g, rise)
+    apex = v0 * v0 / (2.0 * g)
+    if not (v0 > 0 and v0 * v0 - 2.0 * g * rise > 1e-12 * max(1.0, v0 * v0)):
+        given = {"height": "height", "flight_time": "flight time", "takeoff_speed": "take-off speed"}
+        name = next(n for n in given if getattr(G, n) is not None)
+        raise InfeasibleJumpError(
+            f"the landing ground (+{rise:.3g} m) is at or above the apex rise ({apex:.3g} m) that the "
+            f"{given[name]} {getattr(G, name):g} gives; ask for an apex above {rise:.3g} m or lower the ledge")
+    if G.landing_depth <= e:
+        raise InfeasibleJumpError(
+            f"landing depth {G.landing_depth:.3g} m must exceed the take-off extension {e:.3g} m: the COM "
+            "has to come down below standing height to absorb; deepen the landing")
+    t_flight = flight_time_for(v0, g, rise)
+    v_td = v0 - g * t_flight  # negative: falling at touchdown
+
+    starts, z_pieces, x_pieces, phases, hops, shapes = [], [], [], [], [], []
+    t = 0.0
+    chosen = {}
+
+    def shape_for(spec, first, second):
+        # A rebound stretch is both a hop's landing and the next hop's push: choose it once.
+        key = (spec, first, second)
+        if key not in chosen:
+            chosen[key] = choose_shape(spec, first, second, free_range)
+        return chosen[key]
+
+    def add(duration, z_poly, x_poly):
+        nonlocal t
+        starts.append(t)
+        z_pieces.append(z_poly)
+        x_pieces.append(x_poly)
+        t += duration
+
+    if G.weighing_duration > 0:
+        phases.append(Phase("weighing", 1, 0.0, G.weighing_duration))
+        add(G.weighing_duration, _const(0.0), _const(0.0))
+
+    x_now = 0.0
+    pending_landing = None  # (absorption z, duration, hop, vx) awaiting its forward path
+    for hop in range(1, G.hops + 1):
+        ground = (hop - 1) * rise
+        takeoff_state = EndState(ground + e, v0, -g)
+        if hop == 1:
+            spec = StretchSpec(EndState(0.0, 0.0, 0.0), -G.depth, takeoff_state, DIP, PROPULSION, g)
+            shape = shape_for(spec, G.dip_duration, G.push_duration)
+            if shape is None:
+                raise InfeasibleJumpError(_infeasible_stretch_message(G, "start", spec))
+        else:
+            spec = StretchSpec(EndState(ground + e, v_td, -g), ground + e - G.landing_depth, takeoff_state,
+                               ABSORPTION, PROPULSION, g)
+            shape = shape_for(spec, G.landing_duration, G.push_duration)
+            if shape is None:
+                raise InfeasibleJumpError(_infeasible_stretch_message(G, "landing", spec))
+        shapes.append(shape)
+        first, second = build_pieces(spec, shape.bottom_acceleration, shape.first_duration,
+                                     shape.second_duration)
+        x_push, k_push = _forward_unit_paths(second, shape.second_duration, g, absorbing=False)
+        # Forward speed so each hop travels `distance` from foot spot to foot spot
+        # (the COM sits over the feet at each bottom).
+        land_spec = _landing_spec(G, hop, rise, e, v_td, v0)
+        land_shape = shape_for(land_spec, G.landing_duration,
+                               G.push_duration if land_spec.second_kind == PROPULSION else G.recovery_duration)
+        if land_shape is None:
+            raise InfeasibleJumpError(_infeasible_stretch_message(G, "landing", land_spec))
+        land_first, _ = build_pieces(land_spec, land_shape.bottom_acceleration, land_shape.first_duration,
+                                     land_shape.second_duration)
+        x_land, k_land = _forward_unit_paths(land_first, land_shape.first_duration, g, absorbing=True)
+        per_unit = x_push(shape.second_duration) + t_flight + x_land(land_shape.first_duration)
+        vx = G.distance / per_unit
+
+        if hop == 1:
+            t_bottom_local = shape.first_duration
+            t_turn = _acceleration_zero(first, t_bottom_local)
+            phases.append(Phase("unweighting", 1, t, float(t + t_turn)))
+            phases.append(Phase("braking", 1, float(t + t_turn), t + t_bottom_local))
+            add(shape.first_duration, first, _const(x_now))
+        else:
+            absorb_z, absorb_duration, absorb_hop, absorb_vx, absorb_unit = pending_landing
+            phases.append(Phase("landing", absorb_hop, t, t + shape.first_duration))
+            add(shape.first_duration, first, x_now + absorb_vx * absorb_unit)
+            x_now = x_now + absorb_vx * absorb_unit(shape.first_duration)
+        phases.append(Phase("propulsion", hop, t, t + shape.second_duration))
+        add(shape.second_duration, second, x_now + vx * x_push)
+        x_now += vx * x_push(shape.second_duration)
+        takeoff_time = t
+        phases.append(Phase("flight", hop, t, t + t_flight))
+        add(t_flight, Polynomial([ground + e, v0, -0.5 * g]), Polynomial([x_now, vx]))
+        x_now += vx * t_flight
+        hops.append(HopFigures(takeoff_time, t, v0, t_flight, apex, vx,
+                               abs(vx) * max(k_push, k_land)))
+        pending_landing = (land_first, land_shape.first_duration, hop, vx, x_land)
+        last_land = (land_spec, land_shape, land_first)
+
+    land_spec, land_shape, land_first = last_land
+    _, recovery = build_pieces(land_spec, land_shape.bottom_acceleration, land_shape.first_duration,
+                               land_shape.second_duration)
+    shapes.append(land_shape)
+    _, _, absorb_hop, absorb_vx, absorb_unit = pending_landing
+    landing_start = t
+    add(land_shape.first_duration, land_first, x_now + absorb_vx * absorb_unit)
+    x_now += absorb_vx * absorb_unit(land_shape.first_duration)
+    add(land_shape.second_duration, recovery, _const(x_now))
+    phases.append(Phase("landing", absorb_hop, landing_start, t))
+
+    z_path = PiecewisePolynomial(tuple(starts), t, tuple(z_pieces))
+    x_path = PiecewisePolynomial(tuple(starts), t, tuple(x_pieces))
+    phases = tuple(sorted(phases, key=lambda p: p.start_s))
+    report = plausibility_report(G, phases, z_path, tuple(hops))
+    return JumpPlan(goals, G, g, phases, tuple(hops), tuple(shapes), report, z_path, x_path)
+
+
+def _landing_spec(G, hop, rise, e, v_td, v0):
+    """The contact stretch that follows hop ``hop``'s flight."""
+    ground = hop * rise
+    start = EndState(ground + e, v_td, -G.gravity)
+    bottom = ground + e - G.landing_depth
+    if hop < G.hops:
+        return StretchSpec(start, bottom, EndState(ground + e, v0, -G.gravity), ABSORPTION, PROPULSION,
+                           G.gravity)
+    return StretchSpec(start, bottom, EndState(ground, 0.0, 0.0), ABSORPTION, RECOVERY, G.gravity)
+
+
+def _acceleration_zero(dip, duration):
+    """Local time [s] where the dip's acceleration turns upward (end of unweighting).
+
+    The dip starts at rest with zero acceleration, so 0 is a (numerically split)
+    double root; the turn is the last root inside the dip, after which the
+    acceleration stays positive up to the bottom.
+    """
+    acc = dip.deriv(2)
+    roots = [r.real for r in acc.roots() if abs(r.imag) < 1e-9 and 0.0 < r.real < duration]
+    crossing = [r for r in roots if acc(min(r + 1e-6 * duration, duration)) > 0.0]
+    return max(crossing) if crossing else 0.5 * duration
