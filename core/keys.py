@@ -105,7 +105,32 @@ def hermite_keys(plan, channel="height", tolerance=5e-4):
                 t = lo
             times.append(t)
     times = np.array(times)
-    return HermiteKeys(times, f(times), df(times))
+    return _prune_held_ends(HermiteKeys(times, f(times), df(times)), f, tol)
+
+
+def _subset(keys, sl):
+    return HermiteKeys(keys.times[sl], keys.values[sl], keys.slopes[sl])
+
+
+def _prune_held_ends(keys, f, tol):
+    """Drop end keys that the curve's constant extrapolation already covers.
+
+    Before its first key and after its last an F-curve holds the end value, so a
+    standing-still stretch at either end needs no key of its own.
+    """
+    while len(keys) > 2:
+        fewer = _subset(keys, slice(1, None))
+        t = np.linspace(keys.times[0], keys.times[1], 4 * _CHECK_POINTS)
+        if np.max(np.abs(evaluate_hermite(fewer, t) - f(t))) > tol:
+            break
+        keys = fewer
+    while len(keys) > 2:
+        fewer = _subset(keys, slice(None, -1))
+        t = np.linspace(keys.times[-2], keys.times[-1], 4 * _CHECK_POINTS)
+        if np.max(np.abs(evaluate_hermite(fewer, t) - f(t))) > tol:
+            break
+        keys = fewer
+    return keys
 
 
 def phase_pose_keys(plan, channel="height"):

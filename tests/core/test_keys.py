@@ -1,0 +1,70 @@
+"""Key extraction: exact flight spans, the tolerance, and a minimal key list."""
+
+import numpy as np
+import pytest
+
+from core.goals import JumpGoals
+from core.keys import HermiteKeys, evaluate_hermite, hermite_keys, phase_pose_keys
+from core.feet import foot_ball_path
+from core.planner import plan_jump
+
+TOL = 5e-4
+DEFAULT_HEIGHT_KEYS = 16  # stated in README: the default 0.4 m jump needs at most 16 height keys
+
+
+@pytest.fixture(scope="module")
+def jump():
+    return plan_jump(JumpGoals(height=0.4, distance=0.9, landing_height=0.2))
+
+
+def test_flight_span_reproduces_the_parabola(jump):
+    # A cubic Hermite span with the exact end values and slopes reproduces any
+    # quadratic exactly (a parabola is a cubic Bezier with handles at thirds).
+    keys = hermite_keys(jump, "height", TOL)
+    hop = jump.hops[0]
+    assert np.any(np.isclose(keys.times, hop.takeoff_time_s, atol=0, rtol=0))
+    assert np.any(np.isclose(keys.times, hop.touchdown_time_s, atol=0, rtol=0))
+    t = np.linspace(hop.takeoff_time_s, hop.touchdown_time_s, 1001)
+    assert np.max(np.abs(evaluate_hermite(keys, t) - jump.height(t))) < 1e-9
+
+
+@pytest.mark.parametrize("channel", ["height", "forward"])
+def test_keys_follow_the_plan_within_tolerance(jump, channel):
+    keys = hermite_keys(jump, channel, TOL)
+    t = np.linspace(0, jump.duration_s, 100001)
+    f = jump.height if channel == "height" else jump.forward
+    assert np.max(np.abs(evaluate_hermite(keys, t) - f(t))) <= TOL
+
+
+@pytest.mark.parametrize("channel", ["height", "forward"])
+def test_key_list_is_minimal(jump, channel):
+    keys = hermite_keys(jump, channel, TOL)
+    f = jump.height if channel == "height" else jump.forward
+    t = np.linspace(0, jump.duration_s, 40001)
+    for k in range(len(keys)):
+        keep = np.arange(len(keys)) != k
+        fewer = HermiteKeys(keys.times[keep], keys.values[keep], keys.slopes[keep])
+        assert np.max(np.abs(evaluate_hermite(fewer, t) - f(t))) > TOL, f"key {k} was not needed"
+
+
+def test_default_jump_key_count():
+    keys = hermite_keys(plan_jump(JumpGoals(height=0.4)), "height", TOL)
+    assert len(keys) <= DEFAULT_HEIGHT_KEYS
+
+
+def test_phase_pose_keys_sit_on_phase_starts(jump):
+    poses = phase_pose_keys(jump, "height")
+    starts = sorted({p.start_s for p in jump.phases} | {jump.duration_s})
+    assert np.allclose(poses.times, starts)
+    assert np.allclose(poses.values, jump.height(np.array(starts)))
+
+
+def test_feet_stay_planted_in_contact_and_lift_in_flight(jump):
+    t = np.linspace(0, jump.duration_s, 20001)
+    x, z = foot_ball_path(jump, t)
+    hop = jump.hops[0]
+    before, after = t <= hop.takeoff_time_s, t >= hop.touchdown_time_s
+    assert np.ptp(x[before]) == 0 and np.all(z[before] == 0)
+    assert np.ptp(x[after]) < 1e-12 and np.allclose(z[after], 0.2)
+    assert x[after][0] == pytest.approx(0.9, abs=1e-9)
+    assert np.all(z[~before & ~after] >= -1e-9)
