@@ -28,6 +28,8 @@ _NUMBER_GOALS = (
     ("--weighing", "weighing_duration", "standing still before the dip [s] (default 0.25)"),
     ("--mass", "mass", "body mass [kg], to report forces in newtons"),
     ("--friction", "friction", "friction coefficient before a slip warning (default 0.6, from memory)"),
+    ("--fall-gravity-scale", "fall_gravity_scale", "stylised: fall under this multiple of gravity (default 1)"),
+    ("--apex-hang", "apex_hang", "stylised: time held at the apex [s] (default 0)"),
 )
 
 
@@ -92,6 +94,7 @@ def plan_summary(plan, fps, start_frame, tolerance):
                   "apex_rise_m": h.apex_rise_m, "forward_speed_m_s": h.forward_speed_m_s}
                  for h in plan.hops],
         "warnings": list(r.warnings),
+        "stylisations": list(r.stylisations),
         "phases": [{"name": p.name, "hop": p.hop,
                     "start_frame": seconds_to_frames(p.start_s, fps, start_frame),
                     "end_frame": seconds_to_frames(p.end_s, fps, start_frame),
@@ -112,6 +115,8 @@ def _table(summary):
         lines.append(f"  {p['name']:<12} {p['hop']:>4}   {p['start_frame']:11.2f} {p['end_frame']:11.2f}")
     lines.append("")
     lines.append(f"  {summary['height_keys']} height keys reproduce the COM path")
+    for note in summary["stylisations"]:
+        lines.append(f"  stylised: {note}")
     for w in summary["warnings"]:
         lines.append(f"  warning: {w}")
     return "\n".join(lines)

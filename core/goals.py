@@ -55,6 +55,11 @@ class JumpGoals:
         Number of hops; each landing flows into the next push without a stop.
     friction : float
         Friction coefficient the push may use before a warning [-].
+    fall_gravity_scale : float
+        Stylisation: the fall after the apex uses this multiple of ``gravity`` [-]
+        (1 is physical; games often fall faster than they rise).
+    apex_hang : float
+        Stylisation: time held at the apex [s] (0 is physical).
     """
 
     height: float = None
@@ -75,6 +80,8 @@ class JumpGoals:
     mass: float = None
     hops: int = 1
     friction: float = C.SHOE_FRICTION_COEFFICIENT
+    fall_gravity_scale: float = 1.0
+    apex_hang: float = 0.0
 
     def __post_init__(self):
         given = [n for n in ("height", "flight_time", "takeoff_speed") if getattr(self, n) is not None]
@@ -92,13 +99,14 @@ class JumpGoals:
                 if abs(x) > MAX_LENGTH:
                     raise InvalidGoalError(f"{f.name} {x:g} m is beyond {MAX_LENGTH:g} m; check the units")
                 continue
-            if f.name == "weighing_duration":
+            if f.name in ("weighing_duration", "apex_hang"):
                 require_finite(f.name, x, non_negative=True, unit=" s")
             else:
                 require_finite(f.name, x, positive=True)
             limit = MAX_DURATION if f.name.endswith(("duration", "time")) else MAX_LENGTH
-            if f.name in ("gravity", "mass", "takeoff_speed", "friction"):
-                limit = {"gravity": 1_000.0, "mass": 1e6, "takeoff_speed": 1_000.0, "friction": 100.0}[f.name]
+            if f.name in ("gravity", "mass", "takeoff_speed", "friction", "fall_gravity_scale"):
+                limit = {"gravity": 1_000.0, "mass": 1e6, "takeoff_speed": 1_000.0, "friction": 100.0,
+                         "fall_gravity_scale": 100.0}[f.name]
             if x > limit:
                 raise InvalidGoalError(f"{f.name} {x:g} is above the limit {limit:g}; check the units")
         if isinstance(self.hops, bool) or not isinstance(self.hops, int) or not 1 <= self.hops <= MAX_HOPS:

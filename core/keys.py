@@ -146,3 +146,34 @@ def frame_keys(plan, channel, fps):
     f, df = _channel(plan, channel)
     t = plan.sample(fps).times
     return HermiteKeys(t, f(t), df(t))
+
+
+def held_pose_keys(plan, channel, fps, step=2):
+    """Held poses every ``step`` frames (on twos, threes) for constant interpolation.
+
+    Frames count from time 0 at ``fps`` [frames/s]. The frames nearest each
+    take-off and touchdown are always keys, so contact and take-off stay on
+    their frames: where the grid misses one, the hold before it is shortened.
+
+    Returns
+    -------
+    HermiteKeys
+        Times on whole frames [s], values of the plan there, slopes 0.
+    """
+    step = int(step)
+    if step < 1 or step > 12:
+        raise InvalidGoalError(f"hold step must be 1 to 12 frames, got {step}")
+    fps = require_finite("fps", fps, positive=True)
+    f, _ = _channel(plan, channel)
+    last = int(np.floor(plan.duration_s * fps + 1e-9))
+    forced = sorted({int(round(t * fps)) for hop in plan.hops for t in (hop.takeoff_time_s, hop.touchdown_time_s)})
+    frames, k = [], 0
+    while k <= last:
+        frames.append(k)
+        nxt = k + step
+        inside = [m for m in forced if k < m < nxt]
+        k = inside[0] if inside else nxt
+    if frames[-1] != last:
+        frames.append(last)
+    times = np.array(frames, dtype=float) / fps
+    return HermiteKeys(times, f(times), np.zeros_like(times))

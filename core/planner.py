@@ -29,6 +29,7 @@ from numpy.polynomial import Polynomial
 from .contact_shapes import (ABSORPTION, DIP, PROPULSION, RECOVERY, EndState, StretchSpec,
                              build_pieces, choose_shape)
 from .errors import InfeasibleJumpError
+from .flight_path import flight_for_speed, flight_for_time
 from .goals import resolved, similarity
 from .piecewise import PiecewisePolynomial, smoothstep
 from .plausibility import plausibility_report
@@ -138,22 +139,15 @@ class JumpPlan:
         return PlanSamples(t, self.height(t), self.forward(t), self.vertical_speed(t), self.force_bw(t))
 
 
-def takeoff_speed_for(goals, gravity, rise):
-    """Take-off speed [m/s] from whichever of height, flight time or speed was given.
-
-    ``rise`` is the landing COM height relative to take-off [m]. For a flight time
-    T: rise = v0 T - g T^2 / 2, so v0 = rise / T + g T / 2.
-    """
+def _flight_for(goals, gravity, rise):
+    """The flight that meets whichever of height, flight time or take-off speed was given."""
+    style = dict(fall_scale=goals.fall_gravity_scale, hang=goals.apex_hang)
     if goals.height is not None:
-        return math.sqrt(2.0 * gravity * goals.height)
+        return flight_for_speed(math.sqrt(2.0 * gravity * goals.height), gravity, rise,
+                                what=f"height {goals.height:g} m", **style)
     if goals.flight_time is not None:
-        return rise / goals.flight_time + 0.5 * gravity * goals.flight_time
-    return float(goals.takeoff_speed)
-
-
-def flight_time_for(v0, gravity, rise):
-    """Time [s] for the parabola from take-off to a landing ``rise`` [m] higher."""
-    return (v0 + math.sqrt(v0 * v0 - 2.0 * gravity * rise)) / gravity
+        return flight_for_time(goals.flight_time, gravity, rise, **style)
+    return flight_for_speed(goals.takeoff_speed, gravity, rise, **style)
 
 
 def _const(value):
@@ -222,20 +216,13 @@ def plan_jump(goals):
     _, time_scale = similarity(G)
     free_range = tuple(x * time_scale for x in _FREE_DURATION_RANGE)
     rise = G.landing_height
-    v0 = takeoff_speed_for(G, g, rise)
-    apex = v0 * v0 / (2.0 * g)
-    if not (v0 > 0 and v0 * v0 - 2.0 * g * rise > 1e-12 * max(1.0, v0 * v0)):
-        given = {"height": "height", "flight_time": "flight time", "takeoff_speed": "take-off speed"}
-        name = next(n for n in given if getattr(G, n) is not None)
-        raise InfeasibleJumpError(
-            f"the landing ground (+{rise:.3g} m) is at or above the apex rise ({apex:.3g} m) that the "
-            f"{given[name]} {getattr(G, name):g} gives; ask for an apex above {rise:.3g} m or lower the ledge")
+    flight = _flight_for(G, g, rise)
+    v0, apex, t_flight = flight.takeoff_speed, flight.apex_rise, flight.duration
     if G.landing_depth <= e:
         raise InfeasibleJumpError(
             f"landing depth {G.landing_depth:.3g} m must exceed the take-off extension {e:.3g} m: the COM "
             "has to come down below standing height to absorb; deepen the landing")
-    t_flight = flight_time_for(v0, g, rise)
-    v_td = v0 - g * t_flight  # negative: falling at touchdown
+    v_td = flight.touchdown_speed  # negative: falling at touchdown
 
     starts, z_pieces, x_pieces, phases, hops, shapes = [], [], [], [], [], []
     t = 0.0
@@ -308,7 +295,8 @@ def plan_jump(goals):
         x_now += vx * x_push(shape.second_duration)
         takeoff_time = t
         phases.append(Phase("flight", hop, t, t + t_flight))
-        add(t_flight, Polynomial([ground + e, v0, -0.5 * g]), Polynomial([x_now, vx]))
+        for duration, z_poly in flight.pieces(ground + e):
+            add(duration, z_poly, Polynomial([x_now + vx * (t - takeoff_time), vx]))
         x_now += vx * t_flight
         hops.append(HopFigures(takeoff_time, t, v0, t_flight, apex, vx,
                                abs(vx) * max(k_push, k_land)))
@@ -329,7 +317,7 @@ def plan_jump(goals):
     z_path = PiecewisePolynomial(tuple(starts), t, tuple(z_pieces))
     x_path = PiecewisePolynomial(tuple(starts), t, tuple(x_pieces))
     phases = tuple(sorted(phases, key=lambda p: p.start_s))
-    report = plausibility_report(G, phases, z_path, tuple(hops))
+    report = plausibility_report(G, phases, z_path, tuple(hops), flight)
     return JumpPlan(goals, G, g, phases, tuple(hops), tuple(shapes), report, z_path, x_path)
 
 

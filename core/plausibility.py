@@ -34,6 +34,7 @@ class PlausibilityReport:
     friction_needed: float
     figures: tuple
     warnings: tuple
+    stylisations: tuple = ()  # deliberate deviations, each with its physical equivalent
 
 
 def grade_upper(value, limits):
@@ -61,7 +62,21 @@ def _force_extremes(z_path, phases, names, gravity, pick):
     return float(pick(np.array(values)))
 
 
-def plausibility_report(goals, phases, z_path, hops):
+def stylisation_notes(flight, fps=None):
+    """Plain sentences naming each stylisation of a flight with its physical equivalent."""
+    notes = []
+    g = flight.gravity
+    if flight.fall_gravity != g:
+        k = flight.fall_gravity / g
+        notes.append(f"falls as if g were {k:.2g} g ({flight.fall_gravity:.3g} m/s^2): a "
+                     f"{'faster' if k > 1 else 'slower'} fall than rise, on purpose")
+    if flight.hang > 0:
+        frames = f" ({flight.hang * fps:.1f} frames)" if fps else ""
+        notes.append(f"hangs {flight.hang:.3g} s{frames} at the apex: as if gravity vanished for that time")
+    return tuple(notes)
+
+
+def plausibility_report(goals, phases, z_path, hops, flight):
     """Figures and grades of a plan (``goals`` resolved, ``z_path`` the COM height)."""
     g = goals.gravity
     push = _force_extremes(z_path, phases, ("braking", "propulsion"), g, np.max)
@@ -99,4 +114,5 @@ def plausibility_report(goals, phases, z_path, hops):
                         f"force), above {goals.friction:.2f}: the feet would slip; lower the distance or "
                         "lengthen the push")
     return PlausibilityReport(first.takeoff_speed_m_s, first.flight_time_s, first.apex_rise_m, push,
-                              unweighting, landing, friction, tuple(figures), tuple(warnings))
+                              unweighting, landing, friction, tuple(figures), tuple(warnings),
+                              stylisation_notes(flight))

@@ -68,3 +68,22 @@ def test_feet_stay_planted_in_contact_and_lift_in_flight(jump):
     assert np.ptp(x[after]) < 1e-12 and np.allclose(z[after], 0.2)
     assert x[after][0] == pytest.approx(0.9, abs=1e-9)
     assert np.all(z[~before & ~after] >= -1e-9)
+
+
+@pytest.mark.parametrize("step", [2, 3])
+def test_held_poses_on_twos_and_threes_keep_takeoff_and_touchdown_frames(jump, step):
+    # Animating on twos: each drawing held two frames (common practice).
+    from core.keys import held_pose_keys
+
+    fps = 24.0
+    keys = held_pose_keys(jump, "height", fps, step)
+    frames = np.rint(keys.times * fps).astype(int)
+    assert np.allclose(keys.times * fps, frames)
+    forced = {int(round(t * fps)) for h in jump.hops for t in (h.takeoff_time_s, h.touchdown_time_s)}
+    assert forced <= set(frames.tolist())
+    holds = np.diff(frames)
+    for start, hold in zip(frames[:-1], holds):
+        nxt = start + hold
+        assert hold == step or nxt in forced or nxt == frames[-1]
+        assert 1 <= hold <= step
+    assert np.allclose(keys.values, jump.height(keys.times))
