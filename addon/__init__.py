@@ -1,0 +1,77 @@
+"""Leapwright: physically consistent jumps written as keys on your own rig.
+
+Install: Edit > Preferences > Get Extensions > Install from Disk (or drag the
+``leapwright-<version>.zip`` onto Blender). The panel is in the 3D viewport's
+sidebar (N), tab "Leapwright".
+
+Scripting reference
+-------------------
+Settings live on the scene, ``scene.leapwright`` (lengths in scene units, shown
+in the scene's unit system; metres = value × ``unit_settings.scale_length``)::
+
+    goal                 'HEIGHT' | 'FLIGHT_TIME' | 'TAKEOFF_SPEED'
+    height               apex rise of the centre of mass [scene length]
+    flight_time          [s]
+    takeoff_speed        [m/s]
+    distance             forward travel, take-off spot to landing spot [scene length]
+    landing_height       landing ground above the take-off ground [scene length]
+    hops                 int, 1..50
+    gravity              [m/s^2]
+    standing_com_height  [scene length]
+    weighing_duration    standing still before the dip [s]
+    custom_timing        bool; when True depth [scene length], dip_duration,
+                         push_duration, landing_duration [s] are used
+    rig                  Object (armature, or any object moved as a whole)
+    com_bone             body bone name ("" = move the rig object itself)
+    foot_left, foot_right  foot controller bone names ("" = none); must not be
+                         children of com_bone
+    foot_tuck            lift of the feet in the air [scene length]
+    forward              'RIG' (the rig's -Y) | 'NEG_Y' | 'POS_Y' | 'POS_X' | 'NEG_X'
+    key_style            'POSES' | 'SPLINE' | 'EVERY_FRAME'
+    start_frame          frame of the plan's time 0 (start of weighing)
+
+Operators (``bpy.ops.leapwright.*``; the rig is ``scene.leapwright.rig``, or
+the active object when that is empty):
+
+``write_blocking(on_conflict='ASK'|'REPLACE'|'LAYER')``
+    Plans the jump with the core and writes, at the scene's ``fps / fps_base``:
+    the body bone's (or object's) location curves and the foot controllers'
+    location curves in the rig's active action, group ``lw:blocking`` (the
+    action and animation data are made if missing); ``lw_weight_bw`` (a custom
+    property on the rig, animated: ground force in body weights, 0 in the air);
+    scene timeline markers ``lw:<phase>`` at each phase start (``lw:flight 2``
+    for hops). Re-running replaces what the previous run wrote. If the
+    animator already keys one of those channels: 'ASK' writes nothing and
+    warns (in the UI a dialog offers the choice); 'REPLACE' writes over those
+    keys (saved, and restored by ``remove_written``); 'LAYER' leaves them
+    untouched and writes the jump as offsets on the NLA track ``lw:blocking``
+    (blend COMBINE), pushing the active action into the track
+    ``lw:your animation`` while the layer exists. Bad input is reported as an
+    error (a RuntimeError from ``bpy.ops``) and changes nothing.
+``remove_written()``
+    Removes every curve, layer, marker and ``lw_`` property leapwright wrote on
+    the rig and restores replaced keys and the pushed action exactly.
+``use_active_bone()``
+    Sets ``rig`` to the active armature and ``com_bone`` to its active bone.
+
+Bookkeeping for removal is kept in the rig's ``lw_state`` custom property.
+"""
+
+import bpy
+
+from . import operators, panel, plan_link, settings
+
+classes = settings.classes + operators.classes + panel.classes
+
+
+def register():
+    for cls in classes:
+        bpy.utils.register_class(cls)
+    settings.register_properties()
+
+
+def unregister():
+    settings.unregister_properties()
+    for cls in reversed(classes):
+        bpy.utils.unregister_class(cls)
+    plan_link.clear_cache()

@@ -1,0 +1,167 @@
+"""The blocking pass as curves: every key computed before anything is written.
+
+Input: the core's plan (world space, metres, seconds) and the character's
+:class:`rig_space.Channels`. Output: plain :class:`CurveSpec` records (frames,
+values, slopes) for the body, the feet and the apparent weight, plus the phase
+markers. Nothing here touches Blender data, so a refused run changes nothing.
+"""
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from .core.feet import foot_ball_path
+from .core.keys import frame_keys, hermite_keys, phase_pose_keys
+
+WEIGHT_PROPERTY = "lw_weight_bw"
+MARKER_PREFIX = "lw:"
+_UP = np.array([0.0, 0.0, 1.0])
+_NEGLIGIBLE = 1e-12  # channel change per metre below which a channel is left alone
+
+
+@dataclass(frozen=True)
+class CurveSpec:
+    """One F-curve to write: ``data_path[index]`` keyed at ``frames``.
+
+    ``slopes`` [channel units / frame] are used by ``'BEZIER'`` only.
+    """
+
+    data_path: str
+    index: int
+    frames: np.ndarray
+    values: np.ndarray
+    slopes: np.ndarray
+    interpolation: str
+
+
+@dataclass(frozen=True)
+class Timeline:
+    """Where the plan sits on the scene's timeline: frame = start + t × fps."""
+
+    start_frame: float
+    fps: float
+
+    def frames(self, t):
+        return self.start_frame + np.asarray(t, dtype=float) * self.fps
+
+
+def _union(*time_sets):
+    t = np.unique(np.concatenate([np.asarray(s, dtype=float) for s in time_sets]))
+    keep = np.concatenate([[True], np.diff(t) > 1e-9])
+    return t[keep]
+
+
+def _distinct_frames(frames):
+    """Mask dropping keys that would share a float32 frame with the one before."""
+    f32 = np.asarray(frames, dtype=np.float32)
+    return np.concatenate([[True], np.diff(f32) > 0])
+
+
+def _drop_flat_runs(values):
+    """Mask dropping keys inside runs of equal values (linear keys there add nothing)."""
+    v = np.asarray(values)
+    keep = np.ones(v.size, dtype=bool)
+    if v.size > 2:
+        keep[1:-1] = ~((v[1:-1] == v[:-2]) & (v[1:-1] == v[2:]))
+    return keep
+
+
+def _spec(path, index, timeline, t, values, slopes_per_s, interpolation, thin=False):
+    frames = timeline.frames(t)
+    slopes = np.asarray(slopes_per_s, dtype=float) / timeline.fps
+    keep = _distinct_frames(frames)
+    if thin and interpolation == "LINEAR":
+        keep &= _drop_flat_runs(values)
+    return CurveSpec(path, index, frames[keep], np.asarray(values)[keep], slopes[keep], interpolation)
+
+
+def body_curves(plan, channels, forward, metres_per_unit, timeline, style, as_delta):
+    """Location curves of the body bone (or object).
+
+    Parameters
+    ----------
+    plan : core.planner.JumpPlan
+    channels : rig_space.Channels
+    forward : array (3,)
+        Unit world direction of forward travel.
+    metres_per_unit : float
+        [m/BU]
+    timeline : Timeline
+    style : {'POSES', 'SPLINE', 'EVERY_FRAME'}
+    as_delta : bool
+        Values are offsets from zero (for a layer on top of the user's keys)
+        instead of from the channel's present value.
+    """
+    a = channels.world_to_channel @ forward / metres_per_unit  # channel change per forward metre
+    b = channels.world_to_channel @ _UP / metres_per_unit  # per metre up
+    if style == "POSES":
+        keys = {"forward": phase_pose_keys(plan, "forward"), "height": phase_pose_keys(plan, "height")}
+        interp = "CONSTANT"
+    elif style == "EVERY_FRAME":
+        keys = {"forward": frame_keys(plan, "forward", timeline.fps),
+                "height": frame_keys(plan, "height", timeline.fps)}
+        interp = "LINEAR"
+    else:
+        keys = {"forward": hermite_keys(plan, "forward"), "height": hermite_keys(plan, "height")}
+        interp = "BEZIER"
+    out = []
+    for i in range(3):
+        uses = [name for name, coef in (("forward", a[i]), ("height", b[i])) if abs(coef) > _NEGLIGIBLE]
+        if not uses:
+            continue
+        t = _union(*(keys[name].times for name in uses))
+        base = 0.0 if as_delta else float(channels.base[i])
+        values = base + a[i] * plan.forward(t) + b[i] * plan.height(t)
+        slopes = a[i] * plan.forward_speed(t) + b[i] * plan.vertical_speed(t)
+        if style == "POSES":
+            slopes = np.zeros_like(t)
+        out.append(_spec(channels.data_path, i, timeline, t, values, slopes, interp))
+    return out
+
+
+def _contact_edges(plan):
+    return [x for hop in plan.hops for x in (hop.takeoff_time_s, hop.touchdown_time_s)]
+
+
+def foot_curves(plan, channels, forward, metres_per_unit, timeline, style, tuck_m, as_delta):
+    """Location curves of one foot controller: planted in contact, carried in flight.
+
+    Keys sit on every frame plus exactly at take-off and touchdown, linear in
+    between, so the foot is still for the whole of each contact (the poses
+    style holds each phase's pose instead).
+    """
+    if style == "POSES":
+        t = _union([p.start_s for p in plan.phases], [plan.duration_s])
+        interp = "CONSTANT"
+    else:
+        frames_t = np.arange(int(np.floor(plan.duration_s * timeline.fps + 1e-9)) + 1) / timeline.fps
+        t = _union(frames_t, _contact_edges(plan), [0.0, plan.duration_s])
+        interp = "LINEAR"
+    fwd, up = foot_ball_path(plan, t, tuck=tuck_m)
+    world = (np.outer(fwd, forward) + np.outer(up, _UP)) / metres_per_unit
+    local = world @ channels.world_to_channel.T
+    out = []
+    for i in range(3):
+        if np.all(np.abs(local[:, i]) <= _NEGLIGIBLE):
+            continue
+        base = 0.0 if as_delta else float(channels.base[i])
+        out.append(_spec(channels.data_path, i, timeline, t, base + local[:, i], np.zeros_like(t), interp,
+                         thin=True))
+    return out
+
+
+def weight_curve(plan, timeline):
+    """The apparent weight [BW] on every frame and at each take-off and touchdown."""
+    frames_t = np.arange(int(np.floor(plan.duration_s * timeline.fps + 1e-9)) + 1) / timeline.fps
+    t = _union(frames_t, _contact_edges(plan))
+    return _spec(f'["{WEIGHT_PROPERTY}"]', 0, timeline, t, plan.force_bw(t), np.zeros_like(t), "LINEAR")
+
+
+def phase_markers(plan, timeline):
+    """``(name, frame)`` of a marker at each phase start (hop number added for hops)."""
+    several = len(plan.hops) > 1
+    out = []
+    for p in plan.phases:
+        name = MARKER_PREFIX + p.name + (f" {p.hop}" if several and p.name != "weighing" else "")
+        out.append((name, int(round(float(timeline.frames(p.start_s))))))
+    return out

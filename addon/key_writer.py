@@ -1,0 +1,130 @@
+"""Write whole F-curves at once.
+
+``keyframe_points.add`` plus ``foreach_set`` and one ``update``: inserting keys
+one by one grows quadratically with a curve's length. Handles are FREE so they
+stay where they are put: a cubic Bezier segment whose handles sit at 1/3 and
+2/3 of the interval on the end tangents is the cubic Hermite segment itself,
+so a parabola (a flight arc) is reproduced exactly.
+"""
+
+import numpy as np
+
+#: Keyframe.interpolation as the integers foreach_set takes.
+INTERPOLATION = {"CONSTANT": 0, "LINEAR": 1, "BEZIER": 2}
+_FREE = 0
+
+
+def handle_positions(frames, values, slopes):
+    """Bezier handles of cubic Hermite keys.
+
+    Parameters
+    ----------
+    frames : array (n,)
+        Key times [frame], increasing.
+    values : array (n,)
+        Key values [channel units].
+    slopes : array (n,)
+        Slopes at the keys [channel units / frame].
+
+    Returns
+    -------
+    left, right : arrays (n, 2)
+        (frame, value) of each key's left and right handle: a third of the
+        neighbouring interval along the tangent (the end keys mirror their only
+        interval).
+    """
+    f = np.asarray(frames, dtype=float)
+    v = np.asarray(values, dtype=float)
+    s = np.asarray(slopes, dtype=float)
+    if f.size == 1:
+        gaps = np.ones(1)
+        prev_gap = next_gap = gaps
+    else:
+        gaps = np.diff(f)
+        prev_gap = np.concatenate([gaps[:1], gaps])
+        next_gap = np.concatenate([gaps, gaps[-1:]])
+    left = np.column_stack([f - prev_gap / 3.0, v - s * prev_gap / 3.0])
+    right = np.column_stack([f + next_gap / 3.0, v + s * next_gap / 3.0])
+    return left, right
+
+
+def write_curve(fcurve, frames, values, slopes=None, interpolation="BEZIER"):
+    """Replace every key of ``fcurve`` by the given keys, in one bulk write.
+
+    Parameters
+    ----------
+    fcurve : bpy.types.FCurve
+    frames : array (n,)
+        Key times [frame], strictly increasing.
+    values : array (n,)
+        Key values [channel units].
+    slopes : array (n,) or None
+        Tangents [channel units / frame] for ``'BEZIER'``; None gives flat
+        handles (what ``'CONSTANT'`` and ``'LINEAR'`` keys ignore anyway).
+    interpolation : {'BEZIER', 'LINEAR', 'CONSTANT'}
+    """
+    f = np.asarray(frames, dtype=float)
+    v = np.asarray(values, dtype=float)
+    n = f.size
+    if slopes is None:
+        slopes = np.zeros(n)
+    left, right = handle_positions(f, v, slopes)
+    points = fcurve.keyframe_points
+    if len(points):
+        points.clear()
+    points.add(n)
+    points.foreach_set("co", np.column_stack([f, v]).astype(np.float32).ravel())
+    points.foreach_set("handle_left", left.astype(np.float32).ravel())
+    points.foreach_set("handle_right", right.astype(np.float32).ravel())
+    points.foreach_set("interpolation", np.full(n, INTERPOLATION[interpolation], dtype=np.int32))
+    points.foreach_set("handle_left_type", np.full(n, _FREE, dtype=np.int32))
+    points.foreach_set("handle_right_type", np.full(n, _FREE, dtype=np.int32))
+    fcurve.update()
+
+
+def read_keys(fcurve):
+    """Every key attribute of ``fcurve`` as arrays, for byte-exact comparisons.
+
+    Returns
+    -------
+    dict of str -> numpy array
+    """
+    points = fcurve.keyframe_points
+    n = len(points)
+    out = {}
+    for name, width, dtype in _KEY_FIELDS:
+        buf = np.zeros(n * width, dtype=dtype)
+        points.foreach_get(name, buf)
+        out[name] = buf
+    return out
+
+
+def restore_keys(fcurve, keys):
+    """Write back what :func:`read_keys` returned, attribute for attribute."""
+    points = fcurve.keyframe_points
+    if len(points):
+        points.clear()
+    n = len(keys["co"]) // 2
+    points.add(n)
+    for name, _width, dtype in _KEY_FIELDS:
+        points.foreach_set(name, np.asarray(keys[name], dtype=dtype))
+    fcurve.update()
+
+
+# Keyframe attributes that foreach_get/foreach_set carry (enums as integers).
+_KEY_FIELDS = (
+    ("co", 2, np.float32),
+    ("handle_left", 2, np.float32),
+    ("handle_right", 2, np.float32),
+    ("interpolation", 1, np.int32),
+    ("handle_left_type", 1, np.int32),
+    ("handle_right_type", 1, np.int32),
+    ("easing", 1, np.int32),
+    ("type", 1, np.int32),
+    ("back", 1, np.float32),
+    ("amplitude", 1, np.float32),
+    ("period", 1, np.float32),
+    ("select_control_point", 1, np.bool_),
+    ("select_left_handle", 1, np.bool_),
+    ("select_right_handle", 1, np.bool_),
+)

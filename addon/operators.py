@@ -1,0 +1,197 @@
+"""Operators: validate, ask the core, write, report.
+
+Every check and every number is done before the first key is written, so a
+refused run leaves the file as it was. No ``bpy.ops`` inside ``execute``.
+"""
+
+import bpy
+from bpy.props import EnumProperty
+
+from . import blocking_pass as bp
+from . import ownership, plan_link, rig_space
+from .core.errors import LeapwrightError
+
+CAPABILITY = "blocking"
+
+CONFLICT_ITEMS = (
+    ("ASK", "Ask", "Stop and say which channels already have your keys"),
+    ("REPLACE", "Replace my keys",
+     "Write over your keys on those channels (they come back with Remove Leapwright Keys)"),
+    ("LAYER", "Layer on top", "Keep your keys untouched and add the jump on an NLA layer above them"),
+)
+
+
+def _settings(context):
+    return getattr(context.scene, "leapwright", None)
+
+
+def _rig(context):
+    s = _settings(context)
+    return s.rig if s is not None and s.rig is not None else context.active_object
+
+
+def _markers_clear(scene):
+    for m in [m for m in scene.timeline_markers if m.name.startswith(bp.MARKER_PREFIX)]:
+        scene.timeline_markers.remove(m)
+
+
+def _remove_blocking(scene, rig):
+    ownership.clear(rig, CAPABILITY)
+    _markers_clear(scene)
+    if bp.WEIGHT_PROPERTY in rig:
+        del rig[bp.WEIGHT_PROPERTY]
+
+
+def _channel_label(path, index):
+    return f"{path}[{index}]"
+
+
+class LEAPWRIGHT_OT_write_blocking(bpy.types.Operator):
+    """Write the planned jump as keys on the character: body, feet, phase markers and weight"""
+
+    bl_idname = "leapwright.write_blocking"
+    bl_label = "Write Jump Keys"
+    bl_options = {"REGISTER", "UNDO"}
+
+    on_conflict: EnumProperty(name="Where you already have keys", items=CONFLICT_ITEMS, default="ASK")
+
+    @classmethod
+    def poll(cls, context):
+        return _settings(context) is not None and context.mode in {"OBJECT", "POSE"}
+
+    def _prepare(self, context):
+        """Everything to write, or a message saying why not: ``(work, error)``."""
+        scene = context.scene
+        s = scene.leapwright
+        rig = _rig(context)
+        try:
+            body, feet = rig_space.resolve(rig, s.com_bone, (s.foot_left, s.foot_right))
+            forward = rig_space.forward_axis(rig, s.forward)
+        except rig_space.SelectionError as exc:
+            return None, str(exc)
+        plan, readout = plan_link.plan_for(scene)
+        if plan is None:
+            return None, readout["error"]
+        m = plan_link.metres_per_unit(scene)
+        timeline = bp.Timeline(float(s.start_frame), plan_link.scene_fps(scene))
+        try:
+            probe = bp.body_curves(plan, body, forward, m, timeline, s.key_style, as_delta=False)
+            for foot in feet:
+                probe += bp.foot_curves(plan, foot, forward, m, timeline, s.key_style, s.foot_tuck * m, False)
+        except LeapwrightError as exc:
+            return None, str(exc)
+        clashes = ownership.conflicts(rig, probe)
+        work = {"rig": rig, "plan": plan, "body": body, "feet": feet, "forward": forward, "m": m,
+                "timeline": timeline, "style": s.key_style, "tuck": s.foot_tuck * m, "clashes": clashes,
+                "specs": probe, "readout": readout}
+        return work, ""
+
+    def invoke(self, context, event):
+        work, error = self._prepare(context)
+        if work is None:
+            self.report({"ERROR"}, error)
+            return {"CANCELLED"}
+        if work["clashes"] and self.on_conflict == "ASK":
+            self.on_conflict = "LAYER"
+            self._clash_text = ", ".join(_channel_label(*c) for c in work["clashes"][:4])
+            return context.window_manager.invoke_props_dialog(self, width=420)
+        return self.execute(context)
+
+    def draw(self, context):
+        col = self.layout.column()
+        col.label(text="You already have keys on: " + getattr(self, "_clash_text", ""))
+        col.prop(self, "on_conflict", expand=True)
+
+    def execute(self, context):
+        work, error = self._prepare(context)
+        if work is None:
+            self.report({"ERROR"}, error)
+            return {"CANCELLED"}
+        rig, plan, clashes = work["rig"], work["plan"], work["clashes"]
+        if clashes and self.on_conflict == "ASK":
+            shown = ", ".join(_channel_label(*c) for c in clashes[:4]) + (" …" if len(clashes) > 4 else "")
+            self.report({"WARNING"}, f"'{rig.name}' already has your keys on {shown}; nothing was written. "
+                                     "Choose 'Replace my keys' or 'Layer on top'")
+            return {"CANCELLED"}
+        layered = bool(clashes) and self.on_conflict == "LAYER"
+        specs = work["specs"]
+        if layered:
+            specs = bp.body_curves(plan, work["body"], work["forward"], work["m"], work["timeline"],
+                                   work["style"], as_delta=True)
+            for foot in work["feet"]:
+                specs += bp.foot_curves(plan, foot, work["forward"], work["m"], work["timeline"],
+                                        work["style"], work["tuck"], True)
+        weight = bp.weight_curve(plan, work["timeline"])
+        markers = bp.phase_markers(plan, work["timeline"])
+
+        # Nothing above wrote anything; from here on the run changes the file.
+        scene = context.scene
+        _remove_blocking(scene, rig)
+        rig[bp.WEIGHT_PROPERTY] = 1.0
+        ui = rig.id_properties_ui(bp.WEIGHT_PROPERTY)
+        ui.update(description="Apparent weight from the jump plan, in body weights (0 in the air)",
+                  min=0.0, soft_max=8.0)
+        if layered:
+            ownership.write_layer(rig, CAPABILITY, specs)
+            ownership.write_into_action(rig, CAPABILITY, [weight], replace=False)
+        else:
+            ownership.write_into_action(rig, CAPABILITY, specs + [weight], replace=bool(clashes))
+        for name, frame in markers:
+            scene.timeline_markers.new(name, frame=frame)
+        n_keys = sum(len(x.frames) for x in specs) + len(weight.frames)
+        hops = plan.hops
+        how = "as a layer over your keys" if layered else ("over your keys" if clashes else "")
+        self.report({"INFO"}, f"wrote {n_keys} keys on '{rig.name}' {how}: {len(hops)} hop(s), "
+                              f"{hops[0].flight_time_s * work['timeline'].fps:.1f} frames in the air")
+        for w in work["readout"]["warnings"]:
+            self.report({"WARNING"}, w)
+        return {"FINISHED"}
+
+
+class LEAPWRIGHT_OT_remove_written(bpy.types.Operator):
+    """Remove every key, layer, marker and property leapwright wrote on the rig, restoring your keys"""
+
+    bl_idname = "leapwright.remove_written"
+    bl_label = "Remove Leapwright Keys"
+    bl_options = {"REGISTER", "UNDO"}
+
+    @classmethod
+    def poll(cls, context):
+        return _rig(context) is not None
+
+    def execute(self, context):
+        rig = _rig(context)
+        written = ownership.capabilities_written(rig)
+        has_marks = any(m.name.startswith(bp.MARKER_PREFIX) for m in context.scene.timeline_markers)
+        if not written and bp.WEIGHT_PROPERTY not in rig and not has_marks:
+            self.report({"INFO"}, f"nothing from leapwright on '{rig.name}'")
+            return {"CANCELLED"}
+        for capability in written:
+            ownership.clear(rig, capability)
+        _remove_blocking(context.scene, rig)
+        self.report({"INFO"}, f"removed what leapwright wrote on '{rig.name}'")
+        return {"FINISHED"}
+
+
+class LEAPWRIGHT_OT_use_active_bone(bpy.types.Operator):
+    """Take the active object as the rig and its active bone as the body bone"""
+
+    bl_idname = "leapwright.use_active_bone"
+    bl_label = "Use Active Bone"
+    bl_options = {"REGISTER", "UNDO"}
+
+    @classmethod
+    def poll(cls, context):
+        obj = context.active_object
+        return _settings(context) is not None and obj is not None and obj.type == "ARMATURE"
+
+    def execute(self, context):
+        obj = context.active_object
+        s = context.scene.leapwright
+        s.rig = obj
+        bone = obj.data.bones.active
+        s.com_bone = bone.name if bone is not None else ""
+        return {"FINISHED"}
+
+
+classes = (LEAPWRIGHT_OT_write_blocking, LEAPWRIGHT_OT_remove_written, LEAPWRIGHT_OT_use_active_bone)

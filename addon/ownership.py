@@ -1,0 +1,246 @@
+"""What leapwright wrote on a rig, and how to take it back exactly.
+
+Each capability ("blocking", later "lag", "air") owns:
+
+* F-curves in the rig's own action, in a group named ``lw:<capability>``;
+* or, for offsets layered over the animator's keys, one NLA track named
+  ``lw:<capability>`` (blend COMBINE: locations add, rotations and scales
+  multiply) playing an action of deltas. While any such track exists the
+  animator's active action is pushed down into a track of its own
+  (:data:`USER_TRACK`) and put back, with its slot, blend, influence and
+  extrapolation, when the last one goes.
+
+Keys of the animator's that a run was told to replace are saved first, in the
+rig's ``lw_state`` property (with everything else needed to undo the run), and
+written back on removal. Blender's own undo covers the UI; this is for the
+"remove what leapwright wrote" operator and for re-runs.
+"""
+
+import json
+
+import bpy
+import numpy as np
+
+from . import blender_compat as compat
+from .key_writer import read_keys, restore_keys, write_curve
+
+PREFIX = "lw:"
+STATE_PROPERTY = "lw_state"
+USER_TRACK = "lw:your animation"
+
+
+def group_name(capability):
+    return PREFIX + capability
+
+
+def load_state(obj):
+    raw = obj.get(STATE_PROPERTY)
+    state = json.loads(raw) if isinstance(raw, str) else {}
+    state.setdefault("replaced", [])
+    state.setdefault("layers", [])
+    return state
+
+
+def save_state(obj, state):
+    if (state.get("replaced") or state.get("layers") or state.get("pushed") or state.get("created_action")
+            or state.get("created_anim_data") or state.get("written")):
+        obj[STATE_PROPERTY] = json.dumps(state)
+    elif STATE_PROPERTY in obj:
+        del obj[STATE_PROPERTY]
+
+
+def user_action(obj, state=None):
+    """The animator's action: the active one, or the one pushed into :data:`USER_TRACK`."""
+    state = load_state(obj) if state is None else state
+    pushed = state.get("pushed")
+    if pushed:
+        return bpy.data.actions.get(pushed["action"])
+    ad = obj.animation_data
+    return ad.action if ad is not None else None
+
+
+def _is_ours(fc):
+    return fc.group is not None and fc.group.name.startswith(PREFIX)
+
+
+def conflicts(obj, specs):
+    """``(data_path, index)`` of the specs' channels the animator already keys."""
+    action = user_action(obj)
+    out = []
+    for spec in specs:
+        fc = compat.find_fcurve(action, obj, spec.data_path, spec.index)
+        if fc is not None and len(fc.keyframe_points) and not _is_ours(fc):
+            out.append((spec.data_path, spec.index))
+    return out
+
+
+def _track(obj, name):
+    ad = obj.animation_data
+    return ad.nla_tracks.get(name) if ad is not None else None
+
+
+def clear(obj, capability):
+    """Take back everything ``capability`` wrote on ``obj``; the rest is left as it was."""
+    state = load_state(obj)
+    action = user_action(obj, state)
+    name = group_name(capability)
+    if action is not None:
+        for fc in [f for f in compat.fcurves(action, obj) if f.group is not None and f.group.name == name]:
+            compat.remove_fcurve(action, obj, fc)
+        grp = next((g for g in compat.groups(action, obj) if g.name == name), None)
+        if grp is not None:
+            compat.remove_group(action, obj, grp)
+        kept = []
+        for rec in state["replaced"]:
+            if rec["capability"] != capability:
+                kept.append(rec)
+                continue
+            fc = compat.find_fcurve(bpy.data.actions.get(rec["action"]), obj, rec["path"], rec["index"])
+            if fc is not None:
+                restore_keys(fc, rec["keys"])
+        state["replaced"] = kept
+    if capability in state["layers"]:
+        _remove_layer(obj, capability, state)
+    state["written"] = [w for w in state.get("written", []) if w != capability]
+    _tidy(obj, state)
+    save_state(obj, state)
+
+
+def _remove_layer(obj, capability, state):
+    ad = obj.animation_data
+    track = _track(obj, group_name(capability))
+    if track is not None:
+        actions = [s.action for s in track.strips if s.action is not None]
+        ad.nla_tracks.remove(track)
+        for act in actions:
+            if act.users == 0:
+                bpy.data.actions.remove(act)
+    state["layers"] = [c for c in state["layers"] if c != capability]
+    if not state["layers"] and state.get("pushed"):
+        _pop_user_action(obj, state)
+
+
+def _tidy(obj, state):
+    """Remove the action and animation data this add-on created, once they hold nothing."""
+    ad = obj.animation_data
+    made = state.get("created_action")
+    if made and not state.get("pushed"):
+        act = bpy.data.actions.get(made)
+        if act is None:
+            state["created_action"] = None
+        elif ad is not None and ad.action == act and not len(compat.fcurves(act, obj)):
+            ad.action = None
+            if act.users == 0:
+                bpy.data.actions.remove(act)
+            state["created_action"] = None
+    ad = obj.animation_data
+    if (state.get("created_anim_data") and ad is not None and ad.action is None and not len(ad.nla_tracks)
+            and not len(ad.drivers)):
+        obj.animation_data_clear()
+        state["created_anim_data"] = False
+
+
+def _target_action(obj, state):
+    """The action blocking keys go into, made (and remembered as ours) if the rig has none."""
+    if obj.animation_data is None:
+        obj.animation_data_create()
+        state["created_anim_data"] = True
+    action = user_action(obj, state)
+    if action is None:
+        action = bpy.data.actions.new(f"{obj.name}Action")
+        compat.assign_action(obj, action)
+        state["created_action"] = action.name
+    return action
+
+
+def write_into_action(obj, capability, specs, replace):
+    """Write ``specs`` into the animator's action, in the group ``lw:<capability>``.
+
+    Channels the animator already keys are only written when ``replace`` is
+    True; their keys are saved for :func:`clear` and the curve stays where the
+    animator keeps it (its group, modifiers and settings are not touched).
+    """
+    state = load_state(obj)
+    action = _target_action(obj, state)
+    for spec in specs:
+        fc = compat.find_fcurve(action, obj, spec.data_path, spec.index)
+        if fc is not None and not _is_ours(fc):
+            if not replace and len(fc.keyframe_points):
+                raise RuntimeError(f"{spec.data_path}[{spec.index}] has the animator's keys")
+            keys = {k: v.tolist() for k, v in read_keys(fc).items()}
+            state["replaced"].append({"capability": capability, "action": action.name, "path": spec.data_path,
+                                      "index": spec.index, "keys": keys})
+        elif fc is None:
+            fc = compat.new_fcurve(action, obj, spec.data_path, spec.index, group_name(capability))
+        write_curve(fc, spec.frames, spec.values, spec.slopes, spec.interpolation)
+    state["written"] = sorted(set(state.get("written", [])) | {capability})
+    save_state(obj, state)
+    return action
+
+
+def _push_user_action(obj, state):
+    ad = obj.animation_data
+    action = ad.action
+    if action is None or state.get("pushed"):
+        return
+    state["pushed"] = {"action": action.name, "slot": compat.active_slot_handle(obj),
+                       "blend": ad.action_blend_type, "influence": ad.action_influence,
+                       "extrapolation": ad.action_extrapolation}
+    track = ad.nla_tracks.new()
+    track.name = USER_TRACK
+    strip = compat.new_nla_strip(obj, track, action.name, int(np.floor(action.frame_range[0])), action,
+                                 state["pushed"]["slot"])
+    if strip.frame_start != action.frame_range[0]:
+        # strips.new takes whole frames; slide the strip so the keys keep their times.
+        strip.frame_start_ui = action.frame_range[0]
+    strip.blend_type = ad.action_blend_type
+    strip.extrapolation = ad.action_extrapolation
+    ad.action = None
+
+
+def _pop_user_action(obj, state):
+    ad = obj.animation_data
+    pushed = state.pop("pushed")
+    track = ad.nla_tracks.get(USER_TRACK)
+    if track is not None:
+        ad.nla_tracks.remove(track)
+    action = bpy.data.actions.get(pushed["action"])
+    compat.assign_action(obj, action, pushed["slot"])
+    ad.action_blend_type = pushed["blend"]
+    ad.action_influence = pushed["influence"]
+    ad.action_extrapolation = pushed["extrapolation"]
+
+
+def write_layer(obj, capability, specs):
+    """Write ``specs`` as deltas on the NLA track ``lw:<capability>`` (blend COMBINE).
+
+    The animator's keys are not touched: their active action is pushed into a
+    track below while any leapwright layer exists.
+    """
+    state = load_state(obj)
+    if obj.animation_data is None:
+        obj.animation_data_create()
+        state["created_anim_data"] = True
+    _push_user_action(obj, state)
+    delta = compat.new_delta_action(obj, f"{group_name(capability)} {obj.name}")
+    for spec in specs:
+        fc = compat.new_fcurve(delta, obj, spec.data_path, spec.index, group_name(capability))
+        write_curve(fc, spec.frames, spec.values, spec.slopes, spec.interpolation)
+    ad = obj.animation_data
+    track = ad.nla_tracks.new()
+    track.name = group_name(capability)
+    start = int(np.floor(delta.frame_range[0]))
+    strip = compat.new_nla_strip(obj, track, delta.name, start, delta)
+    if strip.frame_start != delta.frame_range[0]:
+        strip.frame_start_ui = delta.frame_range[0]
+    strip.blend_type = "COMBINE"
+    strip.extrapolation = "HOLD"
+    state["layers"] = sorted(set(state["layers"]) | {capability})
+    state["written"] = sorted(set(state.get("written", [])) | {capability})
+    save_state(obj, state)
+    return delta
+
+
+def capabilities_written(obj):
+    """Names of the capabilities that have something on ``obj``."""
+    return list(load_state(obj).get("written", []))

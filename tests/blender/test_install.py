@@ -1,0 +1,58 @@
+"""The built zip installs like a user's download and brings its own core.
+
+Runs first, in a fresh user directory (run.py), so the install below is the
+real ``package_install_files`` path a drag-and-drop takes.
+"""
+
+import os
+import sys
+
+import bpy
+
+import conftest
+
+OPERATORS = ("write_blocking", "remove_written", "use_active_bone")
+
+
+def test_installed_from_the_zip_into_the_user_directory():
+    assert conftest.STATE["installed_now"], "the zip was not installed by this process"
+    mod = sys.modules[conftest.MODULE]
+    assert os.path.realpath(mod.__file__).startswith(os.path.realpath(os.environ["BLENDER_USER_RESOURCES"]))
+
+
+def test_core_is_vendored_and_plans_inside_blender():
+    core = sys.modules[conftest.MODULE + ".core"] if conftest.MODULE + ".core" in sys.modules else None
+    mod = sys.modules[conftest.MODULE]
+    from importlib import import_module
+    core = core or import_module(conftest.MODULE + ".core")
+    planner = import_module(conftest.MODULE + ".core.planner")
+    goals = import_module(conftest.MODULE + ".core.goals")
+    assert os.path.dirname(core.__file__).startswith(os.path.dirname(mod.__file__))
+    plan = planner.plan_jump(goals.JumpGoals(height=0.4))
+    # Projectile motion: a 0.4 m apex rise needs v0 = sqrt(2 g h) (physics law).
+    assert abs(plan.hops[0].takeoff_speed_m_s - (2 * 9.80665 * 0.4) ** 0.5) < 1e-9
+
+
+def test_operators_panel_and_settings_are_registered():
+    for name in OPERATORS:
+        assert name in dir(bpy.ops.leapwright), name
+    assert "leapwright" in bpy.types.Scene.bl_rna.properties
+    panel = bpy.types.LEAPWRIGHT_PT_jump
+    assert panel.bl_space_type == "VIEW_3D" and panel.bl_region_type == "UI"
+    assert panel.bl_category == "Leapwright"
+
+
+def test_every_data_changing_operator_can_be_undone():
+    mod = sys.modules[conftest.MODULE]
+    ops = [c for c in mod.classes if issubclass(c, bpy.types.Operator)]
+    assert sorted(c.bl_idname for c in ops) == sorted("leapwright." + n for n in OPERATORS)
+    for cls in ops:  # each of them changes scene or animation data
+        assert {"REGISTER", "UNDO"} <= set(cls.bl_options), cls.bl_idname
+
+
+def test_unregister_and_enable_again_in_the_same_process():
+    import addon_utils
+    addon_utils.disable(conftest.MODULE, default_set=False)
+    assert "leapwright" not in bpy.types.Scene.bl_rna.properties
+    addon_utils.enable(conftest.MODULE, default_set=True)
+    assert "leapwright" in bpy.types.Scene.bl_rna.properties
