@@ -39,3 +39,8 @@ SHOE_FRICTION_COEFFICIENT = 0.6  # dimensionless, rubber sole on dry floor, from
 
 # --- Body proportions ---------------------------------------------------------------
 STANDING_COM_HEIGHT = 1.0  # m, about 0.56 of a 1.78 m adult's stature, from memory
+
+# --- Segment lengths, used only to tell rig joints apart (not for masses) ------------
+# Fractions of stature, Drillis & Contini 1966 as drawn in Winter 2009, Fig. 4.1, from memory.
+UPPER_ARM_LENGTH_FRACTION = 0.186  # shoulder to elbow, from memory
+FOREARM_LENGTH_FRACTION = 0.146  # elbow to wrist, from memory
