@@ -127,7 +127,7 @@ def _de_leva(sex, head, trunk, upper_arm, forearm, hand, thigh, shank, foot):
             SegmentEntry("forearm", *forearm, "elbow", "wrist", "EJC -> WJC", True),
             SegmentEntry("hand", *hand, "wrist", "knuckles", "WJC -> MET3 (third knuckle)", True),
             SegmentEntry("thigh", *thigh, "hip", "knee", "HJC -> KJC", True),
-            SegmentEntry("shank", *shank, "knee", "ankle", "KJC -> ankle", True),
+            SegmentEntry("shank", *shank, "knee", "ankle", "KJC -> LMAL or SPHY (which: from memory)", True),
             # Published heel -> toe tip; rigs have no heel joint, so the ankle stands in.
             SegmentEntry("foot", *foot, "ankle", "toe_tip", "HEEL -> TTIP (ankle stands in for the heel)", True),
         ),
