@@ -97,17 +97,21 @@ class RigData:
                                    f"{np.shape(self.tails)}")
         if not (np.isfinite(heads).all() and np.isfinite(tails).all()):
             raise InvalidGoalError("rig rest positions contain NaN or infinity; give finite positions [m]")
-        for i, p in enumerate(parents):
-            if not -1 <= p < n or p == i:
-                raise InvalidGoalError(f"bone {names[i]!r} has parent index {p}; give -1 or another bone's index")
         for i in range(n):  # a parent chain longer than n bones must loop
             j, steps = i, 0
             while j >= 0 and steps <= n:
+                if not -1 <= parents[j] < n:
+                    raise InvalidGoalError(f"bone {names[j]!r} has parent index {parents[j]}; give -1 or "
+                                           f"another bone's index (0..{n - 1})")
                 j, steps = parents[j], steps + 1
             if j >= 0:
                 raise InvalidGoalError(f"bone {names[i]!r} is its own ancestor; break the parent loop")
+        up, left = _unit(self.up, "up"), _unit(self.left, "left")
+        if abs(up @ left) > 0.5:
+            raise InvalidGoalError(f"up {tuple(up)} and left {tuple(left)} must be far from parallel; "
+                                   f"give e.g. up (0, 0, 1) and left (1, 0, 0)")
         for attr, value in (("names", names), ("parents", parents), ("heads", heads), ("tails", tails),
-                            ("up", tuple(_unit(self.up, "up"))), ("left", tuple(_unit(self.left, "left")))):
+                            ("up", tuple(up)), ("left", tuple(left))):
             object.__setattr__(self, attr, value)
 
     def index(self, name):
@@ -176,6 +180,14 @@ def _unreadable(reason):
 
 def map_by_topology(rig):
     """Find the landmarks of a humanoid rig from its tree and rest positions alone.
+
+    The rest pose must stand upright in a T or A pose. Arms: an optional collar bone,
+    then shoulder, elbow and wrist chosen so the arm's pieces come closest to human
+    proportions (twist bones are absorbed); the hand is the first bone whose children fan
+    out (fingers), and the knuckles are its tail (a single mitten bone puts them at the
+    fingertips, moving the hand's COM outward). Legs: the thigh is the first upright
+    bone, the foot the first bone after the shin that points forward, the knee the joint
+    nearest halfway between. The skull is the longest bone above the chest.
 
     Returns
     -------

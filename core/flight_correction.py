@@ -248,12 +248,16 @@ def check_flight(model, heads, tails, stretches, fps, gravity=C.STANDARD_GRAVITY
 def _departure(s, frames, dev, drop, rise, limb_drop, shares, first_frame):
     worst = int(np.argmax(np.linalg.norm(dev, axis=1)))
     f0 = first_frame
-    text = (f"frames {frames[0] + f0}-{frames[-1] + f0} (in the air {s.first + f0}-{s.last + f0}): the limbs move "
-            f"the body's centre of mass off its arc by up to {100 * np.linalg.norm(dev[worst]):.1f} cm "
+    text = (f"frames {frames[0] + f0}-{frames[-1] + f0} (in the air {s.first + f0}-{s.last + f0}): the body's "
+            f"centre of mass leaves its arc by up to {100 * np.linalg.norm(dev[worst]):.1f} cm "
             f"(frame {frames[worst] + f0}); to keep momentum the torso must move {drop[worst]:+.1f} cm vertically")
     causes = [f"{n} rise {rise[n][worst]:+.1f} cm relative to the torso ({100 * shares[n]:.1f}% of the mass: "
               f"{limb_drop[n][worst]:+.1f} cm)" for n in sorted(rise, key=lambda n: -abs(limb_drop[n][worst]))
               if abs(limb_drop[n][worst]) >= 0.05]
+    # What the limbs do not explain is the torso's own path leaving the arc (keyed hips).
+    own = drop[worst] - sum(v[worst] for v in limb_drop.values())
+    if limb_drop and abs(own) >= 0.05:
+        causes.append(f"the torso itself is keyed {-own:+.1f} cm off the arc")
     if causes:
         text += " - " + "; ".join(causes)
     hint = ("apply the in-air correction to offset the root by the drop shown, key the hips by hand, "
