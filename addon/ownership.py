@@ -38,11 +38,12 @@ def load_state(obj):
     state = json.loads(raw) if isinstance(raw, str) else {}
     state.setdefault("replaced", [])
     state.setdefault("layers", [])
+    state.setdefault("static", [])
     return state
 
 
 def save_state(obj, state):
-    if (state.get("replaced") or state.get("layers") or state.get("pushed") or state.get("created_action")
+    if (state.get("replaced") or state.get("layers") or state.get("static") or state.get("pushed") or state.get("created_action")
             or state.get("created_anim_data") or state.get("written")):
         obj[STATE_PROPERTY] = json.dumps(state)
     elif STATE_PROPERTY in obj:
@@ -74,6 +75,45 @@ def conflicts(obj, specs):
     return out
 
 
+def _remember_static(obj, capability, specs, state):
+    """Save the present values of the channels about to be animated.
+
+    Blender leaves a property at its last evaluated value when its curve is
+    deleted; putting these back is what makes removal leave the pose as found.
+    """
+    seen = {(r["path"], r["index"]) for r in state["static"] if r["capability"] == capability}
+    for spec in specs:
+        if (spec.data_path, spec.index) in seen:
+            continue
+        try:
+            value = obj.path_resolve(spec.data_path)
+        except ValueError:
+            continue  # a property the run itself adds (and removes)
+        value = value[spec.index] if hasattr(value, "__len__") else value
+        state["static"].append({"capability": capability, "path": spec.data_path, "index": spec.index,
+                                "value": float(value)})
+
+
+def _restore_static(obj, capability, state):
+    kept = []
+    for rec in state["static"]:
+        if rec["capability"] != capability:
+            kept.append(rec)
+            continue
+        try:
+            target = obj.path_resolve(rec["path"])
+        except ValueError:
+            continue
+        if hasattr(target, "__len__"):
+            target[rec["index"]] = rec["value"]
+        elif "." in rec["path"]:
+            owner, prop = rec["path"].rsplit(".", 1)
+            setattr(obj.path_resolve(owner), prop, rec["value"])
+        else:
+            setattr(obj, rec["path"], rec["value"])
+    state["static"] = kept
+
+
 def _track(obj, name):
     ad = obj.animation_data
     return ad.nla_tracks.get(name) if ad is not None else None
@@ -102,6 +142,7 @@ def clear(obj, capability):
     if capability in state["layers"]:
         _remove_layer(obj, capability, state)
     state["written"] = [w for w in state.get("written", []) if w != capability]
+    _restore_static(obj, capability, state)
     _tidy(obj, state)
     save_state(obj, state)
 
@@ -161,6 +202,7 @@ def write_into_action(obj, capability, specs, replace):
     animator keeps it (its group, modifiers and settings are not touched).
     """
     state = load_state(obj)
+    _remember_static(obj, capability, specs, state)
     action = _target_action(obj, state)
     for spec in specs:
         fc = compat.find_fcurve(action, obj, spec.data_path, spec.index)
@@ -221,6 +263,7 @@ def write_layer(obj, capability, specs):
     if obj.animation_data is None:
         obj.animation_data_create()
         state["created_anim_data"] = True
+    _remember_static(obj, capability, specs, state)
     _push_user_action(obj, state)
     delta = compat.new_delta_action(obj, f"{group_name(capability)} {obj.name}")
     for spec in specs:
