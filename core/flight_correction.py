@@ -214,6 +214,7 @@ def check_flight(model, heads, tails, stretches, fps, gravity=C.STANDARD_GRAVITY
     """
     tol = require_finite("tolerance", tolerance, non_negative=True, unit=" m")
     com = whole_body_com(model, heads, tails)
+    stretches = list(stretches)  # read twice below
     fix = correct_flight(com, stretches, fps, gravity, up, **correction_options)
     upv = np.asarray(up, float) / np.linalg.norm(up)
     parts = group_coms(model, heads, tails)

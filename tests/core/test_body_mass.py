@@ -155,7 +155,8 @@ _EXPECTED_L = {"shoulder.L": "upper_arm.L@head", "elbow.L": "forearm.L@head", "w
 _TURN = Rotation.from_euler("xyz", [30, -50, 110], degrees=True).as_matrix()
 
 
-@pytest.mark.parametrize("variant", ["A pose", "twist bones", "no collar bones or fingers", "turned space"])
+@pytest.mark.parametrize("variant", ["A pose", "twist bones", "no collar bones or fingers", "turned space",
+                                     "end bones"])
 def test_common_rig_layouts_map_to_the_same_joints(variant):
     # Rig layouts seen in production (common practice): arms at 45 degrees, upper arm /
     # forearm / thigh / shin split for twist, no collar bone and mitten hands, other axes.
@@ -168,6 +169,9 @@ def test_common_rig_layouts_map_to_the_same_joints(variant):
     elif variant == "no collar bones or fingers":
         bones = [(n, "chest" if n.startswith("upper_arm") else p, h, t) for n, p, h, t in bones
                  if not n.startswith(("clavicle", "finger"))]
+    elif variant == "end bones":  # short leaf bones past the skull and the toes, as exporters add
+        bones = bones + [("head_end", "head", (0, 0, 1.78), (0, 0, 1.83))] + [
+            (f"toe_end.{s}", f"toe.{s}", (0.09 * x, -0.20, 0.0), (0.09 * x, -0.24, 0.0)) for s, x in (("L", 1), ("R", -1))]
     else:
         bones = _turned(bones, _TURN)
         kw = {"up": _TURN @ (0, 0, 1), "left": _TURN @ (1, 0, 0)}

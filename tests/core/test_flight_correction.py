@@ -134,6 +134,23 @@ def test_known_take_off_velocity_and_settling_after_landing():
     assert np.all(np.diff(np.concatenate([[1.0], tail, [0.0]])) < 0) and not fix.offsets[15:].any()
 
 
+def test_two_hops_get_their_own_arcs():
+    # Each flight has its own take-off state; between them the offset is 0 (Newton, per flight).
+    def hop(i, takeoff, v0, push):  # constant push, then free fall, velocity continuous
+        tau = (i - takeoff) / FPS
+        return 1.0 + v0 * tau + 0.5 * np.where(tau < 0, push, -G) * tau ** 2
+
+    i = np.arange(40)
+    z = np.where(i < 24, hop(i, 12, 2.0, 6.0), hop(i, 30, 1.5, 2 * G))
+    com = np.stack([0.01 * i, np.zeros(40), z], axis=1)
+    fix = correct_flight(com, [(12, 20), (30, 39)], FPS, G, settle_frames=5)
+    assert np.abs(fix.offsets).max() < 1e-9  # both stretches already ballistic
+    com[34:, 2] += 0.02  # a 2 cm step in the second flight is undone there only
+    fix = correct_flight(com, [(12, 20), (30, 39)], FPS, G, settle_frames=5)
+    np.testing.assert_allclose(fix.offsets[34:, 2], -0.02, atol=1e-9)
+    assert np.abs(fix.offsets[:34]).max() < 1e-9
+
+
 def test_bad_stretches_say_what_to_change():
     com = np.zeros((20, 3))
     with pytest.raises(InvalidTrajectoryError, match="earlier"):
