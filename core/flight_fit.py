@@ -1,0 +1,317 @@
+"""Finding the ballistic stretches of a sampled height curve and fitting their gravity.
+
+A body in free fall follows ``z(t) = z0 + v0 t - g t^2 / 2``: its samples lie on one
+parabola, whatever the frame rate. A flight is therefore searched as a stretch of
+samples that one concave-down parabola explains within the sampling noise. Stepped
+(constant-interpolation) keys are reduced to their key samples first, so held frames
+do not read as zero acceleration.
+
+References
+----------
+Galileo's law of fall: distances from rest grow as the odd numbers 1:3:5:7 per equal
+time step, i.e. equal second differences ``g dt^2`` (textbook mechanics).
+"""
+
+import numpy as np
+
+from .parabola import Parabola, Stretch, fit_parabola  # noqa: F401  (re-exported)
+from .stylised_flights import merge_stylised
+
+#: Smallest number of key samples accepted as a flight; a parabola has 3 parameters,
+#: so 5 samples leave two degrees of freedom to test it.
+MIN_FLIGHT_SAMPLES = 5
+#: Fit tolerance floor [m]: a quarter millimetre, below a tenth of a pixel on a 2 m
+#: character framed full height at 1080 lines.
+FIT_TOLERANCE_FLOOR_M = 2.5e-4
+#: Fit tolerance in units of the estimated sample noise; uniform noise of
+#: half-width w has sd w/sqrt(3), so 4 sd covers it.
+FIT_TOLERANCE_NOISE_FACTOR = 4.0
+#: A flight must have a gravity of at least this fraction of the scene's; gentler
+#: concave stretches are contact (settling into a stand), not free fall.
+MIN_FLIGHT_GRAVITY_FRACTION = 0.1
+#: A stretch whose top is not inside it (a fall from rest) is read as a flight only if
+#: it lasts this long [s]: the start of a dip also accelerates downward nearly evenly
+#: for a tenth of a second or so.
+MIN_ONE_SIDED_FALL_S = 0.25
+#: Runs of 2..4 exactly repeated samples are holds of stepped keys (on twos/threes/fours).
+MAX_HOLD_FRAMES = 4
+
+
+def key_samples(positions):
+    """Indices of the samples that carry information: the first of each short hold.
+
+    Parameters
+    ----------
+    positions : ndarray, shape (n, 3)  [m]
+
+    Returns
+    -------
+    keep : ndarray of int
+        All indices for smooth curves; for stepped keys (three or more holds of
+        2..4 identical frames) the first frame of every hold. Long holds (standing
+        still) keep every frame, since they are motion, not stepping.
+    stepped : bool
+    """
+    n = len(positions)
+    same = np.all(positions[1:] == positions[:-1], axis=1)
+    runs = []  # (start, length) of runs of identical samples
+    i = 0
+    while i < n:
+        j = i
+        while j + 1 < n and same[j]:
+            j += 1
+        runs.append((i, j - i + 1))
+        i = j + 1
+    short = [r for r in runs if 2 <= r[1] <= MAX_HOLD_FRAMES]
+    moving_frames = sum(length for _, length in runs if length <= MAX_HOLD_FRAMES)
+    held = sum(length for _, length in short)
+    if len(short) < 3 or held < 0.4 * max(moving_frames, 1):
+        return np.arange(n), False
+    keep = []
+    for start, length in runs:
+        if length <= MAX_HOLD_FRAMES:
+            keep.append(start)
+        else:
+            keep.extend(range(start, start + length))
+    keep = np.asarray(keep, dtype=int)
+    if len(keep) < 3:
+        return np.arange(n), False
+    return keep, True
+
+
+def local_derivatives(t, z, half_width=2):
+    """Value, first and second derivative by a local quadratic fit at every sample.
+
+    Parameters
+    ----------
+    t : ndarray  increasing times [s]
+    z : ndarray  values [m]
+    half_width : int  samples each side (windows are shifted inward at the ends)
+
+    Returns
+    -------
+    speed, acceleration : ndarray  [m/s], [m/s^2]
+    """
+    n = len(t)
+    w = min(2 * half_width + 1, n)
+    starts = np.clip(np.arange(n) - w // 2, 0, n - w)
+    idx = starts[:, None] + np.arange(w)[None, :]
+    dt = t[idx] - t[:, None]
+    span = np.maximum(np.ptp(dt, axis=1), 1e-300)[:, None]
+    u = dt / span
+    design = np.stack([np.ones_like(u), u, u * u], axis=2)  # (n, w, 3)
+    ata = np.einsum("nwi,nwj->nij", design, design)
+    atb = np.einsum("nwi,nw->ni", design, z[idx])
+    coef = np.linalg.solve(ata + 1e-12 * np.eye(3)[None], atb[..., None])[..., 0]
+    speed = coef[:, 1] / span[:, 0]
+    accel = 2.0 * coef[:, 2] / span[:, 0] ** 2
+    return speed, accel
+
+
+def noise_level(t, z):
+    """Robust estimate of the sample noise sd [m].
+
+    Quartic fits over sliding 9-sample windows follow any smooth motion (a sine crest,
+    a dip) closely, so what they leave is mostly noise: RMS^2 * 9 / sd^2 follows
+    chi-squared with 9 - 5 = 4 degrees of freedom, whose 10th percentile is 1.064
+    (chi-squared tables). The lowest tenth of windows are used, so that the jerks of
+    take-off and landing do not count as noise.
+    """
+    n = len(t)
+    w = 9
+    if n < w + 2:
+        return 0.0
+    rms = np.empty(n - w + 1)
+    for s in range(n - w + 1):
+        tt = t[s:s + w] - t[s + w // 2]
+        u = tt / max(float(np.ptp(tt)), 1e-300)
+        design = np.vander(u, 5)
+        coef, *_ = np.linalg.lstsq(design, z[s:s + w], rcond=None)
+        r = z[s:s + w] - design @ coef
+        rms[s] = np.sqrt(np.mean(r * r))
+    return float(np.percentile(rms, 10) / np.sqrt(1.064 / w))
+
+
+def noise_from_stretches(stretches, min_samples=6):
+    """Noise sd [m] from the residuals of fitted flights, or None if none is long enough.
+
+    Pools ``sum(rms^2 n) / sum(n - 3)`` over plain (one-parabola) stretches of at
+    least ``min_samples`` samples.
+    """
+    num = dof = 0.0
+    for s in stretches:
+        n = s.last - s.first + 1
+        if s.rise is s.fall and n >= min_samples:
+            num += s.rms ** 2 * n
+            dof += n - 3
+    return float(np.sqrt(num / dof)) if dof else None
+
+
+def fit_tolerance(noise_sd):
+    """Largest residual [m] still read as noise."""
+    return max(FIT_TOLERANCE_NOISE_FACTOR * noise_sd, FIT_TOLERANCE_FLOOR_M)
+
+
+def _grow(t, z, first, last, tol, taken):
+    """Extend ``first..last`` one sample at a time while one parabola fits within ``tol``."""
+    n = len(t)
+    fit = fit_parabola(t[first:last + 1], z[first:last + 1])
+    can_left = can_right = True
+    while can_left or can_right:
+        if can_left:
+            i = first - 1
+            trial = None if i < 0 or taken[i] else fit_parabola(t[i:last + 1], z[i:last + 1])
+            if trial is not None and trial.max_abs <= tol and trial.gravity > 0:
+                first, fit = i, trial
+            else:
+                can_left = False
+        if can_right:
+            j = last + 1
+            trial = None if j >= n or taken[j] else fit_parabola(t[first:j + 1], z[first:j + 1])
+            if trial is not None and trial.max_abs <= tol and trial.gravity > 0:
+                last, fit = j, trial
+            else:
+                can_right = False
+    return _settle(t, z, first, last, fit, tol, taken)
+
+
+def _settle(t, z, first, last, fit, tol, taken):
+    """Re-decide the ends from the fit of the interior alone.
+
+    Greedy growth can take in a contact sample that happens to lie within ``tol``,
+    which tilts the fit and stops growth at the other end; judging every sample
+    against the interior's parabola undoes that.
+    """
+    n = len(t)
+    for _ in range(4):
+        if last - first + 1 < MIN_FLIGHT_SAMPLES + 2:
+            break
+        core = fit_parabola(t[first + 1:last], z[first + 1:last])
+        ok = (np.abs(z - core.height(t)) <= tol) & ~taken
+        a, b = first + 1, last - 1
+        while a > 0 and ok[a - 1]:
+            a -= 1
+        while b < n - 1 and ok[b + 1]:
+            b += 1
+        if (a, b) == (first, last):
+            break
+        trial = fit_parabola(t[a:b + 1], z[a:b + 1])
+        if trial.max_abs > tol or trial.gravity <= 0 or b - a < last - first:
+            break
+        first, last, fit = a, b, trial
+    return first, last, fit
+
+
+def _trim_edges(t, z, first, last, noise_sd, max_rounds=2):
+    """Drop end samples that the parabola of the interior does not pass through.
+
+    Near take-off the ground force fades to zero, so the last contact samples lie
+    within ``tol`` of the flight's parabola; against the fit of the interior they
+    still stand out, by more than four times that fit's own scatter.
+    """
+    for _ in range(max_rounds):
+        if last - first + 1 < MIN_FLIGHT_SAMPLES + 2:
+            break
+        core = fit_parabola(t[first + 1:last], z[first + 1:last])
+        n = last - first - 1
+        limit = 4.0 * max(core.rms * np.sqrt(n / (n - 3)), noise_sd) + 1e-9
+        drop_first = abs(z[first] - core.height(t[first])) > limit
+        drop_last = abs(z[last] - core.height(t[last])) > limit
+        if not (drop_first or drop_last):
+            break
+        first, last = first + int(drop_first), last - int(drop_last)
+    return first, last, fit_parabola(t[first:last + 1], z[first:last + 1])
+
+
+def find_ballistic_stretches(t, z, tol, min_gravity, noise_sd=0.0):
+    """Maximal stretches of samples that one concave-down parabola fits within ``tol``.
+
+    Parameters
+    ----------
+    t, z : ndarray  key-sample times [s] and heights [m]
+    tol : float  largest residual [m]
+    min_gravity : float  smallest accepted gravity [m/s^2]
+    noise_sd : float  estimated sample noise [m], for trimming the ends
+
+    Returns
+    -------
+    list of Stretch, in time order, not overlapping. Stretches whose vertex lies more
+    than one sample outside them (a stretch of a dip or a settle, not a flight) and
+    stretches gentler than ``min_gravity`` are left out.
+    """
+    n = len(t)
+    m = MIN_FLIGHT_SAMPLES
+    if n < m:
+        return []
+    seeds = []
+    for s in range(n - m + 1):
+        fit = fit_parabola(t[s:s + m], z[s:s + m])
+        if fit.max_abs <= tol and fit.gravity >= min_gravity:
+            seeds.append((fit.max_abs, s))
+    # Every seed is grown: greedy growth from one seed can take in a contact sample
+    # and stop short, while a neighbouring seed reaches the whole flight. The longest
+    # results win; grown ranges repeat, so each is finished once.
+    free = np.zeros(n, bool)
+    candidates = {}
+    for _, s in seeds:
+        first, last, _ = _grow(t, z, s, s + m - 1, tol, free)
+        if (first, last) in candidates:
+            continue
+        first_t, last_t, fit = _trim_edges(t, z, first, last, noise_sd)
+        lo = t[max(first_t - 1, 0)]
+        hi = t[min(last_t + 1, n - 1)]
+        ok = fit.gravity >= min_gravity and lo <= fit.apex_time <= hi
+        candidates[(first, last)] = (first_t, last_t, fit) if ok else None
+    ranked = sorted((c for c in candidates.values() if c is not None),
+                    key=lambda c: (-(c[1] - c[0]), c[2].max_abs, c[0]))
+    taken = np.zeros(n, bool)
+    found = []
+    for first, last, fit in ranked:
+        if taken[first:last + 1].any():
+            # What a longer flight left of this one may still be the other side of a
+            # stylised flight (a faster fall after the rise's top).
+            free_runs = _free_runs(taken, first, last)
+            if not free_runs:
+                continue
+            first, last = max(free_runs, key=lambda r: r[1] - r[0])
+            if last - first + 1 < m:
+                continue
+            fit = fit_parabola(t[first:last + 1], z[first:last + 1])
+            lo, hi = t[max(first - 1, 0)], t[min(last + 1, n - 1)]
+            if fit.max_abs > tol or fit.gravity < min_gravity or not lo <= fit.apex_time <= hi:
+                continue
+        taken[first:last + 1] = True
+        found.append(Stretch(first, last, fit, fit, fit.rms, fit.max_abs))
+    found.sort(key=lambda s: s.first)
+    found = merge_stylised(t, z, found, tol)
+    two_sided = [_two_sided(t, z, s, tol) for s in found]
+    # A fall from rest is kept only in a clip with no rising-and-falling flight: in a
+    # jump, a concave stretch with no top inside is the start of the dip.
+    return [s for s, both in zip(found, two_sided)
+            if both or (not any(two_sided) and t[s.last] - t[s.first] >= MIN_ONE_SIDED_FALL_S)]
+
+
+def _free_runs(taken, first, last):
+    """(first, last) runs of untaken indices within ``first..last``."""
+    runs, start = [], None
+    for i in range(first, last + 1):
+        if not taken[i] and start is None:
+            start = i
+        if taken[i] and start is not None:
+            runs.append((start, i - 1))
+            start = None
+    if start is not None:
+        runs.append((start, last))
+    return runs
+
+
+def _two_sided(t, z, s, tol):
+    """True when the stretch visibly rises to its top and falls from it.
+
+    Two samples on each side, and a rise and a fall of at least twice the tolerance,
+    so that a still stretch before a dip does not count as the rising side.
+    """
+    tt = t[s.first:s.last + 1]
+    top = max(s.rise.apex_height, s.fall.apex_height)
+    return bool(np.sum(tt < s.rise.apex_time) >= 2 and np.sum(tt > s.fall.apex_time) >= 2
+                and top - z[s.first] >= 2 * tol and top - z[s.last] >= 2 * tol)
