@@ -173,8 +173,9 @@ def correct_flight(com, stretches, fps, gravity=C.STANDARD_GRAVITY, up=(0.0, 0.0
     upv = upv / np.linalg.norm(upv)
     known = None if takeoff_velocities is None else np.asarray(takeoff_velocities, float).reshape(-1, 3)
     st = _stretches(stretches, len(c), int(fit_frames), known is None)
-    if known is not None and len(known) != len(st):
-        raise InvalidGoalError(f"give one take-off velocity per stretch: {len(st)} stretches, {len(known)} velocities")
+    if known is not None and (len(known) != len(st) or not np.isfinite(known).all()):
+        raise InvalidGoalError(f"give one finite take-off velocity [m/s] per stretch: {len(st)} stretches, "
+                               f"{len(known)} velocities {known.tolist()}")
     settle = int(require_finite("settle_frames", settle_frames, non_negative=True))
     offsets = np.zeros_like(c)
     arcs, velocities = [], []
