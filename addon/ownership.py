@@ -29,6 +29,10 @@ STATE_PROPERTY = "lw_state"
 USER_TRACK = "lw:your animation"
 
 
+class LayerError(Exception):
+    """Offsets that cannot be layered as asked (checked before anything is written)."""
+
+
 def group_name(capability):
     return PREFIX + capability
 
@@ -259,6 +263,11 @@ def write_layer(obj, capability, specs):
     The animator's keys are not touched: their active action is pushed into a
     track below while any leapwright layer exists.
     """
+    summed = [s.data_path for s in specs if s.data_path.endswith("rotation_axis_angle")]
+    if summed:
+        raise LayerError(f"{summed[0]} is an axis-angle rotation: under COMBINE its four numbers simply add, "
+                         "which is not a rotation; give the bone quaternion rotation, or bake the "
+                         "correction per frame into its own keys")
     state = load_state(obj)
     if obj.animation_data is None:
         obj.animation_data_create()

@@ -8,6 +8,9 @@ dictionary look-up; a change of any value recomputes it once.
 
 import math
 
+import numpy as np
+
+from .core.constants import GRAVITY_PRESETS
 from .core.errors import LeapwrightError
 from .core.goals import JumpGoals
 from .core.planner import plan_jump
@@ -23,6 +26,18 @@ def scene_fps(scene):
 def metres_per_unit(scene):
     """Metres per Blender unit [m/BU]."""
     return scene.unit_settings.scale_length
+
+
+def exact_gravity(stored):
+    """The preset gravity [m/s^2] a float32 panel value stands for, else the value itself.
+
+    Blender keeps float properties in single precision, so 9.80665 comes back as
+    9.8066502; the core recognises standard gravity by exact value.
+    """
+    for value in GRAVITY_PRESETS.values():
+        if np.float32(value) == np.float32(stored):
+            return value
+    return float(stored)
 
 
 def goals_from(settings, scene):
@@ -43,7 +58,7 @@ def goals_from(settings, scene):
                   "push_duration": settings.push_duration, "landing_duration": settings.landing_duration}
     return JumpGoals(standing_com_height=settings.standing_com_height * m, distance=settings.distance * m,
                      landing_height=settings.landing_height * m, weighing_duration=settings.weighing_duration,
-                     gravity=settings.gravity, hops=int(settings.hops), **aim, **timing)
+                     gravity=exact_gravity(settings.gravity), hops=int(settings.hops), **aim, **timing)
 
 
 def _key(settings, scene):
