@@ -44,3 +44,13 @@ STANDING_COM_HEIGHT = 1.0  # m, about 0.56 of a 1.78 m adult's stature, from mem
 # Fractions of stature, Drillis & Contini 1966 as drawn in Winter 2009, Fig. 4.1, from memory.
 UPPER_ARM_LENGTH_FRACTION = 0.186  # shoulder to elbow, from memory
 FOREARM_LENGTH_FRACTION = 0.146  # elbow to wrist, from memory
+
+# --- Arm swing (core/arm_swing.py, core/swing_timing.py) ------------------------------
+ARM_SWING_HEIGHT_GAIN = 0.086  # m, CMJ with vs without arms, Lees, Vanrenterghem & De Clercq 2004, J Biomech 37:1929-1940
+ARM_SWING_POSITION_SHARE = 0.28  # of that gain from a higher take-off position, Lees et al. 2004
+ARM_SWING_SPEED_SHARE = 0.72  # of that gain from a faster take-off, Lees et al. 2004
+ARM_SWING_HEIGHT_GAIN_RATIO = 0.38  # +38% jump height with arms, Vaverka et al. 2016, J Hum Kinet 53:41-50
+UPSWING_START_SHARE = 0.76  # upswing starts at ~76% of the total jump duration, Vaverka et al. 2016
+DE_LEVA_MALE_ARM_SEGMENTS = ((0.0271, 0.5772), (0.0162, 0.4574), (0.0061, 0.7900))  # (mass, COM from proximal) upper arm, forearm, hand, de Leva 1996, J Biomech 29(9):1223-1230
+STANDING_COM_STATURE_FRACTION = 0.56  # standing COM height / stature, from memory (as on STANDING_COM_HEIGHT)
+ARM_SWING_WORK_RATIO = 3.40  # -, extra push energy per unit arm-lift work; calibrated in core/arm_swing.py to Feltner et al. 1999 (2.44 -> 2.75 m/s) (derived)
