@@ -262,3 +262,21 @@ def test_random_swings_never_crash_and_never_give_nan(height, back, up, reach, s
     assert math.isfinite(gain.takeoff_speed_m_s) and gain.takeoff_speed_m_s >= plan.hops[0].takeoff_speed_m_s
     for hop in plan.hops:
         assert swing.elevation(hop.takeoff_time_s) == pytest.approx(math.radians(up))
+
+
+vectors = st.lists(st.floats(-10, 10), min_size=3, max_size=3)
+
+
+@settings(max_examples=80, deadline=None)
+@given(vectors, vectors, vectors, vectors, st.floats(-7, 7))
+def test_random_rest_data_give_a_plane_or_a_core_error(forward, up, shoulder, hand, angle):
+    try:
+        plane = swing_plane(forward, up, shoulder, hand)
+    except LeapwrightError:
+        return
+    q = swing_rotations(plane, np.array([angle]))
+    assert np.all(np.isfinite(q)) and abs(np.linalg.norm(q) - 1) < 1e-9
+    assert abs(np.dot(plane.axis, plane.up)) < 1e-9 and abs(np.dot(plane.axis, plane.forward)) < 1e-9
+    # The rotation carries the rest arm onto the swing direction (scipy Rotation as reference).
+    got = Rotation.from_quat(q[:, [1, 2, 3, 0]]).apply(plane.rest_arm)
+    np.testing.assert_allclose(got, arm_directions(plane, [angle]), atol=1e-9)

@@ -266,3 +266,17 @@ def test_random_warps_keep_order_values_and_uncrossed_handles(gaps, a, swing_len
     assert np.all(new.right_handles[:-1, 0] <= new.left_handles[1:, 0] + 1e-9)
     x = np.linspace(warp.old[0] - 1, warp.old[-1] + 1, 4001)
     assert np.all(np.diff(warp(x)) >= 0)
+
+
+@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(st.lists(st.floats(-3, 3), min_size=0, max_size=60), st.floats(1, 240), st.floats(0.001, 0.5))
+def test_random_heights_give_a_window_or_a_core_error(heights, fps, clearance):
+    t = np.arange(len(heights)) / fps
+    z = np.array(heights)
+    for find in (lambda: window_from_com(t, z), lambda: window_from_feet(t, z, clearance=clearance),
+                 lambda: window_from_feet(t, z, com_height=z, clearance=clearance)):
+        try:
+            w = find()
+        except LeapwrightError:
+            continue
+        assert math.isfinite(w.push_start_s) and w.push_start_s < w.takeoff_s < w.touchdown_s
