@@ -189,7 +189,8 @@ def _validate(frames, positions, fps, gravity):
             f"{len(frames)} frames but {len(positions)} positions; give one position per frame")
     if len(frames) < MIN_SAMPLES:
         raise InvalidTrajectoryError(
-            f"only {len(frames)} samples; give at least {MIN_SAMPLES} frames to fit a flight")
+            f"only {len(frames)} sample{'' if len(frames) == 1 else 's'}; "
+            f"give at least {MIN_SAMPLES} frames to fit a flight")
     bad = np.flatnonzero(~np.isfinite(frames) | ~np.all(np.isfinite(positions), axis=1))
     if len(bad):
         raise InvalidTrajectoryError(
