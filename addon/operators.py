@@ -4,6 +4,10 @@ Every check and every number is done before the first key is written, so a
 refused run leaves the file as it was. No ``bpy.ops`` inside ``execute``.
 """
 
+from dataclasses import replace
+
+import numpy as np
+
 import bpy
 from bpy.props import EnumProperty
 
@@ -42,6 +46,13 @@ def _remove_blocking(scene, rig):
         del rig[bp.WEIGHT_PROPERTY]
 
 
+def _unanimated(channels, rig):
+    """The channels' values before this add-on animated them (re-runs must not stack)."""
+    before = ownership.static_values(rig, CAPABILITY)
+    base = np.array([before.get((channels.data_path, i), channels.base[i]) for i in range(3)])
+    return replace(channels, base=base)
+
+
 def _channel_label(path, index):
     return f"{path}[{index}]"
 
@@ -69,6 +80,10 @@ class LEAPWRIGHT_OT_write_blocking(bpy.types.Operator):
             forward = rig_space.forward_axis(rig, s.forward)
         except rig_space.SelectionError as exc:
             return None, str(exc)
+        if rig.animation_data is not None and rig.animation_data.use_tweak_mode:
+            return None, f"'{rig.name}' is in NLA tweak mode; leave it (Tab in the NLA editor) and run again"
+        body = _unanimated(body, rig)
+        feet = [_unanimated(f, rig) for f in feet]
         plan, readout = plan_link.plan_for(scene)
         if plan is None:
             return None, readout["error"]

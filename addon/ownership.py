@@ -98,6 +98,12 @@ def _remember_static(obj, capability, specs, state):
                                 "value": float(value)})
 
 
+def static_values(obj, capability):
+    """``{(data_path, index): value}`` of channels as they were before ``capability`` animated them."""
+    return {(r["path"], r["index"]): r["value"] for r in load_state(obj)["static"]
+            if r["capability"] == capability}
+
+
 def _restore_static(obj, capability, state):
     kept = []
     for rec in state["static"]:

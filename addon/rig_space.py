@@ -43,6 +43,9 @@ class Channels:
 def _bone_map(obj, pb):
     """3×3 map from a change of ``pb.location`` to its head's world displacement."""
     basis = pb.matrix_basis.copy()
+    # The map is linear in the location; measured from zero so the present
+    # (perhaps animated) location adds no float32 rounding of its own.
+    basis.translation = Vector((0.0, 0.0, 0.0))
     origin = obj.convert_space(pose_bone=pb, matrix=basis, from_space="LOCAL", to_space="POSE").translation
     cols = []
     for i in range(3):
