@@ -44,6 +44,7 @@ STANDING_COM_HEIGHT = 1.0  # m, about 0.56 of a 1.78 m adult's stature, from mem
 # Fractions of stature, Drillis & Contini 1966 as drawn in Winter 2009, Fig. 4.1, from memory.
 UPPER_ARM_LENGTH_FRACTION = 0.186  # shoulder to elbow, from memory
 FOREARM_LENGTH_FRACTION = 0.146  # elbow to wrist, from memory
+HAND_LENGTH_FRACTION = 0.108  # wrist to fingertip, from memory
 
 # --- Arm swing (core/arm_swing.py, core/swing_timing.py) ------------------------------
 ARM_SWING_HEIGHT_GAIN = 0.086  # m, CMJ with vs without arms, Lees, Vanrenterghem & De Clercq 2004, J Biomech 37:1929-1940
