@@ -10,7 +10,6 @@
 
 import os
 import sys
-import tempfile
 
 import bpy
 import numpy as np
@@ -32,14 +31,19 @@ def sample_scene(scene, rig, body_bone, substeps=4):
 
     Parameters
     ----------
+    scene : bpy.types.Scene
+    rig : bpy.types.Object
+        The armature.
+    body_bone : str
+        The COM (body) bone.
     substeps : int
         Samples per frame.
 
     Returns
     -------
     dict
-        ``frames`` (fractional), ``com_z`` world height of the body bone's
-        head [m], ``com_y`` [m], ``weight_bw`` (``lw_weight_bw``, NaN when
+        ``frames`` (fractional); ``com_x``, ``com_y``, ``com_z``: world
+        position of the body bone's head [m]; ``weight_bw`` (``lw_weight_bw``, NaN when
         absent), ``markers`` (see :func:`lw_markers`).
     """
     frames = np.arange(scene.frame_start * substeps, scene.frame_end * substeps + 1) / substeps
