@@ -124,9 +124,11 @@ class LinkCoefficients:
                 f"damping_rate {c:g} 1/s is above {CHAIN_MAX_DAMPING_RATE:g} 1/s, far past critical damping; give a smaller value"
             )
         gain = require_finite("gravity_gain", self.gravity_gain, non_negative=True, unit=" 1/m")
-        if gain > limit_k / STANDARD_GRAVITY:
+        # the largest gain any ChainParameters can give: sag just under pi/2 at the top frequency
+        if gain > 0.5 * math.pi * limit_k / STANDARD_GRAVITY:
             raise InvalidGoalError(
-                f"gravity_gain {gain:g} 1/m gives a pendulum faster than {CHAIN_MAX_FREQUENCY:g} Hz; give a longer swing length"
+                f"gravity_gain {gain:g} 1/m is a swing length under {2e3 * STANDARD_GRAVITY / (math.pi * limit_k):.3g} mm; "
+                "give a longer swing length (a smaller gain)"
             )
         limit = require_finite("angle_limit", self.angle_limit, positive=True, unit=" rad")
         if limit > math.pi:
@@ -135,7 +137,7 @@ class LinkCoefficients:
             )
         mu = require_finite("transmission", self.transmission, non_negative=True)
         if mu > 1.0:
-            raise InvalidGoalError(f"transmission must be from 0 to 1, got {mu:g}; 1 damps only across the joint, 0 only against the air")
+            raise InvalidGoalError(f"transmission must be from 0 to 1, got {mu:g}; give e.g. 1 (damping only across the joint) or 0.5")
         return LinkCoefficients(k, c, gain, limit, mu)
 
 
@@ -148,8 +150,14 @@ def coefficient_arrays(parameters, bones):
         ``spring`` [1/s^2], ``damping`` [1/s], ``gain`` [1/m], ``limit`` [rad],
         ``transmission`` [-].
     """
-    if isinstance(parameters, (ChainParameters, LinkCoefficients)):
+    shared = isinstance(parameters, (ChainParameters, LinkCoefficients))
+    if shared:
         sets = [parameters] * bones
+    elif isinstance(parameters, str):
+        raise InvalidGoalError(
+            f"parameters must be ChainParameters or LinkCoefficients, got the text {parameters!r}; "
+            "for a preset pass chain_preset(name)"
+        )
     else:
         try:
             sets = list(parameters)
@@ -160,13 +168,18 @@ def coefficient_arrays(parameters, bones):
         if len(sets) != bones:
             raise InvalidGoalError(f"got {len(sets)} parameter sets for {bones} bones; give one set, or one per bone")
     checked = []
+    if shared:
+        sets = sets[:1]
     for i, p in enumerate(sets):
         if not isinstance(p, (ChainParameters, LinkCoefficients)):
             raise InvalidGoalError(f"parameters[{i}] is a {type(p).__name__}; give ChainParameters or LinkCoefficients")
         try:
             checked.append(p.coefficients())
         except InvalidGoalError as exc:
+            if shared:
+                raise
             raise InvalidGoalError(f"bone {i}: {exc}") from None
+    checked = checked * bones if shared else checked
 
     def column(attr):
         return np.array([getattr(p, attr) for p in checked], dtype=float)

@@ -11,6 +11,16 @@ from .rotation_vectors import (
     quaternion_to_rotvec,
 )
 
+#: Largest head acceleration accepted [m/s^2], about 1,000 g: far past any landing
+#: (a few to tens of g) or a smear frame; beyond it the samples hold a teleport or a
+#: unit mix-up.
+MAX_HEAD_ACCELERATION = 1.0e4
+#: Largest bone angular acceleration accepted [rad/s^2] (a half turn reversed within a
+#: millisecond is ~6e6); beyond it a rotation has flipped between samples.
+MAX_ANGULAR_ACCELERATION = 1.0e9
+#: Largest scene gravity accepted [m/s^2], a thousand times Earth's.
+MAX_GRAVITY = 1.0e4
+
 
 def _finite_array(name, value, shape_text, ndim_tail):
     try:
@@ -20,7 +30,7 @@ def _finite_array(name, value, shape_text, ndim_tail):
     if arr.ndim != len(ndim_tail) or any(t is not None and s != t for s, t in zip(arr.shape, ndim_tail)):
         raise InvalidTrajectoryError(f"{name} must have shape {shape_text}, got {arr.shape}; sample every bone on every frame")
     if not np.all(np.isfinite(arr)):
-        where = tuple(np.argwhere(~np.isfinite(arr))[0])
+        where = tuple(int(i) for i in np.argwhere(~np.isfinite(arr))[0])
         raise InvalidTrajectoryError(f"{name}{list(where)} is {arr[where]}; every sample must be a finite number")
     return arr
 
@@ -80,9 +90,30 @@ def check_samples(times, heads, rotations, parents, gravity):
         g = np.asarray(gravity, dtype=float).reshape(3)
     except (TypeError, ValueError):
         raise InvalidGoalError(f"gravity must be a 3-vector [m/s^2], got {gravity!r}; e.g. (0, 0, -9.80665)") from None
-    if not np.all(np.isfinite(g)):
-        raise InvalidGoalError(f"gravity must be finite, got {tuple(g)}; e.g. (0, 0, -9.80665)")
+    if not np.all(np.isfinite(g)) or np.linalg.norm(g) > MAX_GRAVITY:
+        raise InvalidGoalError(
+            f"gravity must be finite and at most {MAX_GRAVITY:g} m/s^2, got {tuple(g)}; e.g. (0, 0, -9.80665)"
+        )
     return t, h, r, par, g
+
+
+def check_drive(accel, alpha, times, first=0):
+    """Refuse motion no rig could mean: a teleport or a flipped rotation needs a reset.
+
+    Raises
+    ------
+    InvalidTrajectoryError
+        Naming the sample and bone, and suggesting a reset there.
+    """
+    for name, value, cap, unit in (("head acceleration", accel, MAX_HEAD_ACCELERATION, "m/s^2"),
+                                   ("angular acceleration", alpha, MAX_ANGULAR_ACCELERATION, "rad/s^2")):
+        size = np.linalg.norm(value, axis=-1)
+        if np.any(size > cap):
+            f, b = (int(i) for i in np.argwhere(size > cap)[0])
+            raise InvalidTrajectoryError(
+                f"{name} of bone {b} at sample {f + first} (t = {times[f]:g} s) is {size[f, b]:.3g} {unit}, above {cap:g}: "
+                "the rig jumps there; put a reset at that sample or fix the jump"
+            )
 
 
 def split_segments(frames, resets):

@@ -42,7 +42,7 @@ import numpy as np
 from .constants import STANDARD_GRAVITY
 from .chain_keys import hold_on_twos, reduce_keys
 from .chain_parameters import ChainParameters, LinkCoefficients, coefficient_arrays
-from .chain_samples import check_samples, frame_accelerations, midpoint_values, split_segments
+from .chain_samples import check_drive, check_samples, frame_accelerations, midpoint_values, split_segments
 from .errors import InvalidGoalError
 from .rotation_vectors import (
     quaternion_conjugate,
@@ -201,6 +201,7 @@ def bake_chains(times, heads, rotations, parents, parameters, gravity=(0.0, 0.0,
             continue  # a lone sample after a cut is the animated pose itself
         seg_times = times[lo:hi]
         accel, alpha = frame_accelerations(seg_times, heads[lo:hi], rots[lo:hi], options.cyclic)
+        check_drive(accel, alpha, seg_times, lo)
         per_frame = {"directions": rots[lo:hi, :, :, 1], "g_eff": accel, "alpha": alpha}
         drive = {}
         for name, value in per_frame.items():

@@ -151,9 +151,9 @@ def nearest_rotations(matrices, name="rotations"):
     rot = u @ vt
     det = np.linalg.det(rot)
     if np.any(det < 0.0):
-        where = np.argwhere(det < 0.0)[0]
+        where = tuple(int(i) for i in np.argwhere(det < 0.0)[0])
         raise InvalidTrajectoryError(
-            f"{name}{list(where)} is mirrored (negative scale, determinant {det[tuple(where)]:.3g}); "
+            f"{name}{list(where)} is mirrored (negative scale, determinant {det[where]:.3g}); "
             "apply or remove the negative scale before baking"
         )
     return rot
