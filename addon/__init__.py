@@ -46,8 +46,11 @@ the active object when that is empty):
     keys (saved, and restored by ``remove_written``); 'LAYER' leaves them
     untouched and writes the jump as offsets on the NLA track ``lw:blocking``
     (blend COMBINE), pushing the active action into the track
-    ``lw:your animation`` while the layer exists. Bad input is reported as an
-    error (a RuntimeError from ``bpy.ops``) and changes nothing.
+    ``lw:your animation`` while the layer exists. Without a clash every mode
+    writes into the action. Bad input is reported as an error (a RuntimeError
+    from ``bpy.ops``) and changes nothing. Markers are per scene: a run
+    replaces every ``lw:`` marker. The body's base is its pose before
+    leapwright first animated it, so re-runs from any frame do not stack.
 ``remove_written()``
     Removes every curve, layer, marker and ``lw_`` property leapwright wrote on
     the rig and restores replaced keys and the pushed action exactly.
