@@ -27,6 +27,7 @@ import numpy as np
 from . import constants as C
 from .errors import InvalidGoalError, require_finite
 from .keys import HermiteKeys, evaluate_hermite
+from .rotation_vectors import matrix_to_quaternion, quaternion_conjugate, quaternion_multiply
 
 _DEG = math.pi / 180.0
 
@@ -264,13 +265,6 @@ def arm_directions(plane, angles):
     return np.cos(th) * (-plane.up) + np.sin(th) * plane.forward
 
 
-def _qmul(p, q):
-    w1, x1, y1, z1 = np.moveaxis(p, -1, 0)
-    w2, x2, y2, z2 = np.moveaxis(q, -1, 0)
-    return np.stack([w1 * w2 - x1 * x2 - y1 * y2 - z1 * z2, w1 * x2 + x1 * w2 + y1 * z2 - z1 * y2,
-                     w1 * y2 - x1 * z2 + y1 * w2 + z1 * x2, w1 * z2 + x1 * y2 - y1 * x2 + z1 * w2], axis=-1)
-
-
 def _drop_rotation(plane):
     """Quaternion (w, x, y, z) turning the rest arm onto hanging straight down (shortest arc)."""
     down = -plane.up
@@ -292,11 +286,11 @@ def swing_rotations(plane, angles, rates=None):
     half = 0.5 * th[..., None]
     turn = np.concatenate([np.cos(half), np.sin(half) * plane.axis], axis=-1)
     drop = _drop_rotation(plane)
-    q = _qmul(turn, drop)
+    q = quaternion_multiply(turn, drop)
     if rates is None:
         return q
     dturn = 0.5 * np.concatenate([-np.sin(half), np.cos(half) * plane.axis], axis=-1)
-    return q, _qmul(dturn, drop) * np.asarray(rates, dtype=float)[..., None]
+    return q, quaternion_multiply(dturn, drop) * np.asarray(rates, dtype=float)[..., None]
 
 
 def bone_local_rotations(quats, bone_rest_rotation):
@@ -310,18 +304,9 @@ def bone_local_rotations(quats, bone_rest_rotation):
     if m.shape != (3, 3) or not np.all(np.isfinite(m)) or abs(np.linalg.det(m) - 1.0) > 1e-3:
         raise InvalidGoalError("bone rest rotation must be a finite 3x3 rotation matrix (det 1); "
                                "pass the 3x3 part of the bone's rest matrix")
-    w = math.sqrt(max(0.0, 1.0 + np.trace(m))) / 2.0
-    if w > 1e-3:
-        b = np.array([w, (m[2, 1] - m[1, 2]) / (4 * w), (m[0, 2] - m[2, 0]) / (4 * w), (m[1, 0] - m[0, 1]) / (4 * w)])
-    else:  # half-turn: axis from the largest diagonal (Shepperd 1978)
-        i = int(np.argmax(np.diag(m)))
-        j, k = (i + 1) % 3, (i + 2) % 3
-        r = math.sqrt(max(0.0, 1.0 + m[i, i] - m[j, j] - m[k, k]))
-        b = np.zeros(4)
-        b[0], b[1 + i] = (m[k, j] - m[j, k]) / (2 * r), r / 2
-        b[1 + j], b[1 + k] = (m[j, i] + m[i, j]) / (2 * r), (m[k, i] + m[i, k]) / (2 * r)
-    bc = b * np.array([1.0, -1.0, -1.0, -1.0])
-    return _qmul(_qmul(bc, np.asarray(quats, dtype=float)), b)
+    b = matrix_to_quaternion(m)
+    bc = quaternion_conjugate(b)
+    return quaternion_multiply(quaternion_multiply(bc, np.asarray(quats, dtype=float)), b)
 
 
 def quaternion_keys(swing, plane, bone_rest_rotation=None, max_step_deg=15.0):
