@@ -18,6 +18,7 @@ import numpy as np
 from .piecewise import quintic_between
 
 _SAMPLES = 97
+_FORCE_MARGIN = 2e-3  # BW kept above zero on the samples so the force stays >= 0 between them
 _GOLDEN = 0.5 * (np.sqrt(5.0) - 1.0)
 
 # Piece kinds and the sign its vertical speed must keep inside the piece.
@@ -130,7 +131,11 @@ def _feasible_interval(spec, samples):
     lo, hi = -np.inf, np.inf
     g = spec.gravity
     for (acc, speed), kind in zip(samples, (spec.first_kind, spec.second_kind)):
-        constraints = [(acc[0] + g, acc[1])]  # a >= -g: the ground cannot pull
+        # a >= -g: the ground cannot pull. Inside the piece a small margin keeps the
+        # limit between samples too; the ends may sit exactly at -g (take-off, touchdown).
+        margin = np.full(acc[0].shape, g * _FORCE_MARGIN)
+        margin[[0, -1]] = 0.0
+        constraints = [(acc[0] + g - margin, acc[1])]
         sign = _SPEED_SIGN[kind]
         # Speed must keep its sign strictly inside the piece (ends are 0 or given).
         inner = slice(1, -1)

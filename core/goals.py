@@ -11,6 +11,12 @@ MAX_LENGTH = 1_000.0
 #: Largest duration [s] and number of hops accepted.
 MAX_DURATION = 600.0
 MAX_HOPS = 50
+#: Smallest length [m] and duration [s] a positive goal may take: below them the
+#: numbers say more about a typo than about a jump, and the solver would underflow.
+MIN_LENGTH = 1e-3
+MIN_DURATION = 1e-3
+_OPTIONAL = ("height", "flight_time", "takeoff_speed", "depth", "dip_duration", "push_duration",
+             "takeoff_extension", "landing_depth", "landing_duration", "recovery_duration", "mass")
 
 
 @dataclass(frozen=True)
@@ -92,6 +98,8 @@ class JumpGoals:
                 "e.g. --height 0.4")
         for f in fields(self):
             value = getattr(self, f.name)
+            if value is None and f.name not in _OPTIONAL:
+                raise InvalidGoalError(f"{f.name} needs a value (got None); leave it out to use the default")
             if value is None or f.name == "hops":
                 continue
             x = require_finite(f.name, value)
@@ -109,6 +117,13 @@ class JumpGoals:
                          "fall_gravity_scale": 100.0}[f.name]
             if x > limit:
                 raise InvalidGoalError(f"{f.name} {x:g} is above the limit {limit:g}; check the units")
+            floor = {"gravity": 0.01, "mass": 1e-3, "friction": 1e-3, "fall_gravity_scale": 0.01}.get(
+                f.name, MIN_DURATION if f.name.endswith(("duration", "time", "hang")) else MIN_LENGTH)
+            if f.name == "takeoff_speed":
+                floor = 1e-3
+            if 0 < x < floor:
+                raise InvalidGoalError(f"{f.name} {x:g} is below the smallest accepted value {floor:g}; "
+                                       "check the units")
         if isinstance(self.hops, bool) or not isinstance(self.hops, int) or not 1 <= self.hops <= MAX_HOPS:
             raise InvalidGoalError(f"hops must be a whole number from 1 to {MAX_HOPS}, got {self.hops!r}")
 
