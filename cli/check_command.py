@@ -179,8 +179,8 @@ def report_text(result, path):
     for i, f in enumerate(result.flights, start=1):
         lines.append(
             f"  flight {i}: frames {frame_text(f.first_frame)}-{frame_text(f.last_frame)}, implied g "
-            f"{f.gravity_m_s2:.3f} m/s^2 ({f.gravity_m_s2 / g:.2f} g), apex +{f.rise_m:.3f} m at frame "
-            f"{frame_text(round(f.apex_frame, 2))}, hang {f.hang_time_s:.3f} s "
+            f"{f.gravity_m_s2:.3f} m/s^2 ({f.gravity_m_s2 / g:.2f} g), top {f.rise_m:.3f} m above frame "
+            f"{frame_text(f.first_frame)} at frame {frame_text(round(f.apex_frame, 2))}, hang {f.hang_time_s:.3f} s "
             f"(under {g:g} m/s^2: {f.expected_hang_time_s:.3f} s), fit within {f.max_residual_m * 1000:.3f} mm")
         if f.rise_gravity_m_s2 != f.fall_gravity_m_s2:
             lines.append(f"    rise g {f.rise_gravity_m_s2:.3f}, fall g {f.fall_gravity_m_s2:.3f} m/s^2, "

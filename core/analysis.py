@@ -13,6 +13,14 @@ multiplied by ``character_scale = g_true / g_implied`` (a flight that hangs twic
 long implies g/4 and is right for a character 4 times the size), or, keeping the
 size, when its flight is retimed by ``sqrt(g_implied / g_true)`` (half as long).
 
+Findings
+--------
+Each finding's ``kind`` is one of :data:`core.findings.FINDING_KINDS` (not_ballistic,
+floaty_gravity, heavy_gravity, stylised_fall_gravity, apex_hang,
+dip_faster_than_free_fall, forward_speed_changes_in_flight, foot_slides_in_contact,
+leg_overstretched, push_beyond_human, landing_too_hard, landing_too_soft); the two
+stylisations are reported with their physical equivalent but are not problems.
+
 References
 ----------
 McMahon, Suchomel, Lake & Comfort 2018, Strength Cond J 40(4):96-106: force-plate
@@ -309,7 +317,7 @@ def analyse_trajectory(frames, positions, fps, *, gravity=BLENDER_DEFAULT_GRAVIT
     flights, spans = [flights[i] for i in kept], [spans[i] for i in kept]
 
     findings = []
-    findings += contact_checks.arc_findings(frames, accel, arcs)
+    findings += contact_checks.arc_findings(frames, times, pos[:, 2], accel, arcs, scene_g, fps)
     longest = None
     if flights:
         longest = max(range(len(flights)), key=lambda i: (flights[i].hang_time_s, -i))
@@ -317,7 +325,7 @@ def analyse_trajectory(frames, positions, fps, *, gravity=BLENDER_DEFAULT_GRAVIT
             findings += gravity_findings(f, scene_g)
     for flight, span in zip(flights, spans):
         findings += contact_checks.forward_findings(frames, times, pos, keep, span, tol)
-    findings += contact_checks.dip_findings(frames, force, spans, keep, stepped)
+    findings += contact_checks.dip_findings(frames, force, spans, keep, arcs)
     hops = contact_checks.hop_forces(frames, pos[:, 2], force, flights, spans, fps)
     findings += contact_checks.force_findings(hops)
     for foot in feet:

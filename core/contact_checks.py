@@ -17,6 +17,7 @@ from .constants import LANDING_FORCE_GRADES, PUSH_FORCE_GRADES, TAKEOFF_SPEED_GR
 from .constants import UNWEIGHTING_FORCE_FLOOR_GRADES
 from .errors import InvalidTrajectoryError
 from .findings import Finding, frame_text, grade
+from .parabola import fit_parabola
 
 #: An arc is a run of downward acceleration stronger than this fraction of g.
 ARC_ACCELERATION_FRACTION = 0.1
@@ -124,17 +125,27 @@ def non_ballistic_arcs(z, accel, spans, scene_g):
     return out
 
 
-def arc_findings(frames, accel, arcs):
-    """``not_ballistic`` for each arc of :func:`non_ballistic_arcs`."""
+def arc_findings(frames, times, z, accel, arcs, scene_g, fps):
+    """``not_ballistic`` for each arc of :func:`non_ballistic_arcs`, with the closest parabola."""
     out = []
+    step_cm = 100.0 * scene_g / fps ** 2
     for a, b in arcs:
-        lo, hi = float(-np.max(accel[a:b + 1])), float(-np.min(accel[a:b + 1]))
+        seg = accel[a:b + 1]
+        hard, soft = a + int(np.argmin(seg)), a + int(np.argmax(seg))
+        fit = fit_parabola(times[a:b + 1], z[a:b + 1])
+        closest = ""
+        if fit.gravity > 0:
+            closest = (f"; the closest free-fall arc has g = {fit.gravity:.2f} m/s^2 "
+                       f"({fit.gravity / scene_g:.2f} g) and misses by up to {fit.max_abs * 1000:.0f} mm")
         out.append(Finding(
             "not_ballistic", frames[a], frames[b],
             f"frames {frame_text(frames[a])}-{frame_text(frames[b])} rise and fall, but the downward "
-            f"acceleration varies from {lo:.2f} to {hi:.2f} m/s^2; free fall keeps it constant",
-            "key the airborne frames so that frame-to-frame drops grow by the same amount every frame "
-            "(g/fps^2), e.g. with the planner's arc"))
+            f"acceleration varies from {-accel[soft]:.2f} m/s^2 (frame {frame_text(frames[soft])}) to "
+            f"{-accel[hard]:.2f} m/s^2 (frame {frame_text(frames[hard])}); free fall keeps it constant"
+            + closest,
+            f"give the arc the same curvature everywhere: frame-to-frame drops growing by "
+            f"{step_cm:.2f} cm each frame at {fps:g} fps (g/fps^2), e.g. from the planner's arc; "
+            "an apex rounder than the sides reads as a float, a sharper one as a bounce"))
     return out
 
 
@@ -163,12 +174,16 @@ def forward_findings(frames, times, pos, keep, span, tol):
         "on average), with linear interpolation on the forward channel")]
 
 
-def dip_findings(frames, force, spans, keep, stepped):
-    """``dip_faster_than_free_fall`` where, in contact, apparent weight is below zero."""
+def dip_findings(frames, force, spans, keep, arcs=()):
+    """``dip_faster_than_free_fall`` where, in contact, apparent weight is below zero.
+
+    Flights (with the two key samples the local fit reaches into them) and arcs that
+    are already reported as not ballistic are left out: neither is a dip.
+    """
     n = len(force)
     spacing = int(np.median(np.diff(keep))) if len(keep) > 1 else 1
-    # The local fit window reaches two key samples into a flight: those frames read the flight.
     mask = (force < DIP_FORCE_FLOOR_BW) & ~_in_flight(n, spans, margin=2 * spacing)
+    mask &= ~_in_flight(n, arcs)
     out = []
     for a, b in _runs(mask):
         worst = a + int(np.argmin(force[a:b + 1]))

@@ -269,13 +269,23 @@ def find_ballistic_stretches(t, z, tol, min_gravity, noise_sd=0.0):
         fit = fit_parabola(t[s:s + m], z[s:s + m])
         if fit.max_abs <= tol and fit.gravity >= min_gravity:
             seeds.append((fit.max_abs, s))
-    # Every seed is grown: greedy growth from one seed can take in a contact sample
-    # and stop short, while a neighbouring seed reaches the whole flight. The longest
-    # results win; grown ranges repeat, so each is finished once.
+    # Greedy growth from one seed can take in a contact sample and stop short at the
+    # other end; regrowing from the middle of what it reached undoes that. Seeds inside
+    # a range already grown add nothing new and are skipped.
     free = np.zeros(n, bool)
+    visited = np.zeros(n, bool)
     candidates = {}
     for _, s in seeds:
+        if visited[s:s + m].all():
+            continue
         first, last, _ = _grow(t, z, s, s + m - 1, tol, free)
+        for _ in range(3):
+            mid = max(min((first + last) // 2 - m // 2, n - m), 0)
+            again = _grow(t, z, mid, mid + m - 1, tol, free)
+            if (again[0], again[1]) == (first, last) or again[1] - again[0] <= last - first:
+                break
+            first, last = again[0], again[1]
+        visited[first:last + 1] = True
         if (first, last) in candidates:
             continue
         first_t, last_t, fit = _trim_edges(t, z, first, last, noise_sd)
