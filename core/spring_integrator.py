@@ -169,7 +169,7 @@ def _remainder(psi, d0, ge, al, gain, g_ref, stiff_in):
     """
     d = rotate(psi, d0)
     torque = gain[:, None] * (cross(d, ge) - cross(d0, g_ref))
-    across = al - np.sum(al * d, axis=-1)[:, None] * d
+    across = al - np.sum(al * d, axis=-1, keepdims=True) * d
     return torque - across + stiff_in[:, None] * psi
 
 
@@ -235,13 +235,14 @@ def integrate(slots, coefficients, times, drive, g_ref, state, substeps=1, want_
         nodes = [(drive[name][f], drive[name + "_mid"][f], drive[name][f + 1]) for name in names]
         for s in range(substeps):
             psi0 = x[:, :n].reshape(trees * n, 3)
-            samples = [[_quadratic(*node, (s + w) / substeps) for node in nodes] for w in (0.0, 0.5, 1.0)]
-            for d0, _, _ in samples:
-                d0 /= np.linalg.norm(d0, axis=-1, keepdims=True)
-            d_mid = rotate(psi0, samples[1][0])
+            # the drive at the substep's start, middle and end, stacked on a first axis
+            w = ((s + np.array([0.0, 0.5, 1.0])) / substeps)[:, None, None]
+            d0, ge, al = (_quadratic(*node, w) for node in nodes)
+            d0 = d0 / np.linalg.norm(d0, axis=-1, keepdims=True)
+            d_mid = rotate(psi0, d0[1])
             # a buckling (negative) net stiffness stays in the held force, so the
             # exponential never grows; the angle limit then bounds the offset
-            stiff_in = np.maximum(gain * np.sum(d_mid * samples[1][1], axis=-1), -k.ravel())
+            stiff_in = np.maximum(gain * np.sum(d_mid * ge[1], axis=-1), -k.ravel())
             m = template * h
             m[:, n + idx, idx] = -(k + stiff_in.reshape(trees, n)) * h
             m[:, 2 * n + idx, 3 * n + idx] = 1.0
@@ -251,17 +252,15 @@ def integrate(slots, coefficients, times, drive, g_ref, state, substeps=1, want_
             free = phi @ x
             # predictor with the remainder force at the starting offsets, then a
             # corrector with it along the predicted path (second order overall)
-            path = (psi0, psi0, psi0)
+            path = np.broadcast_to(psi0, (3,) + psi0.shape)
             for _ in range(2):
-                fs, fm, fe = (
-                    _remainder(psi, d0, ge, al, gain, g_ref, stiff_in) for psi, (d0, ge, al) in zip(path, samples)
-                )
+                fs, fm, fe = _remainder(path, d0, ge, al, gain, g_ref, stiff_in)
                 inputs = (fs, -3.0 * fs + 4.0 * fm - fe, 4.0 * fs - 8.0 * fm + 4.0 * fe)
                 x = free.copy()
                 for j, u in enumerate(inputs):
                     x += e[:, :2 * n, (2 + j) * n:(3 + j) * n] @ u.reshape(trees, n, 3)
                 end = x[:, :n].reshape(trees * n, 3)
-                path = (psi0, 0.5 * (psi0 + end), end)
+                path = np.stack([psi0, 0.5 * (psi0 + end), end])
             psi, vel = _limit_joints(x[:, :n], x[:, n:], slots, limit)
             x = np.concatenate([psi, vel], axis=1)
             if want_monodromy:
