@@ -18,9 +18,9 @@ KEY_TOLERANCE = 5e-4  # m, the core's default Hermite key tolerance
 USER_MARKER = ("beat", 12)
 
 
-def _rig_with_user_animation():
+def _rig_with_user_animation(frames=(1, 20, 40)):
     rig = build_rig()
-    add_user_keys(rig)
+    add_user_keys(rig, frames=frames)
     bpy.context.scene.timeline_markers.new(USER_MARKER[0], frame=USER_MARKER[1])
     rig["notes"] = "animator's own property"
     configure(rig, height=0.4, distance=0.3, foot_left="foot.L", foot_right="foot.R")
@@ -40,8 +40,10 @@ def _user_records(rig, action):
                   if not (fc.group and fc.group.name.startswith("lw:")))
 
 
-def test_layer_keeps_user_keys_byte_identical_and_adds_the_plan_on_top():
-    rig = _rig_with_user_animation()
+@pytest.mark.parametrize("user_frames", [(1, 20, 40), (3.5, 20.25, 41)])
+def test_layer_keeps_user_keys_byte_identical_and_adds_the_plan_on_top(user_frames):
+    # Keys off whole frames: the pushed strip must not shift them in time.
+    rig = _rig_with_user_animation(user_frames)
     plan = addon().plan_link.plan_for(bpy.context.scene)[0]
     fps = addon().plan_link.scene_fps(bpy.context.scene)
     frames = 1 + np.linspace(0.0, plan.duration_s, 61) * fps
@@ -59,6 +61,10 @@ def test_layer_keeps_user_keys_byte_identical_and_adds_the_plan_on_top():
     t = (frames - 1) / fps
     plan_shift = np.outer(plan.forward(t), [0.0, -1.0, 0.0]) + np.outer(plan.height(t), [0.0, 0.0, 1.0])
     assert np.max(np.abs(layered - (user_only + plan_shift))) <= KEY_TOLERANCE + 1e-5
+    before_remove = _user_records(rig, action)
+    assert run_remove(rig) == {"FINISHED"}
+    assert _user_records(rig, action) == before_remove
+    assert np.max(np.abs(world_path(rig, "hips", frames) - user_only)) < 1e-6
 
 
 def test_replace_writes_over_user_keys_and_remove_brings_them_back():
