@@ -135,7 +135,8 @@ def test_quaternion_keys_follow_the_swing_within_half_a_degree():
     quats = []
     for c in curves:
         # Handles at thirds make a Bezier's time linear in u: y(u) is the cubic Bernstein form.
-        p0, p1, p2, p3 = c.values[:-1, None], c.right_handles[:-1, 1, None], c.left_handles[1:, 1, None], c.values[1:, None]
+        p0, p3 = c.values[:-1, None], c.values[1:, None]
+        p1, p2 = c.right_handles[:-1, 1, None], c.left_handles[1:, 1, None]
         quats.append((1 - u) ** 3 * p0 + 3 * (1 - u) ** 2 * u * p1 + 3 * (1 - u) * u**2 * p2 + u**3 * p3)
     q = np.stack(quats, axis=-1).reshape(-1, 4)
     q /= np.linalg.norm(q, axis=1, keepdims=True)

@@ -7,7 +7,8 @@ import pytest
 from hypothesis import HealthCheck, given, settings, strategies as st
 from scipy.interpolate import PchipInterpolator
 
-from core.arm_swing import BezierKeys, SwingAmplitudes, arm_com_distance, arm_mass_fraction, bezier_from_hermite, place_swing
+from core.arm_swing import (BezierKeys, SwingAmplitudes, arm_com_distance, arm_mass_fraction, bezier_from_hermite,
+                            place_swing)
 from core.errors import InvalidGoalError, InvalidTrajectoryError, LeapwrightError
 from core.feet import foot_ball_path
 from core.goals import JumpGoals
