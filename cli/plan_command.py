@@ -43,6 +43,8 @@ def add_parser(subparsers):
     p.add_argument("--hops", type=int, default=1, help="number of hops (default 1)")
     p.add_argument("--fps", default="24", help="frame rate: 24, 23.976 or 24000/1001 (default 24)")
     p.add_argument("--start-frame", type=float, default=1.0, help="frame of time 0 (default 1)")
+    p.add_argument("--arm-swing", type=float, metavar="DEG",
+                   help="place an arm swing peaking at this elevation [deg] and report its timing and gain")
     p.add_argument("--tolerance", type=float, default=5e-4, help="key tolerance [m] (default 0.0005)")
     out = p.add_mutually_exclusive_group()
     out.add_argument("--json", action="store_true", help="print one JSON object")
@@ -150,14 +152,24 @@ def run(args):
         raise InvalidGoalError(f"--start-frame must be finite, got {args.start_frame}")
     goals = goals_from_args(args, fps)
     plan = plan_jump(goals)
+    swing_lines = ()
+    if args.arm_swing is not None:
+        from core.arm_swing import SwingAmplitudes
+        from core.swing_timing import plan_swing_report
+
+        swing_lines = plan_swing_report(plan, SwingAmplitudes(upswing_deg=args.arm_swing), fps)
     if args.chart:
         write_chart(plan, args.chart, fps, args.start_frame)
     if args.csv:
         print(_csv(plan, fps, args.start_frame))
     elif args.json:
-        print(json.dumps(plan_summary(plan, fps, args.start_frame, args.tolerance), allow_nan=False))
+        summary = plan_summary(plan, fps, args.start_frame, args.tolerance)
+        summary["arm_swing"] = list(swing_lines)
+        print(json.dumps(summary, allow_nan=False))
     else:
         print(_table(plan_summary(plan, fps, args.start_frame, args.tolerance)))
+        for line in swing_lines:
+            print(f"  {line}")
     return 0
 
 

@@ -105,3 +105,14 @@ def test_flight_frames_goal():
     assert data["flight_time_s"] == pytest.approx(0.5)
     # h = g T^2 / 8 for a level flight (projectile motion).
     assert data["apex_rise_m"] == pytest.approx(C.STANDARD_GRAVITY * 0.25 / 8)
+
+
+def test_arm_swing_report_names_its_sources_and_peaks_at_takeoff():
+    out = leapwright("plan", "--height", "0.3", "--arm-swing", "90", "--json")
+    assert out.returncode == 0, out.stderr
+    data = json.loads(out.stdout)
+    lines = data["arm_swing"]
+    assert any("Lees et al. 2004" in line for line in lines)
+    assert not any("after take-off" in line for line in lines)  # a placed swing is on time
+    bad = leapwright("plan", "--height", "0.3", "--arm-swing", "nan")
+    assert bad.returncode == 2 and len(bad.stderr.strip().splitlines()) == 1
