@@ -155,8 +155,8 @@ class LEAPWRIGHT_OT_write_blocking(bpy.types.Operator):
             scene.timeline_markers.new(name, frame=frame)
         n_keys = sum(len(x.frames) for x in specs) + len(weight.frames)
         hops = plan.hops
-        how = "as a layer over your keys" if layered else ("over your keys" if clashes else "")
-        self.report({"INFO"}, f"wrote {n_keys} keys on '{rig.name}' {how}: {len(hops)} hop(s), "
+        how = " as a layer over your keys" if layered else (" over your keys" if clashes else "")
+        self.report({"INFO"}, f"wrote {n_keys} keys on '{rig.name}'{how}: {len(hops)} hop(s), "
                               f"{hops[0].flight_time_s * work['timeline'].fps:.1f} frames in the air")
         for w in work["readout"]["warnings"]:
             self.report({"WARNING"}, w)
