@@ -4,6 +4,26 @@ The add-on samples the evaluated rig once per frame, in world space and scene
 time, and calls :func:`bake_chains`; it gets back, per frame and bone, the rotation
 to multiply onto the bone's animated local rotation (key it as a delta).
 
+Calling from the add-on (F samples, B chosen bones)::
+
+    bake = bake_chains(
+        times,        # (F,) scene seconds of each sample (NLA offsets already applied)
+        heads,        # (F, B, 3) world head positions [m] (matrix_world @ pose head)
+        rotations,    # (F, B, 3, 3) world rotation of each bone (matrix_world @ pose matrix,
+                      #   3x3 part; scale is removed here); the bone points along column 1 (+Y)
+        parents,      # (B,) index of the nearest chosen ancestor, -1 for a chain's first bone
+        chain_preset("hair"),            # or ChainParameters(...), or one per bone
+        gravity=(0, 0, -9.80665),        # scene gravity [m/s^2], world axes
+        options=BakeOptions(cyclic=False, resets=(), key_tolerance=0.0, on_twos=False),
+    )
+    bake.quaternions  # (F, B, 4) w, x, y, z: key pose_bone basis' = basis @ delta
+    bake.rotvecs      # (F, B, 3) the same as rotation vectors [rad], bone-local axes
+    bake.key_mask     # (F, B) which samples to key; bake.stepped -> CONSTANT interpolation
+    bake.peak_offsets # (B,) largest delta angle [rad], for the readout
+
+With the NLA COMBINE blend, quaternions multiply on the right (``lower @ delta``),
+which is the convention of the deltas here.
+
 Model (details in :mod:`.spring_integrator`): every chosen bone is a point mass on
 a rigid link held by a damped rotational spring to its chain parent. It feels the
 effective gravity ``g_eff = g - a_head`` (``|g_eff| = W/m``, zero in flight) and the

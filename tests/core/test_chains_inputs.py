@@ -131,7 +131,7 @@ def rigs(draw):
     return np.arange(frames) / fps, heads, rot, parents
 
 
-@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(
     rig=rigs(),
     frequency=st.floats(0.05, 2000.0),
