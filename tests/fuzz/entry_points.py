@@ -8,6 +8,7 @@ errors (a rejection). Anything else is a crash.
 import numpy as np
 from hypothesis import strategies as st
 
+from core.errors import LeapwrightError
 from core.goals import JumpGoals
 from core.keys import held_pose_keys, hermite_keys
 from core.planner import plan_jump
@@ -18,7 +19,32 @@ wild = st.one_of(st.floats(), st.floats(-5.0, 5.0, **FINITE), st.none())
 
 
 @st.composite
-def goal_dicts(draw):
+def sensible_goal_dicts(draw):
+    """Goals an animator might type: mostly valid, some infeasible combinations."""
+    kind = draw(st.sampled_from(["height", "flight_time", "takeoff_speed"]))
+    kw = {kind: draw(st.floats(0.02, 2.5, **FINITE))}
+    kw["distance"] = draw(st.floats(-1.5, 2.5, **FINITE))
+    kw["landing_height"] = draw(st.floats(-1.0, 0.8, **FINITE))
+    kw["gravity"] = draw(st.sampled_from([9.80665, 9.81, 1.62, 3.71, 24.8]))
+    kw["hops"] = draw(st.integers(1, 3))
+    kw["standing_com_height"] = draw(st.floats(0.3, 2.5, **FINITE))
+    for name, lo, hi in (("depth", 0.05, 0.7), ("dip_duration", 0.15, 1.2), ("push_duration", 0.1, 0.6),
+                         ("landing_depth", 0.15, 0.7), ("fall_gravity_scale", 0.5, 3.0), ("apex_hang", 0.0, 0.3)):
+        if draw(st.integers(0, 3)) == 0:
+            kw[name] = draw(st.floats(lo, hi, **FINITE))
+    return kw
+
+
+def goal_dicts():
+    return st.one_of(sensible_goal_dicts(), wild_goal_dicts())
+
+
+class CliRejected(LeapwrightError):
+    """The command line refused the input with exit code 2 (counted as a rejection)."""
+
+
+@st.composite
+def wild_goal_dicts(draw):
     kw = {}
     for name in ("height", "flight_time", "takeoff_speed"):
         if draw(st.booleans()):
@@ -70,6 +96,8 @@ def _cli(argv):
         raise AssertionError(f"exit code {code!r} for {argv}")
     if code == 2 and (len(err.getvalue().strip().splitlines()) != 1 or "Traceback" in err.getvalue()):
         raise AssertionError(f"bad-input message is not one line for {argv}: {err.getvalue()!r}")
+    if code == 2:
+        raise CliRejected(err.getvalue().strip())
     return [float(code)]
 
 
