@@ -79,9 +79,10 @@ def test_readout_follows_the_values_as_they_change():
     g = 9.80665  # the stored float32 value stands for standard gravity (3rd CGPM 1901)
     for h, frames in ((low, first), (high, second)):
         assert frames == pytest.approx(2 * (2 * h / g) ** 0.5 * fps, rel=1e-9)
-    scene.unit_settings.scale_length = 0.01  # the same 0.6 BU is now 6 mm of rise
+    scene.unit_settings.scale_length = 0.01  # centimetre units: 60 BU of rise is 0.6 m
+    s.height, s.standing_com_height = 60.0, 100.0
     assert addon().plan_link.plan_for(scene)[1]["flight_frames"][0] == pytest.approx(
-        2 * (2 * high * scene.unit_settings.scale_length / g) ** 0.5 * fps, rel=1e-9)
+        2 * (2 * s.height * scene.unit_settings.scale_length / g) ** 0.5 * fps, rel=1e-9)
 
 
 def test_readout_shows_the_cores_refusal_in_its_own_words():
