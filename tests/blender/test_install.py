@@ -21,10 +21,9 @@ def test_installed_from_the_zip_into_the_user_directory():
 
 
 def test_core_is_vendored_and_plans_inside_blender():
-    core = sys.modules[conftest.MODULE + ".core"] if conftest.MODULE + ".core" in sys.modules else None
-    mod = sys.modules[conftest.MODULE]
     from importlib import import_module
-    core = core or import_module(conftest.MODULE + ".core")
+    mod = sys.modules[conftest.MODULE]
+    core = import_module(conftest.MODULE + ".core")
     planner = import_module(conftest.MODULE + ".core.planner")
     goals = import_module(conftest.MODULE + ".core.goals")
     assert os.path.dirname(core.__file__).startswith(os.path.dirname(mod.__file__))
