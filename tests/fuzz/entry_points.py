@@ -111,6 +111,11 @@ _cli_flags = st.sampled_from(["--height", "--flight-time", "--flight-frames", "-
 
 @st.composite
 def cli_argv(draw):
+    if draw(st.booleans()):
+        argv = ["plan", "--height", str(draw(st.floats(0.05, 1.5, **FINITE))), "--fps", draw(
+            st.sampled_from(["24", "23.976", "24000/1001", "30", "60"]))]
+        argv += draw(st.sampled_from([[], ["--hops", "2"], ["--distance", "0.8"], ["--landing-height", "0.2"]]))
+        return argv + [draw(st.sampled_from(["--json", "--csv"]))]
     argv = ["plan"]
     for _ in range(draw(st.integers(0, 4))):
         argv += [draw(_cli_flags), draw(_cli_values)]
@@ -132,3 +137,160 @@ def all_finite(values):
         if not np.all(np.isfinite(a)):
             return False
     return True
+
+
+# --- analysis, chains, body mass, in-air correction, arm swing -----------------------
+
+def _planned_track(kw, fps):
+    plan = plan_jump(JumpGoals(**kw))
+    s = plan.sample(fps)
+    return s.times, np.column_stack([np.zeros_like(s.forward), -s.forward, s.height + 1.0])
+
+
+@st.composite
+def trajectories(draw):
+    """A planned jump with noise, a random walk, or raw wild numbers, as (frames, xyz, fps)."""
+    fps = draw(st.sampled_from([12.0, 24.0, 24000 / 1001, 30.0, 60.0]))
+    kind = draw(st.integers(0, 2))
+    seed = draw(st.integers(0, 2**31 - 1))
+    rng = np.random.default_rng(seed)
+    if kind == 0:
+        kw = draw(sensible_goal_dicts())
+        try:
+            times, xyz = _planned_track(kw, fps)
+        except LeapwrightError:
+            times = np.arange(40) / fps
+            xyz = np.zeros((40, 3))
+        xyz = xyz + rng.normal(0.0, draw(st.sampled_from([0.0, 1e-4, 1e-3, 1e-2])), xyz.shape)
+        return times * fps + 1.0, xyz, fps
+    n = draw(st.integers(0, 80))
+    if kind == 1:
+        return np.arange(n, dtype=float), np.cumsum(rng.normal(0, 0.05, (n, 3)), axis=0), fps
+    values = draw(st.lists(st.floats(), min_size=3 * n, max_size=3 * n))
+    return np.arange(n, dtype=float), np.array(values, dtype=float).reshape(n, 3), draw(st.floats())
+
+
+def _analysis(example):
+    from core.analysis import analyse_trajectory
+
+    frames, xyz, fps = example
+    a = analyse_trajectory(frames, xyz, fps)
+    out = [a.height_m, a.vertical_speed_m_s, a.force_bw, a.noise_m]
+    if a.implied_gravity_m_s2 is not None:
+        out.append(a.implied_gravity_m_s2)
+    return out
+
+
+@st.composite
+def chain_drives(draw):
+    """One or two hanging chains driven by a planned jump's COM, or by random motion."""
+    from core.chain_presets import CHAIN_PRESETS
+
+    fps = draw(st.sampled_from([24.0, 30.0, 60.0]))
+    n_bones = draw(st.integers(1, 4))
+    rng = np.random.default_rng(draw(st.integers(0, 2**31 - 1)))
+    try:
+        times, root = _planned_track(draw(sensible_goal_dicts()), fps)
+    except LeapwrightError:
+        times = np.arange(30) / fps
+        root = np.cumsum(rng.normal(0, 0.01, (30, 3)), axis=0)
+    tilt = draw(st.floats(0.0, 1.4, **FINITE))
+    direction = np.array([0.0, np.sin(tilt), -np.cos(tilt)])
+    length = draw(st.floats(0.02, 0.5, **FINITE))
+    heads = root[:, None, :] + (np.arange(n_bones) * length)[None, :, None] * direction[None, None, :]
+    # Bone +Y along the hanging direction: a rotation whose second column is `direction`.
+    y = direction
+    x = np.array([1.0, 0.0, 0.0])
+    z = np.cross(x, y)
+    rot = np.stack([x, y, z], axis=1)
+    rotations = np.broadcast_to(rot, (len(times), n_bones, 3, 3)).copy()
+    parents = np.arange(n_bones) - 1
+    preset = draw(st.sampled_from(sorted(CHAIN_PRESETS)))
+    cyclic = draw(st.booleans()) and len(times) < 200
+    return times, heads, rotations, parents, preset, cyclic
+
+
+def _chains(example):
+    from core.chain_presets import chain_preset
+    from core.chains import BakeOptions, bake_chains
+
+    times, heads, rotations, parents, preset, cyclic = example
+    bake = bake_chains(times, heads, rotations, parents, chain_preset(preset),
+                       options=BakeOptions(cyclic=cyclic))
+    return [bake.quaternions, bake.rotvecs, bake.peak_offsets]
+
+
+@st.composite
+def bone_clouds(draw):
+    """Random rigs (a chain tree) with random per-bone masses and random poses."""
+    n_bones = draw(st.integers(1, 8))
+    n_frames = draw(st.integers(1, 20))
+    parents = [-1] + [draw(st.integers(0, i - 1)) for i in range(1, n_bones)]
+    masses = draw(st.lists(st.one_of(st.floats(0.0, 50.0, **FINITE), st.floats()),
+                           min_size=n_bones, max_size=n_bones))
+    rng = np.random.default_rng(draw(st.integers(0, 2**31 - 1)))
+    heads = rng.normal(0, 0.5, (n_frames, n_bones, 3))
+    tails = heads + rng.normal(0, 0.2, (n_frames, n_bones, 3))
+    return parents, masses, heads, tails
+
+
+def _body_mass(example):
+    from core.body_mass import RigData, mass_model_from_bone_masses, whole_body_com
+
+    parents, masses, heads, tails = example
+    names = [f"b{i}" for i in range(len(parents))]
+    rig = RigData(names, parents, heads[0], tails[0])
+    model = mass_model_from_bone_masses(rig, masses)
+    return [whole_body_com(model, heads, tails)]
+
+
+@st.composite
+def com_tracks(draw):
+    fps = draw(st.sampled_from([24.0, 30.0, 60.0, draw(st.floats())]))
+    try:
+        times, com = _planned_track(draw(sensible_goal_dicts()), 24.0)
+    except LeapwrightError:
+        com = np.zeros((30, 3))
+    n = len(com)
+    first = draw(st.integers(-2, n + 2))
+    last = draw(st.integers(-2, n + 2))
+    return com, [(first, last)], fps
+
+
+def _flight_correction(example):
+    from core.flight_correction import correct_flight
+
+    com, stretches, fps = example
+    c = correct_flight(com, stretches, fps)
+    return [c.offsets, c.velocities, c.largest]
+
+
+@st.composite
+def swing_inputs(draw):
+    from core.arm_swing import SwingAmplitudes
+
+    kw = draw(sensible_goal_dicts())
+    amps = dict(backswing_deg=draw(st.one_of(st.floats(0, 90, **FINITE), st.floats())),
+                upswing_deg=draw(st.one_of(st.floats(10, 180, **FINITE), st.floats())))
+    return kw, amps, SwingAmplitudes
+
+
+def _arm_swing(example):
+    from core.arm_swing import place_swing
+    from core.swing_timing import detect_swing
+
+    kw, amps, cls = example
+    plan = plan_jump(JumpGoals(**kw))
+    swing = place_swing(plan, cls(**amps))
+    t, elevation = swing.sample(24.0, plan.duration_s)
+    found = detect_swing(t, elevation)
+    return [swing.keys.values, swing.keys.slopes, found.peak_s, found.upswing_start_s]
+
+
+ENTRY_POINTS += [
+    ("analysis", trajectories(), _analysis),
+    ("chain dynamics", chain_drives(), _chains),
+    ("segment COM", bone_clouds(), _body_mass),
+    ("in-air correction", com_tracks(), _flight_correction),
+    ("arm swing", swing_inputs(), _arm_swing),
+]
