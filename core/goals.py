@@ -13,8 +13,8 @@ MAX_DURATION = 600.0
 MAX_HOPS = 50
 #: Smallest length [m] and duration [s] a positive goal may take: below them the
 #: numbers say more about a typo than about a jump, and the solver would underflow.
-MIN_LENGTH = 1e-3
-MIN_DURATION = 1e-3
+MIN_LENGTH = 1e-5
+MIN_DURATION = 1e-4
 _OPTIONAL = ("height", "flight_time", "takeoff_speed", "depth", "dip_duration", "push_duration",
              "takeoff_extension", "landing_depth", "landing_duration", "recovery_duration", "mass")
 

@@ -118,15 +118,17 @@ def _prune_held_ends(keys, f, tol):
     Before its first key and after its last an F-curve holds the end value, so a
     standing-still stretch at either end needs no key of its own.
     """
+    start, end = keys.times[0], keys.times[-1]
     while len(keys) > 2:
+        # Everything from the plan's start to the new first key is then held.
         fewer = _subset(keys, slice(1, None))
-        t = np.linspace(keys.times[0], keys.times[1], 4 * _CHECK_POINTS)
+        t = np.linspace(start, fewer.times[0], 4 * _CHECK_POINTS)
         if np.max(np.abs(evaluate_hermite(fewer, t) - f(t))) > tol:
             break
         keys = fewer
     while len(keys) > 2:
         fewer = _subset(keys, slice(None, -1))
-        t = np.linspace(keys.times[-2], keys.times[-1], 4 * _CHECK_POINTS)
+        t = np.linspace(fewer.times[-1], end, 4 * _CHECK_POINTS)
         if np.max(np.abs(evaluate_hermite(fewer, t) - f(t))) > tol:
             break
         keys = fewer
