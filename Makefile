@@ -18,7 +18,7 @@ VPY := $(VENV)/bin/python
 # Shared libraries that `import bpy` needs on Debian (4.2 also libxxf86vm1 libgomp1).
 BPY_SYSLIBS := libx11-6 libxrender1 libxfixes3 libxi6 libxkbcommon0 libsm6 libice6 libgl1 libxxf86vm1 libgomp1
 
-.PHONY: help setup setup-core setup-blender demo plan-demo test test-core test-blender test-blender-4.2 test-blender-4.5 test-blender-newest build fuzz bench clean
+.PHONY: help setup setup-core setup-blender demo plan-demo docs-pictures test test-demo test-core test-blender test-blender-4.2 test-blender-4.5 test-blender-newest build fuzz bench clean
 
 help:
 	@echo "make demo   - build the demo scene and write a jump through the extension (sets itself up)"
@@ -85,7 +85,16 @@ test-blender-4.5: build $(STAMP)/bpy-4.5
 
 test-blender: test-blender-newest test-blender-4.2 test-blender-4.5
 
-test: test-core test-blender
+# The demo runs once and its outputs are checked (the slow tier).
+test-demo: demo
+	$(VPY) -m pytest tests/blender_demo -q
+
+test: test-core test-blender test-demo
+
+# Refresh the committed README pictures from a demo run.
+docs-pictures: build
+	$(VPY) blend_examples/run_demo.py --zip "$$(ls -t dist/leapwright-*.zip | head -n 1)" --out blend_examples/out --docs docs
+	$(VENV)/bin/leapwright plan --height 0.4 --fps 24 --chart docs/plan_force.png > /dev/null
 
 fuzz: $(STAMP)/core
 	$(VPY) tests/fuzz/run_fuzz.py

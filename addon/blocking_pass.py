@@ -153,7 +153,8 @@ def foot_curves(plan, channels, forward, metres_per_unit, timeline, style, tuck_
 def weight_curve(plan, timeline):
     """The apparent weight [BW] on every frame and at each take-off and touchdown."""
     frames_t = np.arange(int(np.floor(plan.duration_s * timeline.fps + 1e-9)) + 1) / timeline.fps
-    t = _union(frames_t, _contact_edges(plan))
+    # The plan's end is keyed too: the value held after it must be standing (1 BW).
+    t = _union(np.append(frames_t, plan.duration_s), _contact_edges(plan))
     return _spec(f'["{WEIGHT_PROPERTY}"]', 0, timeline, t, plan.force_bw(t), np.zeros_like(t), "LINEAR")
 
 

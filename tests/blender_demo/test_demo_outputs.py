@@ -139,9 +139,6 @@ def test_weight_is_one_standing_before_the_jump(probe):
     assert np.all(np.abs(w[still] - 1.0) < 1e-6), w[still]
 
 
-@pytest.mark.xfail(strict=True, reason="the extension keys lw_weight_bw on whole frames only, so the value held "
-                   "after the plan's end is that of the last whole frame before it (0.992 BW in the demo), "
-                   "not the 1 BW of standing; fixed by also keying the plan's end")
 def test_weight_is_one_standing_after_the_jump(probe):
     # Standing still on the crate after the landing: the body weight again (statics).
     w = probe["weight_bw"]
