@@ -57,23 +57,76 @@ the active object when that is empty):
 ``use_active_bone()``
     Sets ``rig`` to the active armature and ``com_bone`` to its active bone.
 
+``bake_lag(bones='', preset='SETTINGS'|'hair'|'cloth'|'tail'|'heavy prop'|'custom')``
+    Drag and follow-through on the chosen bones (the active armature): the
+    named bones (comma-separated), else ``scene.leapwright_lag``'s choice
+    (selected pose bones, or a bone collection). The rig is sampled once per
+    frame in scene time, the chains simulated, and each bone's rotation delta
+    keyed in its own rotation mode (quaternion or Euler; axis-angle is refused)
+    on the NLA track ``lw:lag`` (blend COMBINE, above your keys, which stay
+    untouched). Re-baking replaces the previous bake. Peak offsets [deg] go to
+    ``scene.leapwright_lag.readout`` (JSON).
+``remove_lag()``
+    Removes the bake and restores the bones and animation data exactly.
+
+Follow-through settings, ``scene.leapwright_lag``::
+
+    source            'SELECTED' | 'COLLECTION'; collection  bone collection name
+    preset            'hair' | 'cloth' | 'tail' | 'heavy prop' | 'custom'
+    frequency [Hz], damping_ratio, sag [rad], angle_limit [rad], transmission (0..1)
+                      used when preset is 'custom'
+    use_scene_range   bool; else frame_start, frame_end
+    key_tolerance     [rad], 0 keeps every frame; on_twos, cyclic  bool
+    reset_marker      markers whose name contains it restart the chains
+                      (camera-switch markers always do)
+
+In the air (settings ``scene.leapwright_air``: ``table`` 'de_leva_male' |
+'de_leva_female' | 'dempster_winter'; ``flights`` 'AUTO' | 'MARKERS' |
+'BALLISTIC'; ``carrier_bone`` ("" = the bone every body bone hangs from, or the
+object); ``tolerance`` [scene length]; ``settle_frames``). Bones map to body
+segments by the bone tree, or by the rig's ``lw_body_map`` text
+(``landmark=bone[@tail][+bone]; ...``), or by its ``lw_bone_masses`` text
+(``bone=kg [group]; ...``, for creatures):
+
+``check_body_arc()``
+    Samples the whole-body centre of mass over the scene's frame range and
+    lists (in the panel and as warnings) the flight frames where it leaves its
+    falling arc by more than ``tolerance``, with the torso drop they imply.
+    Writes nothing.
+``keep_body_on_arc()``
+    Offsets the carrier so the centre of mass follows, in each flight (the
+    ``lw:flight`` markers, or its own free-fall stretches), the arc fixed at
+    take-off, limbs as animated; written as deltas on the NLA track ``lw:air``
+    (blend COMBINE). Re-running replaces it. Reports the largest correction.
+``remove_arc_fix()``
+    Removes the ``lw:air`` layer and restores the file as it was.
+``edit_body_map()``
+    Copies the map found from the bone tree into ``lw_body_map`` to edit it.
+
 Bookkeeping for removal is kept in the rig's ``lw_state`` custom property.
 """
 
 import bpy
 
-from . import operators, panel, plan_link, settings
+from . import air_operators, air_panel, air_settings
+from . import lag_operators, lag_panel, lag_settings, operators, panel, plan_link, settings
 
-classes = settings.classes + operators.classes + panel.classes
+classes = (settings.classes + lag_settings.classes + operators.classes + lag_operators.classes + panel.classes
+           + lag_panel.classes)
+classes += air_settings.classes + air_operators.classes + air_panel.classes
 
 
 def register():
     for cls in classes:
         bpy.utils.register_class(cls)
     settings.register_properties()
+    lag_settings.register_properties()
+    air_settings.register_properties()
 
 
 def unregister():
+    air_settings.unregister_properties()
+    lag_settings.unregister_properties()
     settings.unregister_properties()
     for cls in reversed(classes):
         bpy.utils.unregister_class(cls)

@@ -82,12 +82,35 @@ def sample_pose_world(scene, rig, frames, bone_names=None):
     names : list of str
         The bone names, in the order of axis 1.
     """
+    matrices, names, _ = sample_pose(scene, rig, frames, bone_names)
+    return matrices, names
+
+
+def sample_pose(scene, rig, frames, bone_names=None, channels=(), progress=None):
+    """:func:`sample_pose_world`, plus pose-bone channels read in the same pass.
+
+    Parameters
+    ----------
+    channels : sequence of (str, int)
+        Pose-bone properties and their widths, e.g. ``("rotation_euler", 3)``,
+        read with ``foreach_get`` at every frame (the evaluated values).
+    progress : callable or None
+        Called with the number of frames sampled so far.
+
+    Returns
+    -------
+    matrices : ndarray (F, B, 4, 4)
+    names : list of str
+    values : dict of str -> ndarray (F, B, width)
+    """
     frames = np.atleast_1d(np.asarray(frames, dtype=float))
     names, pick = _bone_indices(rig, bone_names)
     bones = rig.pose.bones
     n_all = len(bones)
     buf = np.empty(n_all * 16, dtype=np.float32)
     out = np.empty((frames.size, len(names), 4, 4))
+    extra = {name: np.empty((frames.size, len(names), width)) for name, width in channels}
+    extra_buf = {name: np.empty(n_all * width, dtype=np.float32) for name, width in channels}
     whole = np.floor(frames).astype(int)
     sub = frames - whole
     with quiet_evaluation(scene, rig):
@@ -100,7 +123,13 @@ def sample_pose_world(scene, rig, frames, bone_names=None):
                 arm = arm[pick]
             world = np.array(rig.matrix_world, dtype=float)
             out[i] = world @ arm
-    return out, names
+            for name, width in channels:
+                bones.foreach_get(name, extra_buf[name])
+                vals = extra_buf[name].reshape(n_all, width)
+                extra[name][i] = vals[pick] if pick is not None else vals
+            if progress is not None:
+                progress(i + 1)
+    return out, names, extra
 
 
 def bone_rest_data(rig, bone_names=None):
