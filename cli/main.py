@@ -27,6 +27,8 @@ def _subcommands():
         check_command = None
     if check_command is not None:
         modules.append(check_command)
+    from . import bake_command
+    modules.append(bake_command)
     return modules
 
 
