@@ -1,8 +1,8 @@
 """Keep the whole-body centre of mass (COM) on its arc in the air, as a delta layer.
 
 Flow: find the flight stretches (the ``lw:flight`` markers the blocking pass left,
-or the COM's own ballistic stretches), sample the evaluated rig over the scene's
-frame range, let :mod:`core.flight_correction` give the world offset per frame,
+or the COM's own ballistic stretches, else the torso's), sample the evaluated rig
+over the scene's frame range, let :mod:`core.flight_correction` give the world offset per frame,
 and write it on the carrier's location channels as deltas on the NLA track
 ``lw:air`` (blend COMBINE, :mod:`ownership`). The carrier is a bone every
 mass-bearing bone follows (the top of the tree, so IK foot controllers under it
@@ -19,7 +19,7 @@ from . import body_com, ownership, plan_link, rig_space
 from .blocking_pass import CurveSpec
 from .core import flight_correction as fc
 from .core.analysis import analyse_trajectory
-from .core.body_mass import whole_body_com
+from .core.body_mass import group_coms, whole_body_com
 from .core.errors import LeapwrightError
 
 CAPABILITY = "air"
@@ -49,7 +49,7 @@ class AirWork:
     how : str  how the bones were mapped
     frames : ndarray (F,)  scene frames sampled
     stretches : list of (int, int)  scene frames (take-off, last in the air)
-    source : str  "markers" or "ballistic"
+    source : str  where the flights were found ("markers", "the body's free fall", ...)
     fix : core.flight_correction.FlightCorrection
     departures : list of core.flight_correction.ArcDeparture
     channels : rig_space.Channels  the carrier's location channels
@@ -179,7 +179,12 @@ def prepare(scene, rig, settings, gravity, own_layer=False):
         if settings.flights in ("AUTO", "MARKERS"):
             stretches, source = marker_stretches(scene, int(frames[0]), int(frames[-1])), "markers"
         if not stretches and settings.flights in ("AUTO", "BALLISTIC"):
-            stretches, source = ballistic_stretches(frames, com, fps, gravity), "ballistic"
+            stretches, source = ballistic_stretches(frames, com, fps, gravity), "the body's free fall"
+        if not stretches and settings.flights in ("AUTO", "BALLISTIC") and "trunk" in model.groups:
+            # Limbs moving in the air bend the COM's arc, the very thing to fix; the
+            # torso as keyed usually still falls freely.
+            trunk = group_coms(model, heads, tails)["trunk"][1]
+            stretches, source = ballistic_stretches(frames, trunk, fps, gravity), "the torso's free fall"
         if not stretches:
             raise AirError(f"no flight found in frames {scene.frame_start}..{scene.frame_end} of '{rig.name}': "
                            f"write the jump first (its '{FLIGHT_MARKER}' markers mark the flights) or key a "

@@ -225,3 +225,121 @@ def test_a_rig_without_arms_and_no_map_is_refused_and_changes_nothing():
     with pytest.raises(RuntimeError, match="map the bones by hand"):
         bpy.ops.leapwright.keep_body_on_arc()
     assert snapshot() == before
+
+
+def test_a_creature_with_bone_masses_is_kept_on_its_arc():
+    # Two point masses at bone midpoints (com_fractions 0.5): the COM is their weighted mean.
+    from rig_builder import build_rig, configure
+
+    rig = build_rig()
+    configure(rig, height=0.4)
+    assert bpy.ops.leapwright.write_blocking() == {"FINISHED"}
+    scene = bpy.context.scene
+    scene.frame_start, scene.frame_end = 1, LAST_FRAME
+    first, last = _flight(scene)
+    masses = {"hips": 40.0, "spine": 25.0}
+    rig["lw_bone_masses"] = "hips=40 trunk; spine=25 tail"
+    pb = rig.pose.bones["spine"]
+    for frame, deg in ((first + 2, 0.0), (last - 2, 80.0)):
+        pb.rotation_quaternion = Quaternion((1.0, 0.0, 0.0), math.radians(deg))
+        pb.keyframe_insert("rotation_quaternion", frame=frame)
+    frames = np.arange(first, last + 1)
+
+    def com_and_hips():
+        p = _read(rig, frames, set(masses))
+        c = sum(m * 0.5 * (p[n]["head"] + p[n]["tail"]) for n, m in masses.items()) / sum(masses.values())
+        return c, p
+
+    before, p0 = com_and_hips()
+    fps = scene.render.fps / scene.render.fps_base
+    assert _ballistic_residual(before, fps) > 0.005
+    assert _keep(rig) == {"FINISHED"}
+    after, p1 = com_and_hips()
+    assert _ballistic_residual(after, fps) < 1e-3
+    # Hips drop = -(m_spine / M) * rise of the spine's midpoint relative to the hips' head.
+    rel = 0.5 * (p0["spine"]["head"] + p0["spine"]["tail"])[:, 2] - p0["hips"]["head"][:, 2]
+    expected = -25.0 / 65.0 * (rel - rel[0])
+    drop = p1["hips"]["head"][:, 2] - p0["hips"]["head"][:, 2]
+    big = np.abs(expected) > 0.005
+    assert big.sum() >= 3
+    assert np.max(np.abs(drop[big] / expected[big] - 1.0)) < 0.02
+
+
+def test_a_map_written_out_by_hand_gives_the_same_correction():
+    rig, scene = _jump()
+    a = addon()
+    auto = a.air_correction.prepare(scene, rig, scene.leapwright_air, G).fix.offsets
+    bpy.context.view_layer.objects.active = rig
+    assert bpy.ops.leapwright.edit_body_map() == {"FINISHED"}
+    assert a.body_com.body_model(rig)[2] == "set by hand"
+    by_hand = a.air_correction.prepare(scene, rig, scene.leapwright_air, G).fix.offsets
+    assert np.max(np.abs(by_hand - auto)) < 1e-12
+    # A map naming a bone the rig lacks is refused with the bone's name.
+    rig["lw_body_map"] = rig["lw_body_map"].replace("forearm.L@head", "elbow_bone@head")
+    before = snapshot()
+    with pytest.raises(RuntimeError, match="elbow_bone"):
+        bpy.ops.leapwright.keep_body_on_arc()
+    assert snapshot() == before
+
+
+def test_flights_found_from_free_fall_without_markers():
+    rig, scene = _jump()
+    first, last = _flight(scene)
+    scene.leapwright_air.flights = "BALLISTIC"
+    assert _keep(rig) == {"FINISHED"}
+    work = addon().air_correction.prepare(scene, rig, scene.leapwright_air, G)
+    (a, b), = work.stretches
+    # The arc starts at the second airborne frame (the take-off lies in the frame before the first).
+    assert first <= a <= first + 1 and b == last
+    after = _coms(rig, np.arange(a, b + 1))[0]
+    assert _ballistic_residual(after, scene.render.fps / scene.render.fps_base) < 1e-3
+
+
+class _Layout:
+    """Stands in for bpy.types.UILayout headless: records labels, checks every property and operator."""
+
+    def __init__(self, log):
+        self.log, self.use_property_split, self.use_property_decorate, self.scale_y = log, False, False, 1.0
+
+    def _child(self, *args, **kw):
+        return _Layout(self.log)
+
+    box = column = row = _child
+
+    def label(self, text="", icon="NONE"):
+        self.log.append(("label", text))
+
+    def prop(self, data, name, **kw):
+        assert (name[2:-2] in data) if name.startswith('["') else (name in data.bl_rna.properties), name
+        self.log.append(("prop", name))
+
+    def prop_search(self, data, name, search_data, search_name, **kw):
+        assert name in data.bl_rna.properties and search_name in search_data.bl_rna.properties
+        self.log.append(("prop", name))
+
+    def operator(self, idname, **kw):
+        assert idname.split(".")[1] in dir(bpy.ops.leapwright), idname
+        self.log.append(("operator", idname))
+
+
+def _panel_log():
+    log = []
+    bpy.types.LEAPWRIGHT_PT_air.draw(type("Stand", (), {"layout": _Layout(log)})(), bpy.context)
+    return log
+
+
+def test_panel_shows_the_map_the_buttons_and_the_warning_with_frames_and_torso_drop():
+    assert bpy.types.LEAPWRIGHT_PT_air.bl_parent_id == "LEAPWRIGHT_PT_jump"
+    rig, scene = _jump()
+    log = _panel_log()
+    labels = " | ".join(t for k, t in log if k == "label")
+    assert "14 segments, found from the bone tree" in labels
+    assert "shoulder.L: upper_arm.L@head" in labels
+    assert {("prop", "table"), ("operator", "leapwright.keep_body_on_arc"),
+            ("operator", "leapwright.edit_body_map")} <= set(log)
+    bpy.context.view_layer.objects.active = rig
+    assert bpy.ops.leapwright.check_body_arc() == {"FINISHED"}
+    labels = " ".join(t for k, t in _panel_log() if k == "label")
+    assert "torso must move -" in labels and "Frames " in labels
+    assert bpy.ops.leapwright.edit_body_map() == {"FINISHED"}
+    assert ("prop", '["lw_body_map"]') in _panel_log()
