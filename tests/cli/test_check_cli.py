@@ -12,6 +12,13 @@ import sys
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+from hypothesis.extra import numpy as hnp
+
+from cli.check_command import to_json_dict
+from core.analysis import analyse_trajectory
+from core.errors import LeapwrightError
 
 from core.goals import JumpGoals
 from core.planner import plan_jump
@@ -182,3 +189,15 @@ def test_run_can_be_called_directly(tmp_path, capsys):
     assert args.func is check_command.run
     assert args.func(args) == 2
     assert "only 1 sample;" in capsys.readouterr().err
+
+
+@settings(max_examples=60, deadline=None)
+@given(pos=hnp.arrays(np.float64, st.tuples(st.integers(5, 60), st.just(3)),
+                      elements=st.floats(-20.0, 20.0, allow_nan=False)))
+def test_json_of_any_analysis_is_strict_json(pos):
+    try:
+        result = analyse_trajectory(np.arange(len(pos)) + 1, pos, 24.0)
+    except LeapwrightError:
+        return
+    text = json.dumps(to_json_dict(result), allow_nan=False)  # no NaN or Infinity (RFC 8259)
+    assert json.loads(text)["frame_count"] == len(pos)
