@@ -179,3 +179,41 @@ def held_pose_keys(plan, channel, fps, step=2):
         frames.append(last)
     times = np.array(frames, dtype=float) / fps
     return HermiteKeys(times, f(times), np.zeros_like(times))
+
+
+@dataclass(frozen=True)
+class BezierKeys:
+    """One F-curve's keys: times [s], values, and absolute handles ``(time [s], value)`` (k, 2)."""
+
+    times: np.ndarray
+    values: np.ndarray
+    left_handles: np.ndarray
+    right_handles: np.ndarray
+
+    def __len__(self):
+        return len(self.times)
+
+
+def bezier_from_hermite(keys):
+    """FREE Bezier handles for Hermite keys: at t -/+ dt/3, value v -/+ slope dt/3 (exact cubic)."""
+    t, v, s = (np.asarray(a, dtype=float) for a in (keys.times, keys.values, keys.slopes))
+    dt = np.diff(t)
+    prev = np.concatenate([[dt[0] if len(dt) else 1.0], dt]) / 3.0
+    nxt = np.concatenate([dt, [dt[-1] if len(dt) else 1.0]]) / 3.0
+    left = np.stack([t - prev, v - s * prev], axis=1)
+    right = np.stack([t + nxt, v + s * nxt], axis=1)
+    return BezierKeys(t, v, left, right)
+
+
+def hermite_slope(keys, t):
+    """Time derivative of the Hermite key curve at ``t`` [value/s]; 0 beyond the end keys."""
+    t = np.asarray(t, dtype=float)
+    k, v, s = keys.times, keys.values, keys.slopes
+    if len(k) < 2:
+        return np.zeros_like(t)
+    i = np.clip(np.searchsorted(k, t, side="right") - 1, 0, len(k) - 2)
+    dt = k[i + 1] - k[i]
+    u = np.clip((t - k[i]) / dt, 0.0, 1.0)
+    d = ((6 * u**2 - 6 * u) * (v[i] - v[i + 1]) / dt + (3 * u**2 - 4 * u + 1) * s[i]
+         + (3 * u**2 - 2 * u) * s[i + 1])
+    return np.where((t < k[0]) | (t > k[-1]), 0.0, d)
