@@ -180,3 +180,26 @@ def test_bad_selection_reports_and_changes_nothing(case):
     assert word in str(err.value)
     assert snapshot() == before
     assert rig.animation_data.nla_tracks.get("lw:lag") is None
+
+
+def test_sampling_plays_nla_offsets_and_restores_meshes_and_frame():
+    rig = _ponytail_rig()
+    add_user_keys(rig, bone="hips", frames=(1, 20, 40))
+    ad = rig.animation_data
+    action = ad.action
+    track = ad.nla_tracks.new()
+    track.strips.new("moved", 11, action)  # the keys play 10 frames later in scene time
+    ad.action = None
+    mesh = bpy.data.objects.new("Skin", bpy.data.meshes.new("SkinMesh"))
+    bpy.context.scene.collection.objects.link(mesh)
+    mod = mesh.modifiers.new("Armature", "ARMATURE")
+    mod.object = rig
+    scene = bpy.context.scene
+    scene.frame_set(7)
+    frames = np.array([5.0, 11.0, 30.5, 50.0])
+    matrices, names = addon().rig_sampling.sample_pose_world(scene, rig, frames, ["hips"])
+    assert names == ["hips"] and scene.frame_current == 7 and not mesh.hide_viewport
+    from scene_probe import world_path
+    np.testing.assert_allclose(matrices[:, 0, :3, 3], world_path(rig, "hips", frames), atol=1e-6)
+    # the keys of frames 1 and 40 (x = 0 and 0.1 m, rig_builder.add_user_keys) play at 11 and 50
+    np.testing.assert_allclose(np.abs(matrices[[1, 3], 0, 0, 3]), [0.0, 0.1], atol=1e-6)
