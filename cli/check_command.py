@@ -31,10 +31,18 @@ def add_parser(subparsers):
         "check", help="check a jump made by hand or captured (CSV frame,x,y,z)",
         description="Check a sampled centre-of-mass (or root) path for flights, implied gravity, "
                     "apparent weight and the usual mistakes. Finding kinds: " + ", ".join(FINDING_KINDS))
-    p.add_argument("file", metavar="FILE.csv", help="CSV with header frame,x,y,z (metres, z up)")
-    p.add_argument("--fps", required=True, help="frame rate: 24, 23.976 or 24000/1001")
-    p.add_argument("--gravity", default=str(BLENDER_DEFAULT_GRAVITY),
-                   help="scene gravity [m/s^2] or earth/moon/mars (default 9.81, Blender's); sign ignored")
+    p.add_argument("files", nargs="+", metavar="FILE",
+                   help="CSV with header frame,x,y,z (metres, z up), or .blend files (with --object)")
+    p.add_argument("--fps", help="frame rate: 24, 23.976 or 24000/1001 (CSV: required; .blend: the scene's)")
+    p.add_argument("--gravity", default=None,
+                   help="scene gravity [m/s^2] or earth/moon/mars (default: the .blend scene's, "
+                        "9.81 for a CSV as Blender's default); sign ignored")
+    p.add_argument("--object", help=".blend: the object (rig) to check")
+    p.add_argument("--bone", help=".blend: the body (COM) bone of --object; its head is sampled")
+    p.add_argument("--out-dir", help="write one JSON report per file and summary.json here")
+    p.add_argument("--jobs", type=int, default=None, help="worker processes for several files (default: cores)")
+    p.add_argument("--scheduler", metavar="ADDRESS",
+                   help="run the batch on a Dask distributed scheduler (tcp://host:8786) instead of a local pool")
     p.add_argument("--leg-length", action="append", default=[], metavar="NAME=METRES",
                    help="rest length of the leg ending at foot columns NAME_x,NAME_y,NAME_z")
     p.add_argument("--json", action="store_true", help="print one JSON object instead of the report")
@@ -220,25 +228,71 @@ def write_chart(result, path, title):
     force_plate_chart(path, result.frames, result.height_m, result.force_bw, spans, title)
 
 
+def analyse_file(path, fps=None, gravity=None, leg_lengths=(), object_name=None, bone_name=None):
+    """Read one CSV or .blend and analyse it (raises the core's errors with the file named)."""
+    path = str(path)
+    if path.lower().endswith(".blend"):
+        from .blend_tracks import sample_blend_track
+
+        if not object_name:
+            raise InvalidTrajectoryError(f"{path}: give --object (and --bone for a rig's body bone)")
+        frames, positions, scene_fps, scene_g = sample_blend_track(path, object_name, bone_name)
+        feet = []
+        fps = parse_fps(fps) if fps is not None else scene_fps
+        gravity = gravity_from(str(gravity).strip().lstrip("-")) if gravity is not None else scene_g
+    else:
+        if fps is None:
+            raise InvalidTrajectoryError(f"{path}: a CSV needs --fps (e.g. 24 or 24000/1001)")
+        fps = parse_fps(fps)
+        gravity = gravity_from(str(gravity if gravity is not None else BLENDER_DEFAULT_GRAVITY).strip().lstrip("-"))
+        frames, positions, foot_columns = read_trajectory_csv(path)
+        lengths = _leg_lengths(list(leg_lengths), foot_columns)
+        feet = [FootTrack(name, pos, lengths.get(name)) for name, pos in foot_columns.items()]
+    try:
+        return analyse_trajectory(frames, positions, fps, gravity=gravity, feet=feet)
+    except LeapwrightError as exc:
+        raise type(exc)(f"{path}: {exc}") from None
+
+
+def _options(args):
+    return dict(fps=args.fps, gravity=args.gravity, leg_lengths=tuple(args.leg_length),
+                object_name=args.object, bone_name=args.bone)
+
+
+def _run_batch(args):
+    from .batch import check_files, summary_of, write_reports
+
+    if args.jobs is not None and args.jobs < 1:
+        raise LeapwrightError(f"--jobs must be 1 or more, got {args.jobs}")
+    results = check_files(args.files, _options(args), jobs=args.jobs, scheduler=args.scheduler)
+    if args.out_dir:
+        write_reports(results, args.out_dir)
+    summary = summary_of(results)
+    if args.json:
+        print(json.dumps(summary, indent=2))
+    else:
+        for r in summary["results"]:
+            state = {0: "ok", 1: "findings: " + ", ".join(r["kinds"]), 2: "bad input: " + r.get("error", "")}
+            print(f"{r['file']}: {state[r['exit_code']]}")
+        print(f"{summary['files']} files: {summary['clean']} clean, {summary['with_findings']} with findings, "
+              f"{summary['bad_input']} bad input")
+    return summary["exit_code"]
+
+
 def run(args):
     """Run ``check``; returns the exit code (0, 1, or 2 with one line on stderr)."""
     try:
-        fps = parse_fps(args.fps)
-        gravity = gravity_from(str(args.gravity).strip().lstrip("-"))
-        frames, positions, foot_columns = read_trajectory_csv(args.file)
-        lengths = _leg_lengths(args.leg_length, foot_columns)
-        feet = [FootTrack(name, pos, lengths.get(name)) for name, pos in foot_columns.items()]
-        try:
-            result = analyse_trajectory(frames, positions, fps, gravity=gravity, feet=feet)
-        except LeapwrightError as exc:
-            raise type(exc)(f"{args.file}: {exc}") from None
+        if len(args.files) > 1 or args.out_dir or args.scheduler:
+            return _run_batch(args)
+        path = args.files[0]
+        result = analyse_file(path, **_options(args))
         if args.chart:
-            write_chart(result, args.chart, f"{args.file} at {fps:g} fps")
+            write_chart(result, args.chart, f"{path} at {result.fps:g} fps")
     except LeapwrightError as exc:
         print(f"leapwright check: {exc}", file=sys.stderr)
         return 2
     if args.json:
         print(json.dumps(to_json_dict(result), indent=2))
     else:
-        print(report_text(result, args.file))
+        print(report_text(result, path))
     return 1 if result.has_problems else 0

@@ -2,7 +2,6 @@
 
 import json
 import math
-import sys
 
 from core.errors import InvalidGoalError, LeapwrightError
 from core.goals import JumpGoals, gravity_from

@@ -1,0 +1,69 @@
+"""Checking many files in one call: a process pool here, or an existing Dask cluster.
+
+Each file is checked in a worker process of its own (Blender as a module keeps one
+state per process), giving one JSON report per file and a summary. The same
+function runs on a local pool or, with ``--scheduler ADDRESS``, on a Dask
+distributed cluster (``pip install 'leapwright[batch]'``).
+"""
+
+import json
+import os
+import pathlib
+from concurrent.futures import ProcessPoolExecutor
+
+from core.errors import LeapwrightError
+
+
+def check_file(path, options):
+    """Check one file; returns ``{"file", "exit_code", "report" or "error"}`` (never raises)."""
+    from .check_command import analyse_file, to_json_dict
+
+    try:
+        result = analyse_file(path, **options)
+    except LeapwrightError as exc:
+        return {"file": str(path), "exit_code": 2, "error": str(exc)}
+    return {"file": str(path), "exit_code": 1 if result.has_problems else 0, "report": to_json_dict(result)}
+
+
+def check_files(paths, options, jobs=None, scheduler=None):
+    """Check ``paths`` in parallel; results in the order of ``paths``."""
+    paths = [str(p) for p in paths]
+    if scheduler:
+        try:
+            from distributed import Client
+        except ImportError:
+            raise LeapwrightError("--scheduler needs Dask distributed: pip install 'leapwright[batch]'") from None
+        with Client(scheduler, timeout="20s") as client:
+            futures = client.map(check_file, paths, [options] * len(paths), pure=False)
+            return client.gather(futures)
+    jobs = max(1, min(jobs or os.cpu_count() or 1, len(paths)))
+    # One task per worker process: each .blend gets a fresh Blender state.
+    with ProcessPoolExecutor(max_workers=jobs, max_tasks_per_child=1) as pool:
+        return list(pool.map(check_file, paths, [options] * len(paths)))
+
+
+def summary_of(results):
+    """Counts and the pipeline exit code: 2 if any file was bad input, else 1 if any had findings."""
+    codes = [r["exit_code"] for r in results]
+    return {
+        "files": len(results),
+        "clean": codes.count(0),
+        "with_findings": codes.count(1),
+        "bad_input": codes.count(2),
+        "exit_code": 2 if 2 in codes else (1 if 1 in codes else 0),
+        "results": [{"file": r["file"], "exit_code": r["exit_code"],
+                     "kinds": sorted({f["kind"] for f in r.get("report", {}).get("findings", [])}),
+                     **({"error": r["error"]} if "error" in r else {})} for r in results],
+    }
+
+
+def write_reports(results, out_dir):
+    """One ``<name>.json`` per file and ``summary.json`` in ``out_dir``."""
+    out = pathlib.Path(out_dir)
+    try:
+        out.mkdir(parents=True, exist_ok=True)
+        for r in results:
+            (out / (pathlib.Path(r["file"]).name + ".json")).write_text(json.dumps(r, indent=2))
+        (out / "summary.json").write_text(json.dumps(summary_of(results), indent=2))
+    except OSError as exc:
+        raise LeapwrightError(f"cannot write reports to {str(out)!r}: {exc.strerror}; choose a writable folder") from None

@@ -1,0 +1,67 @@
+"""Sampled paths from .blend files, with Blender as the ``bpy`` module (imported lazily).
+
+Only the command line uses this: ``leapwright plan`` and CSV checks never need Blender.
+"""
+
+import numpy as np
+
+from core.errors import InvalidTrajectoryError
+
+
+def _bpy():
+    try:
+        import bpy
+    except ImportError:
+        raise InvalidTrajectoryError(
+            "checking a .blend needs Blender as the bpy module (pip install bpy: 5.1+ on Python 3.13, "
+            "4.2-5.0 on Python 3.11); run it from the environment `make setup` made (.venv)") from None
+    return bpy
+
+
+def sample_blend_track(path, object_name, bone_name=None):
+    """World path of an object (or one of its pose bones) over the scene's frame range.
+
+    Parameters
+    ----------
+    path : str
+        The .blend file; opened read-only in this process (never saved).
+    object_name : str
+    bone_name : str, optional
+        A pose bone of ``object_name``; its head is sampled.
+
+    Returns
+    -------
+    frames : ndarray (n,)
+        Scene frames.
+    positions : ndarray (n, 3)
+        World positions [m] (Blender units x ``unit_settings.scale_length``), Z up.
+    fps : float
+        The scene's true rate ``fps / fps_base`` [frames/s].
+    gravity : float
+        |scene gravity| [m/s^2].
+    """
+    bpy = _bpy()
+    try:
+        bpy.ops.wm.open_mainfile(filepath=str(path), load_ui=False)
+    except RuntimeError as exc:
+        raise InvalidTrajectoryError(f"{path}: cannot open it as a .blend ({str(exc).strip()[:120]})") from None
+    scene = bpy.context.scene
+    obj = bpy.data.objects.get(object_name)
+    if obj is None:
+        names = ", ".join(sorted(o.name for o in bpy.data.objects)[:12])
+        raise InvalidTrajectoryError(f"{path}: no object {object_name!r}; objects are: {names}")
+    bone = None
+    if bone_name:
+        if obj.type != "ARMATURE" or bone_name not in obj.pose.bones:
+            raise InvalidTrajectoryError(f"{path}: {object_name!r} has no pose bone {bone_name!r}; "
+                                         "give --bone with the body (COM) bone's name")
+        bone = obj.pose.bones[bone_name]
+    frames = np.arange(scene.frame_start, scene.frame_end + 1, dtype=float)
+    out = np.empty((len(frames), 3))
+    for i, f in enumerate(frames):
+        scene.frame_set(int(f))
+        m = obj.matrix_world @ bone.matrix if bone is not None else obj.matrix_world
+        out[i] = tuple(m.translation)
+    fps = scene.render.fps / scene.render.fps_base
+    gravity = float(np.linalg.norm(tuple(scene.gravity)))
+    return frames, out * scene.unit_settings.scale_length, fps, gravity
