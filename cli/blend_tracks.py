@@ -3,6 +3,10 @@
 Only the command line uses this: ``leapwright plan`` and CSV checks never need Blender.
 """
 
+import contextlib
+import os
+import sys
+
 import numpy as np
 
 from core.errors import InvalidTrajectoryError
@@ -16,6 +20,20 @@ def _bpy():
             "checking a .blend needs Blender as the bpy module (pip install bpy: 5.1+ on Python 3.13, "
             "4.2-5.0 on Python 3.11); run it from the environment `make setup` made (.venv)") from None
     return bpy
+
+
+@contextlib.contextmanager
+def _blender_chatter_to_stderr():
+    """Blender prints file-loading notes on stdout at the C level; keep stdout for reports."""
+    sys.stdout.flush()
+    saved = os.dup(1)
+    try:
+        os.dup2(2, 1)
+        yield
+    finally:
+        sys.stdout.flush()
+        os.dup2(saved, 1)
+        os.close(saved)
 
 
 def sample_blend_track(path, object_name, bone_name=None):
@@ -42,7 +60,8 @@ def sample_blend_track(path, object_name, bone_name=None):
     """
     bpy = _bpy()
     try:
-        bpy.ops.wm.open_mainfile(filepath=str(path), load_ui=False)
+        with _blender_chatter_to_stderr():
+            bpy.ops.wm.open_mainfile(filepath=str(path), load_ui=False)
     except RuntimeError as exc:
         raise InvalidTrajectoryError(f"{path}: cannot open it as a .blend ({str(exc).strip()[:120]})") from None
     scene = bpy.context.scene
