@@ -122,6 +122,22 @@ class _WithoutLayer:
             self.track.mute = self.was
 
 
+def _riding_feet(rig, bone, scene):
+    """The scene's foot controllers that move with the carrier (all of them for the object)."""
+    s = getattr(scene, "leapwright", None)
+    feet = [f for f in ((s.foot_left, s.foot_right) if s is not None else ()) if f and f in rig.data.bones]
+    if not bone:
+        return feet
+    out = []
+    for name in feet:
+        b = rig.data.bones[name]
+        while b is not None and b.name != bone:
+            b = b.parent
+        if b is not None:
+            out.append(name)
+    return out
+
+
 def _takeoff_velocities(scene, rig, model, stretches, fps):
     """COM velocity [m/s] at each arc start from samples a tenth of a frame apart, before it."""
     k = fc.TAKEOFF_FIT_FRAMES
@@ -164,8 +180,11 @@ def prepare(scene, rig, settings, gravity, own_layer=False):
         channels, _ = rig_space.resolve(rig, bone, ())
     except rig_space.SelectionError as exc:
         raise AirError(str(exc)) from None
-    if channels.data_path.endswith("location") and bone and rig.pose.bones[bone].lock_location[:] != (False,) * 3:
-        raise AirError(f"bone '{bone}' has locked location channels; unlock them or choose another carrier")
+    riders = _riding_feet(rig, bone, scene)
+    if settings.settle_frames and riders:
+        raise AirError(f"easing out over {settings.settle_frames} frame(s) after touchdown would move the foot "
+                       f"controller(s) {', '.join(riders)} (they hang from '{bone or rig.name}') while they stand "
+                       "on the ground; set Ease out to 0, or choose a Move bone the feet do not follow")
     fps = plan_link.scene_fps(scene)
     m = plan_link.metres_per_unit(scene)
     frames = np.arange(scene.frame_start, scene.frame_end + 1, dtype=float)

@@ -343,3 +343,12 @@ def test_panel_shows_the_map_the_buttons_and_the_warning_with_frames_and_torso_d
     assert "torso must move -" in labels and "Frames " in labels
     assert bpy.ops.leapwright.edit_body_map() == {"FINISHED"}
     assert ("prop", '["lw_body_map"]') in _panel_log()
+
+
+def test_easing_out_is_refused_when_it_would_slide_the_planted_feet():
+    rig, scene = _jump()
+    scene.leapwright_air.settle_frames = 3  # the carrier is the root: the foot controllers hang from it
+    before = snapshot()
+    with pytest.raises(RuntimeError, match="foot_ctrl.L"):
+        _keep(rig)
+    assert snapshot() == before
