@@ -97,7 +97,7 @@ def hermite_keys(plan, channel="height", tolerance=5e-4):
                 t = end
             else:
                 lo, hi = t, end
-                for _ in range(40):
+                for _ in range(30):  # 2^-30 of a span: far below a frame
                     mid = 0.5 * (lo + hi)
                     lo, hi = (mid, hi) if _span_error(f, df, t, mid) <= tol else (lo, mid)
                 if lo - t < 1e-9:
