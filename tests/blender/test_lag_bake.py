@@ -203,3 +203,39 @@ def test_sampling_plays_nla_offsets_and_restores_meshes_and_frame():
     np.testing.assert_allclose(matrices[:, 0, :3, 3], world_path(rig, "hips", frames), atol=1e-6)
     # the keys of frames 1 and 40 (x = 0 and 0.1 m, rig_builder.add_user_keys) play at 11 and 50
     np.testing.assert_allclose(np.abs(matrices[[1, 3], 0, 0, 3]), [0.0, 0.1], atol=1e-6)
+
+
+def test_selected_pose_bones_are_the_default_choice():
+    rig, _ = _jumping_rig()
+    bpy.context.view_layer.objects.active = rig
+    bpy.ops.object.mode_set(mode="POSE")
+    for pb in rig.pose.bones:
+        # Blender 5.0 moved bone selection from Bone to PoseBone.
+        holder = pb if "select" in type(pb).bl_rna.properties else pb.bone
+        holder.select = pb.name in PONY[1:]
+    bpy.context.scene.leapwright_lag.source = "SELECTED"
+    assert bpy.ops.leapwright.bake_lag() == {"FINISHED"}
+    bpy.ops.object.mode_set(mode="OBJECT")
+    assert {fc.data_path for fc in _lag_curves(rig)} == {
+        f'pose.bones["{n}"].rotation_quaternion' for n in PONY[1:]}
+
+
+def test_command_line_bake_saves_the_layer_and_remove_gives_the_file_back(tmp_path):
+    import os
+    import sys
+    repo = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
+    sys.path.insert(0, repo)
+    from cli.main import main
+    rig, _ = _jumping_rig()
+    path = str(tmp_path / "jump.blend")
+    bpy.ops.wm.save_mainfile(filepath=path)
+    bpy.ops.wm.open_mainfile(filepath=path)
+    before = snapshot()
+    assert main(["bake", path, "--bones", ",".join(PONY), "--preset", "cloth"]) == 0
+    bpy.ops.wm.open_mainfile(filepath=path)
+    rig = bpy.data.objects["Rig"]
+    assert {fc.data_path for fc in _lag_curves(rig)} == {f'pose.bones["{n}"].rotation_quaternion' for n in PONY}
+    assert main(["bake", path, "--bones", "no_such_bone"]) == 2
+    assert main(["bake", path, "--bones", *PONY, "--remove"]) == 0
+    bpy.ops.wm.open_mainfile(filepath=path)
+    assert snapshot() == before
