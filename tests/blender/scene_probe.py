@@ -108,3 +108,125 @@ def run_write(rig, **props):
 def run_remove(rig):
     bpy.context.view_layer.objects.active = rig
     return bpy.ops.leapwright.remove_written()
+
+
+# --- The whole file's animation-related data, for "nothing changed" checks ------------------------
+
+
+def _all_fcurve_sets(action):
+    """Every (slot or '', fcurves, groups) of an action, whatever its layout.
+
+    Layered actions (Blender 4.4+) keep curves in one channelbag per slot and
+    strip; :func:`snapshot` looks only at the bag an object plays, so a write
+    into another slot would slip past it. This walks them all.
+    """
+    if not addon().blender_compat.LAYERED:
+        return [("", action.fcurves, action.groups)]
+    out = []
+    for layer in action.layers:
+        for strip in layer.strips:
+            for bag in strip.channelbags:
+                out.append((f"{layer.name}/{bag.slot.identifier if bag.slot else ''}", bag.fcurves, bag.groups))
+    return out
+
+
+def _action_record(action):
+    sets = []
+    for label, fcs, grps in _all_fcurve_sets(action):
+        sets.append((label, tuple(sorted(_fcurve_record(fc) for fc in fcs)),
+                     tuple((g.name, g.lock, g.mute) for g in grps)))
+    slots = ()
+    if addon().blender_compat.LAYERED:
+        slots = tuple((s.handle, s.identifier) for s in action.slots)
+    return (action.name, action.library.filepath if action.library else None, action.use_fake_user,
+            _props(action), slots, tuple(sets))
+
+
+def _strip_record(strip):
+    return (strip.name, strip.action.name if strip.action else None, strip.frame_start, strip.frame_end,
+            strip.action_frame_start, strip.action_frame_end, strip.scale, strip.repeat, strip.blend_type,
+            strip.extrapolation, strip.influence, strip.mute, addon().blender_compat.strip_slot_handle(strip))
+
+
+def _pose_record(obj):
+    if obj.pose is None:
+        return None
+    out = []
+    for pb in obj.pose.bones:
+        out.append((pb.name, pb.rotation_mode, tuple(pb.location), tuple(pb.rotation_quaternion),
+                    tuple(pb.rotation_euler), tuple(pb.rotation_axis_angle), tuple(pb.scale),
+                    tuple(pb.lock_location), tuple(pb.lock_rotation), _props(pb)))
+    return tuple(out)
+
+
+def file_state():
+    """Every action, F-curve, NLA strip, marker, pose and custom property in the file.
+
+    Plain, comparable data (key attributes as raw float32/int32 bytes through
+    :func:`_fcurve_record`), independent of which object plays which action:
+    every channelbag of every action, every object's animation data, pose
+    channels and custom properties (object, pose bone, bone, armature, scene,
+    action), every scene's markers, frame range, frame rate and unit scale.
+    """
+    compat = addon().blender_compat
+    objects = []
+    for obj in sorted(bpy.data.objects, key=lambda o: (o.name, o.library.filepath if o.library else "")):
+        ad = obj.animation_data
+        anim = None
+        if ad is not None:
+            tracks = tuple((t.name, t.mute, t.is_solo, tuple(_strip_record(s) for s in t.strips))
+                           for t in ad.nla_tracks)
+            anim = (ad.action.name if ad.action else None, compat.active_slot_handle(obj), ad.action_blend_type,
+                    ad.action_influence, ad.action_extrapolation, ad.use_tweak_mode, tracks,
+                    len(ad.drivers))
+        objects.append((obj.name, obj.library.filepath if obj.library else None, obj.mode if obj.library is None
+                        else None, _props(obj), anim, tuple(obj.location), tuple(obj.rotation_euler),
+                        tuple(obj.scale), _pose_record(obj)))
+    armatures = tuple((a.name, _props(a), tuple((b.name, _props(b)) for b in a.bones))
+                      for a in sorted(bpy.data.armatures, key=lambda a: a.name))
+    # The add-on's own settings (scene.leapwright*) are registered properties,
+    # which 4.2 also lists among a scene's custom properties: they are not data.
+    scenes = tuple((sc.name, tuple(p for p in _props(sc) if not p[0].startswith("leapwright")), tuple(sorted((m.name, m.frame, m.select) for m in sc.timeline_markers)),
+                    (sc.frame_start, sc.frame_end, sc.frame_current, sc.render.fps, sc.render.fps_base),
+                    sc.unit_settings.scale_length) for sc in bpy.data.scenes)
+    actions = tuple(_action_record(a) for a in sorted(bpy.data.actions, key=lambda a: a.name))
+    return {"objects": tuple(objects), "armatures": armatures, "scenes": scenes, "actions": actions}
+
+
+def reports(text):
+    """``(level, message)`` of every operator report in captured output.
+
+    In background mode Blender prints each report as ``Info:``, ``Warning:``
+    or ``Error:`` followed by the message.
+    """
+    out = []
+    for line in text.splitlines():
+        for level in ("Info", "Warning", "Error"):
+            if line.startswith(level + ": "):
+                out.append((level.upper(), line[len(level) + 2:]))
+    return out
+
+
+def first_difference(a, b, path="state"):
+    """Where two :func:`file_state` results first differ (for assertion messages), or None."""
+    if type(a) is not type(b):
+        return f"{path}: {a!r} != {b!r}"
+    if isinstance(a, dict):
+        for key in sorted(set(a) | set(b), key=str):
+            if key not in a or key not in b:
+                return f"{path}[{key!r}] only on one side"
+            d = first_difference(a[key], b[key], f"{path}[{key!r}]")
+            if d:
+                return d
+        return None
+    if isinstance(a, (tuple, list)):
+        for i, (x, y) in enumerate(zip(a, b)):
+            d = first_difference(x, y, f"{path}[{i}]")
+            if d:
+                return d
+        return f"{path}: lengths {len(a)} != {len(b)}" if len(a) != len(b) else None
+    if a == b:
+        return None
+    sa, sb = str(a), str(b)
+    i = next((k for k, (x, y) in enumerate(zip(sa, sb)) if x != y), min(len(sa), len(sb)))
+    return f"{path} at char {i}: ...{sa[max(0, i - 120):i + 80]} != ...{sb[max(0, i - 120):i + 80]}"
