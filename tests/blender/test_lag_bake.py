@@ -239,3 +239,38 @@ def test_command_line_bake_saves_the_layer_and_remove_gives_the_file_back(tmp_pa
     assert main(["bake", path, "--bones", *PONY, "--remove"]) == 0
     bpy.ops.wm.open_mainfile(filepath=path)
     assert snapshot() == before
+
+
+def _rotation_gap(a, b):
+    """Angle [rad] of the rotation between world matrices' 3x3 parts, (..., 4, 4)."""
+    r = np.einsum("...ji,...jk->...ik", a[..., :3, :3], b[..., :3, :3])
+    return np.arccos(np.clip((np.trace(r, axis1=-2, axis2=-1) - 1.0) / 2.0, -1.0, 1.0))
+
+
+def test_thinned_keys_stay_within_tolerance_and_twos_hold_as_blender_plays_them():
+    rig, _ = _jumping_rig()
+    scene, lag = bpy.context.scene, bpy.context.scene.leapwright_lag
+    frames = np.arange(scene.frame_start, scene.frame_end + 1)
+    sample = addon().rig_sampling.sample_pose_world
+    assert _bake(rig, bones=",".join(PONY), preset="hair") == {"FINISHED"}
+    full, _ = sample(scene, rig, frames, list(PONY))
+    tol = math.radians(0.5)
+    lag.key_tolerance = tol
+    assert _bake(rig, bones=",".join(PONY), preset="hair") == {"FINISHED"}
+    thinned, _ = sample(scene, rig, frames, list(PONY))
+    curves = _lag_curves(rig)
+    assert sum(len(fc.keyframe_points) for fc in curves) < 4 * len(PONY) * len(frames)
+    # each joint may be off by tol, and a bone's world rotation carries its parents' errors
+    limits = tol * np.arange(1, len(PONY) + 1) + 1e-4
+    assert np.all(_rotation_gap(full, thinned).max(axis=0) <= limits)
+    lag.key_tolerance, lag.on_twos = 0.0, True
+    assert _bake(rig, bones=",".join(PONY), preset="hair") == {"FINISHED"}
+    twos, _ = sample(scene, rig, frames, list(PONY))
+    for fc in _lag_curves(rig):
+        kinds = np.zeros(len(fc.keyframe_points), dtype=np.int32)
+        fc.keyframe_points.foreach_get("interpolation", kinds)
+        assert len(kinds) == math.ceil(len(frames) / 2) and np.all(kinds == 0)  # CONSTANT
+    # the body only moves (blocking keys locations), so a held delta holds the bones' world rotation
+    odd = twos[1::2, :, :3, :3]
+    np.testing.assert_allclose(odd, twos[0::2, :, :3, :3][:len(odd)], atol=1e-5)
+    np.testing.assert_allclose(twos[0::2, :, :3, :3], full[0::2, :, :3, :3], atol=1e-5)
