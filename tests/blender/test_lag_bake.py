@@ -274,3 +274,29 @@ def test_thinned_keys_stay_within_tolerance_and_twos_hold_as_blender_plays_them(
     odd = twos[1::2, :, :3, :3]
     np.testing.assert_allclose(odd, twos[0::2, :, :3, :3][:len(odd)], atol=1e-5)
     np.testing.assert_allclose(twos[0::2, :, :3, :3], full[0::2, :, :3, :3], atol=1e-5)
+
+
+def test_loop_bake_agrees_at_its_ends_and_a_camera_cut_restarts_from_rest():
+    rig = _ponytail_rig()
+    hips = rig.pose.bones["hips"]
+    for f in range(1, 26):  # a bob repeating every 24 frames
+        hips.location = (0.0, 0.06 * math.sin(2 * math.pi * (f - 1) / 24.0), 0.0)
+        hips.keyframe_insert("location", frame=f)
+    scene, lag = bpy.context.scene, bpy.context.scene.leapwright_lag
+    scene.frame_start, scene.frame_end = 1, 25
+    lag.cyclic = True
+    assert _bake(rig, bones=",".join(PONY), preset="hair") == {"FINISHED"}
+    assert max(json.loads(lag.readout).values()) > 1.0  # it does swing [deg]
+    ends, _ = addon().rig_sampling.sample_pose_world(scene, rig, [1, 25], list(PONY))
+    # 0.1 deg: the loop tolerance of the issue
+    assert _rotation_gap(ends[0], ends[1]).max() < math.radians(0.1)
+    lag.cyclic = False
+    marker = scene.timeline_markers.new("cut", frame=13)
+    marker.camera = bpy.data.objects.new("Cam", bpy.data.cameras.new("Cam"))
+    assert _bake(rig, bones=",".join(PONY), preset="hair") == {"FINISHED"}
+    curves = {(fc.data_path, fc.array_index): fc for fc in _lag_curves(rig)}
+    for name in PONY:
+        q = [curves[(f'pose.bones["{name}"].rotation_quaternion', i)].evaluate(13) for i in range(4)]
+        np.testing.assert_allclose(q, [1.0, 0.0, 0.0, 0.0], atol=1e-6)
+        q = [curves[(f'pose.bones["{name}"].rotation_quaternion', i)].evaluate(12) for i in range(4)]
+        assert abs(q[0]) < 1.0 - 1e-6  # swinging just before the cut
