@@ -162,3 +162,14 @@ def strip_slot_handle(strip):
     if not LAYERED or strip.action_slot is None:
         return 0
     return strip.action_slot.handle
+
+
+def mark_for_objects(action):
+    """Say that ``action`` animates objects, for tools that look for such actions unassigned.
+
+    With slots (4.4+) the object slot says so; before, it is the action's
+    ``id_root``, which an action never assigned leaves unset (glTF export's
+    "all armature actions" then skips it).
+    """
+    if not LAYERED:
+        action.id_root = "OBJECT"

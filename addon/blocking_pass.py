@@ -11,12 +11,15 @@ from dataclasses import dataclass
 import numpy as np
 
 from .core.feet import foot_ball_path
-from .core.keys import frame_keys, hermite_keys, phase_pose_keys
+from .core.keys import frame_keys, held_pose_keys, hermite_keys, phase_pose_keys
 
 WEIGHT_PROPERTY = "lw_weight_bw"
 MARKER_PREFIX = "lw:"
 _UP = np.array([0.0, 0.0, 1.0])
 _NEGLIGIBLE = 1e-12  # channel change per metre below which a channel is left alone
+#: Key styles of held poses on a grid of whole frames, and their step [frames].
+HELD_STEPS = {"TWOS": 2, "THREES": 3}
+BOTH = ("forward", "height")
 
 
 @dataclass(frozen=True)
@@ -75,7 +78,56 @@ def _spec(path, index, timeline, t, values, slopes_per_s, interpolation, thin=Fa
     return CurveSpec(path, index, frames[keep], np.asarray(values)[keep], slopes[keep], interpolation)
 
 
-def body_curves(plan, channels, forward, metres_per_unit, timeline, style, as_delta):
+def carried_parts(root_motion, root_vertical):
+    """``(root parts, body parts)``: which of the plan's travel and rise each part carries.
+
+    ``'IN_PLACE'`` leaves everything on the body bone; the root modes move the
+    travel (and the rise when ``root_vertical``) to the root bone or object.
+    """
+    if root_motion == "IN_PLACE":
+        return (), BOTH
+    if root_vertical:
+        return BOTH, ()
+    return ("forward",), ("height",)
+
+
+def _part_keys(plan, style, fps):
+    """``({'forward': keys, 'height': keys}, interpolation)`` of a key style."""
+    if style in HELD_STEPS:
+        return {n: held_pose_keys(plan, n, fps, HELD_STEPS[style]) for n in BOTH}, "CONSTANT"
+    if style == "POSES":
+        return {n: phase_pose_keys(plan, n) for n in BOTH}, "CONSTANT"
+    if style == "EVERY_FRAME":
+        return {n: frame_keys(plan, n, fps) for n in BOTH}, "LINEAR"
+    return {n: hermite_keys(plan, n) for n in BOTH}, "BEZIER"
+
+
+def keyed_path(plan, part, style, fps, t):
+    """The plan's ``part`` ('forward' or 'height') [m] as its keys trace it, at times ``t`` [s].
+
+    What a root keyed with :func:`body_curves` carries between its keys
+    (cubic Hermite, linear or held, constant beyond the ends), so a controller
+    riding under it can take off exactly that.
+    """
+    keys, interp = _part_keys(plan, style, fps)
+    k = keys[part]
+    t = np.asarray(t, dtype=float)
+    if len(k.times) == 1:
+        return np.full(t.shape, float(k.values[0]))
+    if interp == "CONSTANT":
+        i = np.clip(np.searchsorted(k.times, t + 1e-12, side="right") - 1, 0, len(k.times) - 1)
+        return k.values[i]
+    if interp == "LINEAR":
+        return np.interp(t, k.times, k.values)
+    tc = np.clip(t, k.times[0], k.times[-1])
+    i = np.clip(np.searchsorted(k.times, tc, side="right") - 1, 0, len(k.times) - 2)
+    h = k.times[i + 1] - k.times[i]
+    u = (tc - k.times[i]) / h
+    h00, h10, h01, h11 = 2 * u**3 - 3 * u**2 + 1, u**3 - 2 * u**2 + u, -2 * u**3 + 3 * u**2, u**3 - u**2
+    return (h00 * k.values[i] + h10 * h * k.slopes[i] + h01 * k.values[i + 1] + h11 * h * k.slopes[i + 1])
+
+
+def body_curves(plan, channels, forward, metres_per_unit, timeline, style, as_delta, parts=BOTH):
     """Location curves of the body bone (or object).
 
     Parameters
@@ -87,23 +139,21 @@ def body_curves(plan, channels, forward, metres_per_unit, timeline, style, as_de
     metres_per_unit : float
         [m/BU]
     timeline : Timeline
-    style : {'POSES', 'SPLINE', 'EVERY_FRAME'}
+    style : {'POSES', 'SPLINE', 'EVERY_FRAME', 'TWOS', 'THREES'}
     as_delta : bool
         Values are offsets from zero (for a layer on top of the user's keys)
         instead of from the channel's present value.
+    parts : tuple of {'forward', 'height'}
+        What this channel carries (the rest is left to a root, see
+        :func:`carried_parts`).
     """
     a = channels.world_to_channel @ forward / metres_per_unit  # channel change per forward metre
     b = channels.world_to_channel @ _UP / metres_per_unit  # per metre up
-    if style == "POSES":
-        keys = {"forward": phase_pose_keys(plan, "forward"), "height": phase_pose_keys(plan, "height")}
-        interp = "CONSTANT"
-    elif style == "EVERY_FRAME":
-        keys = {"forward": frame_keys(plan, "forward", timeline.fps),
-                "height": frame_keys(plan, "height", timeline.fps)}
-        interp = "LINEAR"
-    else:
-        keys = {"forward": hermite_keys(plan, "forward"), "height": hermite_keys(plan, "height")}
-        interp = "BEZIER"
+    if "forward" not in parts:
+        a = np.zeros(3)
+    if "height" not in parts:
+        b = np.zeros(3)
+    keys, interp = _part_keys(plan, style, timeline.fps)
     out = []
     for i in range(3):
         uses = [name for name, coef in (("forward", a[i]), ("height", b[i])) if abs(coef) > _NEGLIGIBLE]
@@ -113,7 +163,7 @@ def body_curves(plan, channels, forward, metres_per_unit, timeline, style, as_de
         base = 0.0 if as_delta else float(channels.base[i])
         values = base + a[i] * plan.forward(t) + b[i] * plan.height(t)
         slopes = a[i] * plan.forward_speed(t) + b[i] * plan.vertical_speed(t)
-        if style == "POSES":
+        if style == "POSES" or style in HELD_STEPS:
             slopes = np.zeros_like(t)
         out.append(_spec(channels.data_path, i, timeline, t, values, slopes, interp))
     return out
@@ -123,14 +173,19 @@ def _contact_edges(plan):
     return [x for hop in plan.hops for x in (hop.takeoff_time_s, hop.touchdown_time_s)]
 
 
-def foot_curves(plan, channels, forward, metres_per_unit, timeline, style, tuck_m, as_delta):
+def foot_curves(plan, channels, forward, metres_per_unit, timeline, style, tuck_m, as_delta, riding=()):
     """Location curves of one foot controller: planted in contact, carried in flight.
 
     Keys sit on every frame plus exactly at take-off and touchdown, linear in
     between, so the foot is still for the whole of each contact (the poses
-    style holds each phase's pose instead).
+    style holds each phase's pose instead, the held styles the poses on their
+    grid). ``riding`` names the parts of the plan ('forward', 'height') that a
+    root above the controller already carries; they are taken off its path.
     """
-    if style == "POSES":
+    if style in HELD_STEPS:
+        t = held_pose_keys(plan, "forward", timeline.fps, HELD_STEPS[style]).times
+        interp = "CONSTANT"
+    elif style == "POSES":
         t = _union([p.start_s for p in plan.phases], [plan.duration_s])
         interp = "CONSTANT"
     else:
@@ -138,6 +193,10 @@ def foot_curves(plan, channels, forward, metres_per_unit, timeline, style, tuck_
         t = _union(frames_t, _contact_edges(plan), [0.0, plan.duration_s])
         interp = "LINEAR"
     fwd, up = foot_ball_path(plan, t, tuck=tuck_m)
+    if "forward" in riding:
+        fwd = fwd - keyed_path(plan, "forward", style, timeline.fps, t)
+    if "height" in riding:
+        up = up - keyed_path(plan, "height", style, timeline.fps, t)
     world = (np.outer(fwd, forward) + np.outer(up, _UP)) / metres_per_unit
     local = world @ channels.world_to_channel.T
     out = []

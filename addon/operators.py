@@ -12,7 +12,7 @@ import bpy
 from bpy.props import EnumProperty
 
 from . import blocking_pass as bp
-from . import ownership, plan_link, rig_space
+from . import game_operators, ownership, plan_link, rig_space, root_motion
 from .core.errors import LeapwrightError
 
 CAPABILITY = "blocking"
@@ -78,27 +78,29 @@ class LEAPWRIGHT_OT_write_blocking(bpy.types.Operator):
         try:
             body, feet = rig_space.resolve(rig, s.com_bone, (s.foot_left, s.foot_right))
             forward = rig_space.forward_axis(rig, s.forward)
+            split = root_motion.resolve(rig, s, [f for f in (s.foot_left, s.foot_right) if f])
         except rig_space.SelectionError as exc:
             return None, str(exc)
         if rig.animation_data is not None and rig.animation_data.use_tweak_mode:
             return None, f"'{rig.name}' is in NLA tweak mode; leave it (Tab in the NLA editor) and run again"
         body = _unanimated(body, rig)
         feet = [_unanimated(f, rig) for f in feet]
+        if split.root is not None:
+            split = replace(split, root=_unanimated(split.root, rig))
         plan, readout = plan_link.plan_for(scene)
         if plan is None:
             return None, readout["error"]
         m = plan_link.metres_per_unit(scene)
         timeline = bp.Timeline(float(s.start_frame), plan_link.scene_fps(scene))
         try:
-            probe = bp.body_curves(plan, body, forward, m, timeline, s.key_style, as_delta=False)
-            for foot in feet:
-                probe += bp.foot_curves(plan, foot, forward, m, timeline, s.key_style, s.foot_tuck * m, False)
+            probe = root_motion.curves(split, plan, body, feet, forward, m, timeline, s.key_style,
+                                       s.foot_tuck * m, as_delta=False)
         except LeapwrightError as exc:
             return None, str(exc)
         clashes = ownership.conflicts(rig, probe)
         work = {"rig": rig, "plan": plan, "body": body, "feet": feet, "forward": forward, "m": m,
                 "timeline": timeline, "style": s.key_style, "tuck": s.foot_tuck * m, "clashes": clashes,
-                "specs": probe, "readout": readout}
+                "specs": probe, "readout": readout, "split": split}
         return work, ""
 
     def invoke(self, context, event):
@@ -131,11 +133,8 @@ class LEAPWRIGHT_OT_write_blocking(bpy.types.Operator):
         layered = bool(clashes) and self.on_conflict == "LAYER"
         specs = work["specs"]
         if layered:
-            specs = bp.body_curves(plan, work["body"], work["forward"], work["m"], work["timeline"],
-                                   work["style"], as_delta=True)
-            for foot in work["feet"]:
-                specs += bp.foot_curves(plan, foot, work["forward"], work["m"], work["timeline"],
-                                        work["style"], work["tuck"], True)
+            specs = root_motion.curves(work["split"], plan, work["body"], work["feet"], work["forward"],
+                                       work["m"], work["timeline"], work["style"], work["tuck"], as_delta=True)
         weight = bp.weight_curve(plan, work["timeline"])
         markers = bp.phase_markers(plan, work["timeline"])
 
@@ -160,6 +159,8 @@ class LEAPWRIGHT_OT_write_blocking(bpy.types.Operator):
                               f"{hops[0].flight_time_s * work['timeline'].fps:.1f} frames in the air")
         for w in work["readout"]["warnings"]:
             self.report({"WARNING"}, w)
+        for note in work["readout"].get("stylisations", ()):
+            self.report({"INFO"}, "stylised on purpose: " + note)
         return {"FINISHED"}
 
 
@@ -210,3 +211,4 @@ class LEAPWRIGHT_OT_use_active_bone(bpy.types.Operator):
 
 
 classes = (LEAPWRIGHT_OT_write_blocking, LEAPWRIGHT_OT_remove_written, LEAPWRIGHT_OT_use_active_bone)
+classes += game_operators.classes

@@ -4,7 +4,7 @@ import math
 
 import bpy
 
-from . import plan_link
+from . import game_panel, plan_link
 
 
 class LEAPWRIGHT_PT_jump(bpy.types.Panel):
@@ -34,6 +34,8 @@ class LEAPWRIGHT_PT_jump(bpy.types.Panel):
         box.prop(s, "landing_height")
         box.prop(s, "hops")
         box.prop(s, "gravity")
+        box.prop(s, "fall_gravity_scale")
+        box.prop(s, "apex_hang")
 
         box = layout.box()
         box.label(text="Timing", icon="TIME")
@@ -63,6 +65,13 @@ class LEAPWRIGHT_PT_jump(bpy.types.Panel):
         box.label(text="Keys", icon="KEYFRAME")
         box.prop(s, "key_style")
         box.prop(s, "start_frame")
+        box.prop(s, "root_motion")
+        if s.root_motion != "IN_PLACE":
+            if s.root_motion == "ROOT_BONE" and rig is not None and rig.type == "ARMATURE":
+                box.prop_search(s, "root_bone", rig.data, "bones")
+            elif s.root_motion == "ROOT_BONE":
+                box.prop(s, "root_bone")
+            box.prop(s, "root_vertical")
 
         _draw_readout(layout.box(), context.scene)
 
@@ -90,6 +99,9 @@ def _draw_readout(box, scene):
     for w in r["warnings"]:
         for i, line in enumerate(_wrap(w)):
             col.label(text=line, icon="ERROR" if i == 0 else "BLANK1")
+    for note in r.get("stylisations", ()):
+        for i, line in enumerate(_wrap("Stylised: " + note)):
+            col.label(text=line, icon="INFO" if i == 0 else "BLANK1")
 
 
 def _wrap(text, width=48):
@@ -105,4 +117,4 @@ def _wrap(text, width=48):
     return lines
 
 
-classes = (LEAPWRIGHT_PT_jump,)
+classes = (LEAPWRIGHT_PT_jump,) + game_panel.classes

@@ -58,13 +58,15 @@ def goals_from(settings, scene):
                   "push_duration": settings.push_duration, "landing_duration": settings.landing_duration}
     return JumpGoals(standing_com_height=settings.standing_com_height * m, distance=settings.distance * m,
                      landing_height=settings.landing_height * m, weighing_duration=settings.weighing_duration,
-                     gravity=exact_gravity(settings.gravity), hops=int(settings.hops), **aim, **timing)
+                     gravity=exact_gravity(settings.gravity), hops=int(settings.hops),
+                     fall_gravity_scale=float(settings.fall_gravity_scale), apex_hang=float(settings.apex_hang),
+                     **aim, **timing)
 
 
 def _key(settings, scene):
     names = ("goal", "height", "flight_time", "takeoff_speed", "distance", "landing_height", "hops",
              "gravity", "standing_com_height", "custom_timing", "depth", "dip_duration", "push_duration",
-             "landing_duration", "weighing_duration")
+             "landing_duration", "weighing_duration", "fall_gravity_scale", "apex_hang")
     return tuple(getattr(settings, n) for n in names) + (metres_per_unit(scene), scene_fps(scene))
 
 
@@ -73,7 +75,8 @@ def plan_for(scene):
 
     The readout holds what the panel shows: ``flight_frames`` (per hop),
     ``peak_force_bw``, ``figures`` ((name, value, unit, grade) tuples),
-    ``warnings`` (sentences) and ``error`` (the core's message, or "").
+    ``warnings`` (sentences), ``stylisations`` (sentences naming each
+    deliberate departure from physics with its physical equivalent) and ``error`` (the core's message, or "").
     """
     settings = scene.leapwright
     key = _key(settings, scene)
@@ -81,7 +84,7 @@ def plan_for(scene):
     if hit is not None and hit[0] == key:
         return hit[1], hit[2]
     plan, readout = None, {"flight_frames": (), "peak_force_bw": math.nan, "figures": (), "warnings": (),
-                           "error": "", "duration_frames": 0.0}
+                           "stylisations": (), "error": "", "duration_frames": 0.0}
     try:
         plan = plan_jump(goals_from(settings, scene))
     except LeapwrightError as exc:
@@ -94,6 +97,7 @@ def plan_for(scene):
             peak_force_bw=max(rep.peak_push_force_bw, rep.peak_landing_force_bw),
             figures=tuple((f.name, f.value, f.unit, f.grade) for f in rep.figures),
             warnings=tuple(rep.warnings),
+            stylisations=tuple(rep.stylisations),
             duration_frames=plan.duration_s * fps,
         )
     _CACHE[scene.as_pointer()] = (key, plan, readout)

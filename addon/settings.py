@@ -26,6 +26,14 @@ STYLE_ITEMS = (
     ("POSES", "Poses", "One key per phase, held (constant): for blocking"),
     ("SPLINE", "Spline", "The fewest Bezier keys that trace the planned path; exact in the air"),
     ("EVERY_FRAME", "Every frame", "A key on every frame, linear in between"),
+    ("TWOS", "On twos", "A held pose every 2nd frame (constant); contact and take-off frames always keyed"),
+    ("THREES", "On threes", "A held pose every 3rd frame (constant); contact and take-off frames always keyed"),
+)
+ROOT_ITEMS = (
+    ("IN_PLACE", "In place", "The root stays put; the body bone carries the whole arc and travel"),
+    ("ROOT_BONE", "Root bone", "A root bone follows the ground point under the body (travel, optionally "
+                               "the rise); the body bone carries the rest"),
+    ("OBJECT", "Object", "The armature object carries the travel (optionally the rise); the body bone the rest"),
 )
 FORWARD_ITEMS = (
     ("RIG", "Rig's facing", "The way the rig faces: its -Y axis, like Blender's front view"),
@@ -79,6 +87,20 @@ class LeapwrightSettings(bpy.types.PropertyGroup):
     foot_tuck: FloatProperty(name="Tuck", subtype="DISTANCE", unit="LENGTH", default=0.0, min=0.0,
                              description="How far the feet lift towards the body in the air")
     forward: EnumProperty(name="Forward", items=FORWARD_ITEMS, default="RIG", update=_changed)
+
+    fall_gravity_scale: FloatProperty(name="Fall gravity ×", default=1.0, min=0.01, max=100.0, soft_max=4.0,
+                                      update=_changed,
+                                      description="Stylisation: the fall after the top uses this multiple of "
+                                                  "gravity (1 = physical; games often fall faster)")
+    apex_hang: FloatProperty(name="Hang at top", unit="TIME_ABSOLUTE", default=0.0, min=0.0, soft_max=1.0,
+                             update=_changed, description="Stylisation: time held at the top (0 = physical)")
+
+    root_motion: EnumProperty(name="Root motion", items=ROOT_ITEMS, default="IN_PLACE")
+    root_bone: StringProperty(name="Root bone", default="root",
+                              description="Bone that carries the travel in 'Root bone' mode (an ancestor of "
+                                          "the body bone)")
+    root_vertical: BoolProperty(name="Rise on root", default=False,
+                                description="The root (or object) also carries the vertical arc")
 
     key_style: EnumProperty(name="Keys", items=STYLE_ITEMS, default="SPLINE")
     start_frame: IntProperty(name="Start frame", default=1, update=_changed)

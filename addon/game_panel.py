@@ -1,0 +1,57 @@
+"""Sub-panel "Game Export" under the jump panel: the export checks' last findings."""
+
+import bpy
+
+from . import game_operators
+
+
+class LEAPWRIGHT_PT_game_export(bpy.types.Panel):
+    """Export checks for game engines"""
+
+    bl_label = "Game Export"
+    bl_idname = "LEAPWRIGHT_PT_game_export"
+    bl_space_type = "VIEW_3D"
+    bl_region_type = "UI"
+    bl_category = "Leapwright"
+    bl_parent_id = "LEAPWRIGHT_PT_jump"
+    bl_options = {"DEFAULT_CLOSED"}
+
+    @classmethod
+    def poll(cls, context):
+        return getattr(context.scene, "leapwright", None) is not None
+
+    def draw(self, context):
+        layout = self.layout
+        row = layout.row(align=True)
+        row.operator("leapwright.check_export", icon="CHECKMARK")
+        snap = row.operator("leapwright.check_export", text="Snap and Check", icon="SNAP_ON")
+        if snap is not None:  # None only under a stand-in layout
+            snap.snap_keys = True
+        layout.operator("leapwright.split_clips", icon="NLA")
+        last = game_operators.LAST_CHECK.get(context.scene.as_pointer())
+        col = layout.column(align=True)
+        if last is None:
+            col.label(text="Not checked yet")
+            return
+        name, found = last
+        if not found:
+            col.label(text=f"'{name}' is ready to export", icon="CHECKMARK")
+        for issue in found:
+            for i, line in enumerate(_wrap(issue.message)):
+                col.label(text=line, icon="ERROR" if i == 0 else "BLANK1")
+
+
+def _wrap(text, width=48):
+    words, lines, line = text.split(), [], ""
+    for w in words:
+        if line and len(line) + 1 + len(w) > width:
+            lines.append(line)
+            line = w
+        else:
+            line = f"{line} {w}".strip()
+    if line:
+        lines.append(line)
+    return lines
+
+
+classes = (LEAPWRIGHT_PT_game_export,)
