@@ -18,7 +18,7 @@ VPY := $(VENV)/bin/python
 # Shared libraries that `import bpy` needs on Debian (4.2 also libxxf86vm1 libgomp1).
 BPY_SYSLIBS := libx11-6 libxrender1 libxfixes3 libxi6 libxkbcommon0 libsm6 libice6 libgl1 libxxf86vm1 libgomp1
 
-.PHONY: help setup setup-core setup-blender demo plan-demo docs-pictures test test-demo test-core test-blender test-blender-4.2 test-blender-4.5 test-blender-newest build fuzz bench clean
+.PHONY: typecheck help setup setup-core setup-blender demo plan-demo docs-pictures test test-demo test-core test-blender test-blender-4.2 test-blender-4.5 test-blender-newest build fuzz bench clean
 
 help:
 	@echo "make demo   - build the demo scene and write a jump through the extension (sets itself up)"
@@ -95,6 +95,9 @@ test: test-core test-blender test-demo
 docs-pictures: build
 	$(VPY) blend_examples/run_demo.py --zip "$$(ls -t dist/leapwright-*.zip | head -n 1)" --out blend_examples/out --docs docs
 	$(VENV)/bin/leapwright plan --height 0.4 --fps 24 --chart docs/plan_force.png > /dev/null
+
+typecheck: $(STAMP)/core
+	PY311="$(PY311)" bash tools/typecheck.sh
 
 fuzz: $(STAMP)/core
 	$(VPY) tests/fuzz/run_fuzz.py

@@ -103,17 +103,34 @@ segments by the bone tree, or by the rig's ``lw_body_map`` text
 ``edit_body_map()``
     Copies the map found from the bone tree into ``lw_body_map`` to edit it.
 
+``check_jump()``
+    Samples the body bone (or the object) once per frame over the scene range,
+    in scene time, and runs the core's analysis: findings on
+    ``scene.leapwright_check.findings`` (kind, first_frame, last_frame,
+    message, suggestion), ``implied_gravity`` and ``summary``; the measured
+    apparent weight as the animated property ``lw_weight_measured_bw`` (group
+    ``lw:check``); ``lw:measured <phase>`` markers when ``add_markers`` is on.
+    ``show_overlay`` draws the path with a tick per frame, the arc its timing
+    implies and the planned arc (geometry: ``path_overlay.overlay_geometry``).
+``go_to_finding(index=0)`` / ``clear_check()``
+    Jump to a finding's first frame; remove what the check wrote.
+``check_export(snap_keys=False)`` / ``split_clips()``
+    Export checks (unit scale, object scale, keys between frames, root axes,
+    bone scale keys; optionally snap leapwright's keys to whole frames) and the
+    jump split into ``<rig>-leap-start`` / ``-air`` / ``-land`` actions.
+
 Bookkeeping for removal is kept in the rig's ``lw_state`` custom property.
 """
 
 import bpy
 
-from . import air_operators, air_panel, air_settings
+from . import air_operators, air_panel, air_settings, check_operators, check_panel, check_settings
 from . import lag_operators, lag_panel, lag_settings, operators, panel, plan_link, settings
 
 classes = (settings.classes + lag_settings.classes + operators.classes + lag_operators.classes + panel.classes
            + lag_panel.classes)
 classes += air_settings.classes + air_operators.classes + air_panel.classes
+classes += check_settings.classes + check_operators.classes + check_panel.classes
 
 
 def register():
@@ -122,9 +139,11 @@ def register():
     settings.register_properties()
     lag_settings.register_properties()
     air_settings.register_properties()
+    check_settings.register_properties()
 
 
 def unregister():
+    check_settings.unregister_properties()
     air_settings.unregister_properties()
     lag_settings.unregister_properties()
     settings.unregister_properties()

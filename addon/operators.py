@@ -12,7 +12,7 @@ import bpy
 from bpy.props import EnumProperty
 
 from . import blocking_pass as bp
-from . import game_operators, ownership, plan_link, rig_space, root_motion
+from . import check_operators, game_operators, ownership, plan_link, rig_space, root_motion
 from .core.errors import LeapwrightError
 
 CAPABILITY = "blocking"
@@ -39,11 +39,16 @@ def _markers_clear(scene):
         scene.timeline_markers.remove(m)
 
 
+#: Properties leapwright adds to the rig (the blocking pass's plan, the checker's measurement).
+OWN_PROPERTIES = (bp.WEIGHT_PROPERTY, check_operators.MEASURED_PROPERTY)
+
+
 def _remove_blocking(scene, rig):
     ownership.clear(rig, CAPABILITY)
     _markers_clear(scene)
-    if bp.WEIGHT_PROPERTY in rig:
-        del rig[bp.WEIGHT_PROPERTY]
+    for name in OWN_PROPERTIES:
+        if name in rig:
+            del rig[name]
 
 
 def _unanimated(channels, rig):
@@ -179,7 +184,7 @@ class LEAPWRIGHT_OT_remove_written(bpy.types.Operator):
         rig = _rig(context)
         written = ownership.capabilities_written(rig)
         has_marks = any(m.name.startswith(bp.MARKER_PREFIX) for m in context.scene.timeline_markers)
-        if not written and bp.WEIGHT_PROPERTY not in rig and not has_marks:
+        if not written and not any(name in rig for name in OWN_PROPERTIES) and not has_marks:
             self.report({"INFO"}, f"nothing from leapwright on '{rig.name}'")
             return {"CANCELLED"}
         for capability in written:

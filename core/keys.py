@@ -61,10 +61,12 @@ def _span_error(f, df, t0, t1):
 
 
 def _breakpoints(plan):
-    """Times that must be keys: the ends, and every take-off and touchdown."""
+    """Times that must be keys: the ends, every take-off and touchdown, and the joins inside a flight."""
     points = {0.0, plan.duration_s}
     for hop in plan.hops:
         points.update((hop.takeoff_time_s, hop.touchdown_time_s))
+        # A stylised flight is several exact pieces (rise, apex hang, fall): key each join.
+        points.update(s for s in plan.z_path.starts if hop.takeoff_time_s < s < hop.touchdown_time_s)
     return sorted(points)
 
 

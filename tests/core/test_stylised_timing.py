@@ -60,3 +60,14 @@ def test_bad_stylisation_values_are_refused():
         JumpGoals(height=0.4, apex_hang=-0.1)
     with pytest.raises(InfeasibleJumpError, match="hang"):
         plan_jump(JumpGoals(flight_time=0.3, apex_hang=0.4))
+
+
+def test_keys_hold_the_apex_hang_exactly():
+    from core.keys import evaluate_hermite, hermite_keys
+
+    plan = plan_jump(JumpGoals(height=0.4, apex_hang=4 / FPS, fall_gravity_scale=1.5))
+    keys = hermite_keys(plan, "height")
+    hop = plan.hops[0]
+    t = np.linspace(hop.takeoff_time_s, hop.touchdown_time_s, 2001)
+    # Each flight piece is a polynomial of degree <= 2: cubic Hermite spans reproduce it exactly.
+    assert np.max(np.abs(evaluate_hermite(keys, t) - plan.height(t))) < 1e-9
