@@ -49,13 +49,13 @@ $(STAMP)/bpy-newest: $(STAMP)/core $(STAMP)/syslibs
 $(STAMP)/bpy-4.2: $(STAMP)/syslibs
 	@test -n "$(PY311)" || { echo "Python 3.11 not found (needed for bpy $(BPY_42))"; exit 1; }
 	test -x .venv-4.2/bin/python || $(PY311) -m venv .venv-4.2
-	.venv-4.2/bin/pip install -q "bpy==$(BPY_42)" pytest
+	.venv-4.2/bin/pip install -q "bpy==$(BPY_42)" pytest pygltflib
 	@touch $@
 
 $(STAMP)/bpy-4.5: $(STAMP)/syslibs
 	@test -n "$(PY311)" || { echo "Python 3.11 not found (needed for bpy $(BPY_45))"; exit 1; }
 	test -x .venv-4.5/bin/python || $(PY311) -m venv .venv-4.5
-	.venv-4.5/bin/pip install -q "bpy==$(BPY_45)" pytest
+	.venv-4.5/bin/pip install -q "bpy==$(BPY_45)" pytest pygltflib
 	@touch $@
 
 setup-core: $(STAMP)/core
