@@ -151,6 +151,19 @@ class _Recorder:
         return timers, draws
 
 
+def _switch_overlays_on():
+    """Turn on every viewport drawing the add-on offers (so disabling must remove it); how many."""
+    n = 0
+    scene = bpy.context.scene
+    for prop in bpy.types.Scene.bl_rna.properties:
+        if prop.identifier.startswith("leapwright"):
+            group = getattr(scene, prop.identifier)
+            if group is not None and "show_overlay" in group.bl_rna.properties:
+                group.show_overlay = True
+                n += 1
+    return n
+
+
 def _operator_runs():
     """The reinstalled add-on plans and writes a jump on a fresh rig."""
     from rig_builder import build_rig, configure
@@ -177,6 +190,7 @@ def no_install():
 
 
 def test_twenty_install_cycles_leave_nothing_behind(no_install):
+    overlays = 0
     with _Recorder() as rec:
         for n in range(CYCLES):
             install()
@@ -185,11 +199,14 @@ def test_twenty_install_cycles_leave_nothing_behind(no_install):
             assert "leapwright" in bpy.types.Scene.bl_rna.properties, n
             assert "write_blocking" in dir(bpy.ops.leapwright), n
             assert leftovers(), "the leftover check sees nothing even while the add-on is enabled"
+            overlays += _switch_overlays_on()
             disable()
             assert leftovers() == [], (n, "after disable")
             uninstall()
             assert leftovers() == [], (n, "after uninstall")
         timers, draws = rec.still_registered()
+    if overlays:  # the draw-handler record can fail: the overlay added one each cycle
+        assert len(rec.draw_added) >= overlays, (len(rec.draw_added), overlays)
     assert timers == [], f"timers left registered: {timers}"
     assert draws == [], f"draw handlers never removed: {draws}"
     assert not [m for m in sys.modules if m == MODULE and getattr(sys.modules[m], "__addon_enabled__", False)]
