@@ -20,7 +20,7 @@ from dataclasses import dataclass
 import numpy as np
 from mathutils import Euler, Quaternion
 
-from . import ownership, rig_sampling
+from . import ownership, rig_sampling, rig_space
 from .blocking_pass import CurveSpec
 from .core.chains import BakeOptions, ChainParameters, bake_chains
 from .core.chain_presets import chain_preset
@@ -121,6 +121,9 @@ def check(rig, request):
         raise LagError("no rig: make the armature active (or set it as the jump's rig)")
     if rig.type != "ARMATURE":
         raise LagError(f"{rig.name!r} is a {rig.type.lower()}, not an armature; make the armature active")
+    linked = rig_space.linked_library_problem(rig)
+    if linked:
+        raise LagError(linked)
     if not request.bones:
         raise LagError("no bones chosen: select the pose bones to bake, name them, or pick a bone collection")
     missing = [n for n in request.bones if rig.pose.bones.get(n) is None]

@@ -72,7 +72,10 @@ class LEAPWRIGHT_OT_bake_lag(bpy.types.Operator):
 
     @classmethod
     def poll(cls, context):
-        return _lag(context) is not None and context.mode in {"OBJECT", "POSE"}
+        if context.mode not in {"OBJECT", "POSE"}:
+            cls.poll_message_set("leave edit mode (Tab): follow-through is baked in object or pose mode")
+            return False
+        return _lag(context) is not None
 
     def execute(self, context):
         rig = _rig(context)
@@ -113,7 +116,10 @@ class LEAPWRIGHT_OT_remove_lag(bpy.types.Operator):
 
     @classmethod
     def poll(cls, context):
-        return _lag(context) is not None and context.mode in {"OBJECT", "POSE"}
+        if context.mode not in {"OBJECT", "POSE"}:
+            cls.poll_message_set("leave edit mode (Tab): follow-through is baked in object or pose mode")
+            return False
+        return _lag(context) is not None
 
     def execute(self, context):
         rig = _rig(context)

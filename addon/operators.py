@@ -73,7 +73,10 @@ class LEAPWRIGHT_OT_write_blocking(bpy.types.Operator):
 
     @classmethod
     def poll(cls, context):
-        return _settings(context) is not None and context.mode in {"OBJECT", "POSE"}
+        if context.mode not in {"OBJECT", "POSE"}:
+            cls.poll_message_set("leave edit mode (Tab): the jump is written in object or pose mode")
+            return False
+        return _settings(context) is not None
 
     def _prepare(self, context):
         """Everything to write, or a message saying why not: ``(work, error)``."""

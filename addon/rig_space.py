@@ -78,6 +78,18 @@ def _ancestors(pb):
     return out
 
 
+def linked_library_problem(rig):
+    """Why keys cannot go on a rig linked from another file, or None for a local rig.
+
+    Blender keeps linked data read-only on disk: keys written into a linked rig
+    in memory are lost when the file is saved.
+    """
+    if rig is None or rig.library is None:
+        return None
+    return (f"'{rig.name}' is linked from '{rig.library.filepath}', so keys written on it would be lost on "
+            "save; make a library override (Object > Library Override > Make) and run again")
+
+
 def resolve(rig, body_bone, feet):
     """Check the character and return its :class:`Channels`.
 
@@ -102,6 +114,9 @@ def resolve(rig, body_bone, feet):
     """
     if rig is None:
         raise SelectionError("no rig chosen: pick the character's armature under Character")
+    linked = linked_library_problem(rig)
+    if linked:
+        raise SelectionError(linked)
     named = [b for b in (body_bone, *feet) if b]
     if named and rig.type != "ARMATURE":
         raise SelectionError(f"'{rig.name}' is a {rig.type.lower()}, not an armature, so it has no bone "
@@ -142,7 +157,7 @@ def forward_axis(rig, mode):
     facing = np.array(rig.matrix_world.to_3x3() @ Vector((0.0, -1.0, 0.0)))
     facing[2] = 0.0
     n = np.linalg.norm(facing)
-    if n < 1e-9:
+    if n < 1e-6:  # float32 matrices leave ~1e-7 of rounding where there is no horizontal part
         raise SelectionError(f"'{rig.name}' faces straight up or down, so it has no forward direction; "
                              "choose a world axis under Forward")
     return facing / n

@@ -23,9 +23,6 @@ import pytest
 from rig_builder import add_user_keys, build_rig, configure
 from scene_probe import addon, file_state, first_difference, reports, run_remove, run_write, world_head
 
-LINKED_BUG = ("addon/operators.py _prepare: a linked rig (rig.library set) is written into in memory and the "
-              "keys are lost when the file is saved; see the report of issue 10")
-
 
 def _refused(match, run=None):
     """Run the write (or ``run``), expect an ERROR naming the problem, and no change."""
@@ -131,9 +128,6 @@ def test_rig_with_zero_scale():
     _refused("zero scale")
 
 
-@pytest.mark.xfail(strict=True, raises=pytest.fail.Exception, reason=(
-    "addon/rig_space.py forward_axis: the 1e-9 threshold is below float32 rounding (cos 90 deg = -4.4e-8 "
-    "in a float32 matrix), so a rig turned exactly 90 deg gets a forward direction made of rounding noise"))
 def test_rig_facing_straight_up_with_forward_from_the_rig():
     rig = build_rig()
     rig.rotation_euler = (math.pi / 2, 0.0, 0.0)  # its -Y now points down
@@ -145,12 +139,10 @@ def test_rig_in_edit_mode_is_refused_by_poll():
     rig = build_rig()
     configure(rig)
     bpy.ops.object.mode_set(mode="EDIT")
-    _refused(r"poll\(\) failed", bpy.ops.leapwright.write_blocking)
+    _refused(r"poll\(\).*edit mode", bpy.ops.leapwright.write_blocking)
     bpy.ops.object.mode_set(mode="OBJECT")
 
 
-@pytest.mark.xfail(strict=True, raises=AssertionError, reason="addon/operators.py poll() sets no poll message: the error says "
-                                       "'context is incorrect' instead of naming edit mode")
 def test_rig_in_edit_mode_message_names_edit_mode():
     configure(build_rig())
     bpy.ops.object.mode_set(mode="EDIT")
@@ -181,7 +173,6 @@ def _link_rig(path):
     return obj
 
 
-@pytest.mark.xfail(strict=True, raises=pytest.fail.Exception, reason=LINKED_BUG)
 @pytest.mark.parametrize("mode", ["ASK", "REPLACE", "LAYER"])
 def test_linked_rig_is_refused(mode):
     rig = _link_rig(_library_file())
@@ -502,7 +493,7 @@ def test_bake_lag_in_edit_mode_is_refused_by_poll():
     _lag_rig()
     bpy.ops.object.mode_set(mode="EDIT")
     try:
-        _refused(r"poll\(\) failed", lambda: bpy.ops.leapwright.bake_lag(bones="pony.1"))
+        _refused(r"poll\(\).*edit mode", lambda: bpy.ops.leapwright.bake_lag(bones="pony.1"))
     finally:
         bpy.ops.object.mode_set(mode="OBJECT")
 
@@ -544,9 +535,6 @@ def test_remove_arc_fix_with_nothing_written(capfd):
     assert file_state() == before, first_difference(file_state(), before)
 
 
-@pytest.mark.xfail(strict=True, raises=pytest.fail.Exception, reason=(
-    "addon/lag_bake.py check(): a linked rig (rig.library set) is baked into in memory and the layer is "
-    "lost when the file is saved"))
 def test_bake_lag_on_a_linked_rig_is_refused():
     from test_lag_bake import _ponytail_rig
     rig = _link_rig(_library_file(_ponytail_rig))
