@@ -89,7 +89,7 @@ test-blender: test-blender-newest test-blender-4.2 test-blender-4.5
 test-demo: demo
 	$(VPY) -m pytest tests/blender_demo -q
 
-test: test-core test-blender test-demo
+test: test-core typecheck test-blender test-demo
 
 # Refresh the committed README pictures from a demo run.
 docs-pictures: build
