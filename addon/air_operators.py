@@ -6,16 +6,11 @@ run leaves the file as it was. No ``bpy.ops`` inside ``execute``.
 
 import bpy
 
-from . import air_correction as ac
+from . import air_correction as ac, rig_space
 from . import body_com, plan_link
 
 #: Rig name -> lines of the last check (shown in the panel; not saved in the file).
 LAST_CHECK = {}
-
-
-def _rig(context):
-    s = getattr(context.scene, "leapwright", None)
-    return s.rig if s is not None and s.rig is not None else context.active_object
 
 
 def _gravity(scene):
@@ -24,7 +19,7 @@ def _gravity(scene):
 
 def _ready(context):
     return (getattr(context.scene, "leapwright_air", None) is not None and context.mode in {"OBJECT", "POSE"}
-            and _rig(context) is not None)
+            and rig_space.chosen_rig(context) is not None)
 
 
 def _remember(rig, work):
@@ -49,7 +44,7 @@ class LEAPWRIGHT_OT_check_body_arc(bpy.types.Operator):
         return _ready(context)
 
     def execute(self, context):
-        rig = _rig(context)
+        rig = rig_space.chosen_rig(context)
         try:
             work = ac.prepare(context.scene, rig, context.scene.leapwright_air, _gravity(context.scene),
                               own_layer=True)
@@ -77,7 +72,7 @@ class LEAPWRIGHT_OT_keep_body_on_arc(bpy.types.Operator):
         return _ready(context)
 
     def execute(self, context):
-        scene, rig = context.scene, _rig(context)
+        scene, rig = context.scene, rig_space.chosen_rig(context)
         try:
             work = ac.prepare(scene, rig, scene.leapwright_air, _gravity(scene))
             specs = ac.curve_specs(work)
@@ -109,10 +104,10 @@ class LEAPWRIGHT_OT_remove_arc_fix(bpy.types.Operator):
 
     @classmethod
     def poll(cls, context):
-        return _rig(context) is not None
+        return rig_space.chosen_rig(context) is not None
 
     def execute(self, context):
-        rig = _rig(context)
+        rig = rig_space.chosen_rig(context)
         if not ac.remove(rig):
             self.report({"INFO"}, f"no in-air correction on '{rig.name}'")
             return {"CANCELLED"}
@@ -130,11 +125,11 @@ class LEAPWRIGHT_OT_edit_body_map(bpy.types.Operator):
 
     @classmethod
     def poll(cls, context):
-        rig = _rig(context)
+        rig = rig_space.chosen_rig(context)
         return rig is not None and rig.type == "ARMATURE"
 
     def execute(self, context):
-        rig = _rig(context)
+        rig = rig_space.chosen_rig(context)
         try:
             _model, marks, _how = body_com.body_model(rig, context.scene.leapwright_air.table)
         except body_com.BodyError as exc:

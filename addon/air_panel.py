@@ -2,8 +2,8 @@
 
 import bpy
 
-from . import air_correction, air_operators, body_com, ownership
-from .panel import _wrap
+from . import air_correction, air_operators, body_com, ownership, rig_space
+from .ui_text import wrap_text
 
 
 class LEAPWRIGHT_PT_air(bpy.types.Panel):
@@ -26,7 +26,7 @@ class LEAPWRIGHT_PT_air(bpy.types.Panel):
         layout = self.layout
         layout.use_property_split = True
         layout.use_property_decorate = False
-        rig = air_operators._rig(context)
+        rig = rig_space.chosen_rig(context)
         layout.prop(a, "table")
         layout.prop(a, "flights")
         if rig is not None and rig.type == "ARMATURE":
@@ -49,7 +49,7 @@ class LEAPWRIGHT_PT_air(bpy.types.Panel):
                 box = layout.box()
                 box.label(text="Last check", icon="INFO")
                 for k, text in enumerate(lines):
-                    for i, line in enumerate(_wrap(text)):
+                    for i, line in enumerate(wrap_text(text)):
                         box.label(text=line, icon=("ERROR" if k else "INFO") if i == 0 else "BLANK1")
             if air_correction.CAPABILITY in ownership.capabilities_written(rig):
                 layout.label(text=f"Correction layer '{air_correction.TRACK}' is on", icon="NLA")
@@ -67,7 +67,7 @@ def _draw_map(box, rig, table):
     try:
         model, marks, how = body_com.body_model(rig, table)
     except body_com.BodyError as exc:
-        for i, line in enumerate(_wrap(str(exc))):
+        for i, line in enumerate(wrap_text(str(exc))):
             box.label(text=line, icon="ERROR" if i == 0 else "BLANK1")
         box.operator("leapwright.edit_body_map", icon="GREASEPENCIL")
         return

@@ -12,7 +12,7 @@ import numpy as np
 import bpy
 from bpy.props import IntProperty
 
-from . import ownership, path_overlay, plan_link, rig_sampling
+from . import ownership, path_overlay, plan_link, rig_sampling, rig_space
 from .blocking_pass import CurveSpec
 from .core.analysis import analyse_trajectory
 from .core.errors import LeapwrightError
@@ -20,11 +20,6 @@ from .core.errors import LeapwrightError
 CAPABILITY = "check"
 MEASURED_PROPERTY = "lw_weight_measured_bw"
 MARKER_PREFIX = "lw:measured "
-
-
-def _rig(context):
-    s = getattr(context.scene, "leapwright", None)
-    return s.rig if s is not None and s.rig is not None else context.active_object
 
 
 def sample_body_path(scene, rig, bone):
@@ -67,11 +62,11 @@ class LEAPWRIGHT_OT_check_jump(bpy.types.Operator):
 
     @classmethod
     def poll(cls, context):
-        return _rig(context) is not None and hasattr(context.scene, "leapwright_check")
+        return rig_space.chosen_rig(context) is not None and hasattr(context.scene, "leapwright_check")
 
     def execute(self, context):
         scene = context.scene
-        rig = _rig(context)
+        rig = rig_space.chosen_rig(context)
         bone = scene.leapwright.com_bone if rig.type == "ARMATURE" else ""
         if bone and bone not in rig.pose.bones:
             self.report({"ERROR"}, f"'{rig.name}' has no bone '{bone}'; pick the body bone under Character")
@@ -155,7 +150,7 @@ class LEAPWRIGHT_OT_clear_check(bpy.types.Operator):
         return hasattr(context.scene, "leapwright_check")
 
     def execute(self, context):
-        clear_check(context.scene, _rig(context))
+        clear_check(context.scene, rig_space.chosen_rig(context))
         return {"FINISHED"}
 
 

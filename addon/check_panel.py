@@ -2,7 +2,7 @@
 
 import bpy
 
-from .panel import _wrap
+from .ui_text import wrap_text
 
 
 class LEAPWRIGHT_PT_check(bpy.types.Panel):
@@ -39,7 +39,7 @@ class LEAPWRIGHT_PT_check(bpy.types.Panel):
             op.index = i
             col = box.column(align=True)
             for text in (f.message, "Fix: " + f.suggestion):
-                for line in _wrap(text):
+                for line in wrap_text(text):
                     col.label(text=line)
 
 

@@ -20,11 +20,6 @@ from . import export_checks, jump_clips, ownership, plan_link, rig_space, root_m
 LAST_CHECK = {}
 
 
-def _rig(context):
-    s = getattr(context.scene, "leapwright", None)
-    return s.rig if s is not None and s.rig is not None else context.active_object
-
-
 class LEAPWRIGHT_OT_check_export(bpy.types.Operator):
     """Check the rig for what breaks game exports: unit scale, object scale, keys between frames, root axes, bone scale keys"""
 
@@ -38,10 +33,10 @@ class LEAPWRIGHT_OT_check_export(bpy.types.Operator):
 
     @classmethod
     def poll(cls, context):
-        return getattr(context.scene, "leapwright", None) is not None and _rig(context) is not None
+        return getattr(context.scene, "leapwright", None) is not None and rig_space.chosen_rig(context) is not None
 
     def execute(self, context):
-        rig = _rig(context)
+        rig = rig_space.chosen_rig(context)
         s = context.scene.leapwright
         moved = export_checks.snap_written_keys(rig) if self.snap_keys else 0
         context.view_layer.update()  # world matrices after any change made from a script
@@ -66,13 +61,13 @@ class LEAPWRIGHT_OT_split_clips(bpy.types.Operator):
 
     @classmethod
     def poll(cls, context):
-        rig = _rig(context)
+        rig = rig_space.chosen_rig(context)
         return getattr(context.scene, "leapwright", None) is not None and rig is not None
 
     def execute(self, context):
         scene = context.scene
         s = scene.leapwright
-        rig = _rig(context)
+        rig = rig_space.chosen_rig(context)
         if "blocking" not in ownership.capabilities_written(rig):
             self.report({"ERROR"}, f"'{rig.name}' has no jump written by leapwright; write the jump first")
             return {"CANCELLED"}

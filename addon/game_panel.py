@@ -2,6 +2,8 @@
 
 import bpy
 
+from .ui_text import wrap_text
+
 from . import game_operators
 
 
@@ -37,21 +39,9 @@ class LEAPWRIGHT_PT_game_export(bpy.types.Panel):
         if not found:
             col.label(text=f"'{name}' is ready to export", icon="CHECKMARK")
         for issue in found:
-            for i, line in enumerate(_wrap(issue.message)):
+            for i, line in enumerate(wrap_text(issue.message)):
                 col.label(text=line, icon="ERROR" if i == 0 else "BLANK1")
 
-
-def _wrap(text, width=48):
-    words, lines, line = text.split(), [], ""
-    for w in words:
-        if line and len(line) + 1 + len(w) > width:
-            lines.append(line)
-            line = w
-        else:
-            line = f"{line} {w}".strip()
-    if line:
-        lines.append(line)
-    return lines
 
 
 classes = (LEAPWRIGHT_PT_game_export,)

@@ -29,11 +29,6 @@ def _settings(context):
     return getattr(context.scene, "leapwright", None)
 
 
-def _rig(context):
-    s = _settings(context)
-    return s.rig if s is not None and s.rig is not None else context.active_object
-
-
 def _markers_clear(scene):
     for m in [m for m in scene.timeline_markers if m.name.startswith(bp.MARKER_PREFIX)]:
         scene.timeline_markers.remove(m)
@@ -82,7 +77,7 @@ class LEAPWRIGHT_OT_write_blocking(bpy.types.Operator):
         """Everything to write, or a message saying why not: ``(work, error)``."""
         scene = context.scene
         s = scene.leapwright
-        rig = _rig(context)
+        rig = rig_space.chosen_rig(context)
         try:
             body, feet = rig_space.resolve(rig, s.com_bone, (s.foot_left, s.foot_right))
             forward = rig_space.forward_axis(rig, s.forward)
@@ -181,10 +176,10 @@ class LEAPWRIGHT_OT_remove_written(bpy.types.Operator):
 
     @classmethod
     def poll(cls, context):
-        return _rig(context) is not None
+        return rig_space.chosen_rig(context) is not None
 
     def execute(self, context):
-        rig = _rig(context)
+        rig = rig_space.chosen_rig(context)
         written = ownership.capabilities_written(rig)
         has_marks = any(m.name.startswith(bp.MARKER_PREFIX) for m in context.scene.timeline_markers)
         if not written and not any(name in rig for name in OWN_PROPERTIES) and not has_marks:

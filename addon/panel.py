@@ -4,6 +4,8 @@ import math
 
 import bpy
 
+from .ui_text import wrap_text
+
 from . import game_panel, plan_link
 
 
@@ -86,7 +88,7 @@ def _draw_readout(box, scene):
     box.label(text="The plan", icon="INFO")
     col = box.column(align=True)
     if plan is None:
-        for line in _wrap(r["error"] or "no plan"):
+        for line in wrap_text(r["error"] or "no plan"):
             col.label(text=line, icon="ERROR")
         return
     frames = ", ".join(f"{f:.1f}" for f in r["flight_frames"])
@@ -97,24 +99,12 @@ def _draw_readout(box, scene):
     for name, value, unit, grade in r["figures"]:
         col.label(text=f"{name.capitalize()}: {value:.2f} {unit} ({grade})")
     for w in r["warnings"]:
-        for i, line in enumerate(_wrap(w)):
+        for i, line in enumerate(wrap_text(w)):
             col.label(text=line, icon="ERROR" if i == 0 else "BLANK1")
     for note in r.get("stylisations", ()):
-        for i, line in enumerate(_wrap("Stylised: " + note)):
+        for i, line in enumerate(wrap_text("Stylised: " + note)):
             col.label(text=line, icon="INFO" if i == 0 else "BLANK1")
 
-
-def _wrap(text, width=48):
-    words, lines, line = text.split(), [], ""
-    for w in words:
-        if line and len(line) + 1 + len(w) > width:
-            lines.append(line)
-            line = w
-        else:
-            line = f"{line} {w}".strip()
-    if line:
-        lines.append(line)
-    return lines
 
 
 classes = (LEAPWRIGHT_PT_jump,) + game_panel.classes

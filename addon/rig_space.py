@@ -78,6 +78,12 @@ def _ancestors(pb):
     return out
 
 
+def chosen_rig(context):
+    """The character: the panel's rig, or the active object when none is set."""
+    s = getattr(context.scene, "leapwright", None)
+    return s.rig if s is not None and s.rig is not None else context.active_object
+
+
 def linked_library_problem(rig):
     """Why keys cannot go on a rig linked from another file, or None for a local rig.
 
