@@ -3,19 +3,14 @@
 import bpy
 
 from . import air_correction, air_operators, body_com, ownership, rig_space
-from .ui_text import wrap_text
+from .panel_parts import SubPanel, wrap_text
 
 
-class LEAPWRIGHT_PT_air(bpy.types.Panel):
+class LEAPWRIGHT_PT_air(SubPanel, bpy.types.Panel):
     """The whole body's centre of mass in flight"""
 
     bl_label = "Body in the Air"
     bl_idname = "LEAPWRIGHT_PT_air"
-    bl_parent_id = "LEAPWRIGHT_PT_jump"
-    bl_space_type = "VIEW_3D"
-    bl_region_type = "UI"
-    bl_category = "Leapwright"
-    bl_options = {"DEFAULT_CLOSED"}
 
     @classmethod
     def poll(cls, context):

@@ -2,19 +2,14 @@
 
 import bpy
 
-from .ui_text import wrap_text
+from .panel_parts import SubPanel, wrap_text
 
 
-class LEAPWRIGHT_PT_check(bpy.types.Panel):
+class LEAPWRIGHT_PT_check(SubPanel, bpy.types.Panel):
     """Check the jump on the rig"""
 
     bl_label = "Check"
     bl_idname = "LEAPWRIGHT_PT_check"
-    bl_space_type = "VIEW_3D"
-    bl_region_type = "UI"
-    bl_category = "Leapwright"
-    bl_parent_id = "LEAPWRIGHT_PT_jump"
-    bl_options = {"DEFAULT_CLOSED"}
 
     @classmethod
     def poll(cls, context):

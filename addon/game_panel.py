@@ -2,21 +2,16 @@
 
 import bpy
 
-from .ui_text import wrap_text
+from .panel_parts import SubPanel, wrap_text
 
 from . import game_operators
 
 
-class LEAPWRIGHT_PT_game_export(bpy.types.Panel):
+class LEAPWRIGHT_PT_game_export(SubPanel, bpy.types.Panel):
     """Export checks for game engines"""
 
     bl_label = "Game Export"
     bl_idname = "LEAPWRIGHT_PT_game_export"
-    bl_space_type = "VIEW_3D"
-    bl_region_type = "UI"
-    bl_category = "Leapwright"
-    bl_parent_id = "LEAPWRIGHT_PT_jump"
-    bl_options = {"DEFAULT_CLOSED"}
 
     @classmethod
     def poll(cls, context):

@@ -60,6 +60,14 @@ def _request(context, op, rig):
                                gravity=gravity)
 
 
+def _can_run(cls, context):
+    """Poll of both operators: object or pose mode, and the settings registered."""
+    if context.mode not in {"OBJECT", "POSE"}:
+        cls.poll_message_set("leave edit mode (Tab): follow-through is baked in object or pose mode")
+        return False
+    return _lag(context) is not None
+
+
 class LEAPWRIGHT_OT_bake_lag(bpy.types.Operator):
     """Bake drag and follow-through on the chosen bones, as keys on a layer above yours"""
 
@@ -72,10 +80,7 @@ class LEAPWRIGHT_OT_bake_lag(bpy.types.Operator):
 
     @classmethod
     def poll(cls, context):
-        if context.mode not in {"OBJECT", "POSE"}:
-            cls.poll_message_set("leave edit mode (Tab): follow-through is baked in object or pose mode")
-            return False
-        return _lag(context) is not None
+        return _can_run(cls, context)
 
     def execute(self, context):
         rig = _rig(context)
@@ -116,10 +121,7 @@ class LEAPWRIGHT_OT_remove_lag(bpy.types.Operator):
 
     @classmethod
     def poll(cls, context):
-        if context.mode not in {"OBJECT", "POSE"}:
-            cls.poll_message_set("leave edit mode (Tab): follow-through is baked in object or pose mode")
-            return False
-        return _lag(context) is not None
+        return _can_run(cls, context)
 
     def execute(self, context):
         rig = _rig(context)

@@ -4,17 +4,14 @@ import json
 
 import bpy
 
+from .panel_parts import SubPanel
 
-class LEAPWRIGHT_PT_lag(bpy.types.Panel):
+
+class LEAPWRIGHT_PT_lag(SubPanel, bpy.types.Panel):
     """Bake trailing parts (hair, cloth, tails, props) from the body's motion"""
 
     bl_label = "Follow-Through"
     bl_idname = "LEAPWRIGHT_PT_lag"
-    bl_parent_id = "LEAPWRIGHT_PT_jump"
-    bl_space_type = "VIEW_3D"
-    bl_region_type = "UI"
-    bl_category = "Leapwright"
-    bl_options = {"DEFAULT_CLOSED"}
 
     @classmethod
     def poll(cls, context):

@@ -4,7 +4,7 @@ import math
 
 import bpy
 
-from .ui_text import wrap_text
+from .panel_parts import wrap_text
 
 from . import game_panel, plan_link
 
