@@ -11,8 +11,9 @@ Bilateral segments (arms, legs) appear once in a table and count twice in a body
 References
 ----------
 de Leva P. (1996) Adjustments to Zatsiorsky-Seluyanov's segment inertia parameters.
-J Biomech 29(9):1223-1230 (mass fractions and COM positions: values as read, listed
-in shared/reference-values.md; landmark names from memory).
+J Biomech 29(9):1223-1230, Table 4 (mass fractions and COM positions: values as read,
+listed in shared/reference-values.md; the shank's three definitions as read from a
+public transcription of Table 4, R. Gurchiek 2018; other landmark names from memory).
 Winter D.A. (2009) Biomechanics and Motor Control of Human Movement, 4th ed., Wiley,
 anthropometric table (Table 4.1, table number from memory), after Dempster W.T.
 (1955) Space requirements of the seated operator, WADC TR 55-159 (report number from
@@ -127,19 +128,32 @@ def _de_leva(sex, head, trunk, upper_arm, forearm, hand, thigh, shank, foot):
             SegmentEntry("forearm", *forearm, "elbow", "wrist", "EJC -> WJC", True),
             SegmentEntry("hand", *hand, "wrist", "knuckles", "WJC -> MET3 (third knuckle)", True),
             SegmentEntry("thigh", *thigh, "hip", "knee", "HJC -> KJC", True),
-            SegmentEntry("shank", *shank, "knee", "ankle", "KJC -> LMAL or SPHY (which: from memory)", True),
+            # de Leva prints the shank three ways (see DE_LEVA_SHANK_DEFINITIONS); a rig's
+            # ankle landmark is the ankle joint, so the KJC -> AJC row is the one used.
+            SegmentEntry("shank", *shank, "knee", "ankle", "KJC -> AJC (ankle joint centre)", True),
             # Published heel -> toe tip; rigs have no heel joint, so the ankle stands in.
             SegmentEntry("foot", *foot, "ankle", "toe_tip", "HEEL -> TTIP (ankle stands in for the heel)", True),
         ),
     )
 
 
-#: de Leva 1996, male: values as in shared/reference-values.md.
+#: de Leva 1996 Table 4 prints the shank with three distal landmarks: the lateral
+#: malleolus (LMAL, the main rows), the ankle joint centre (AJC) and the sphyrion (SPHY,
+#: the alternative rows). Landmark -> (length [mm], COM fraction from the knee [-]) for
+#: (male, female). The COM is the same point in all three, so length x fraction agrees
+#: (193.5 mm male, 190.9 mm female) within the printed rounding.
+DE_LEVA_SHANK_DEFINITIONS = {
+    "LMAL": ((434.0, 0.4459), (432.3, 0.4416)),
+    "AJC": ((440.3, 0.4395), (438.6, 0.4352)),
+    "SPHY": ((427.7, 0.4524), (426.0, 0.4481)),
+}
+
+#: de Leva 1996, male: values as in shared/reference-values.md (shank: the KJC -> AJC row).
 DE_LEVA_MALE = _de_leva(
     "male", head=(0.0694, 0.5976), trunk=(0.4346, 0.4486), upper_arm=(0.0271, 0.5772),
     forearm=(0.0162, 0.4574), hand=(0.0061, 0.7900), thigh=(0.1416, 0.4095),
     shank=(0.0433, 0.4395), foot=(0.0137, 0.4415))
-#: de Leva 1996, female: values as in shared/reference-values.md.
+#: de Leva 1996, female: values as in shared/reference-values.md (shank: the KJC -> AJC row).
 DE_LEVA_FEMALE = _de_leva(
     "female", head=(0.0668, 0.5894), trunk=(0.4257, 0.4151), upper_arm=(0.0255, 0.5754),
     forearm=(0.0138, 0.4559), hand=(0.0056, 0.7474), thigh=(0.1478, 0.3612),

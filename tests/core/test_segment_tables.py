@@ -5,8 +5,8 @@ import math
 import pytest
 
 from core.errors import InvalidGoalError
-from core.segment_tables import (DE_LEVA_FEMALE, DE_LEVA_MALE, DEMPSTER_WINTER, LANDMARKS, SEGMENT_GROUPS,
-                                 TABLES, get_table)
+from core.segment_tables import (DE_LEVA_FEMALE, DE_LEVA_MALE, DE_LEVA_SHANK_DEFINITIONS, DEMPSTER_WINTER,
+                                 LANDMARKS, SEGMENT_GROUPS, TABLES, get_table)
 
 
 @pytest.mark.parametrize("table", list(TABLES.values()), ids=list(TABLES))
@@ -63,6 +63,30 @@ def test_standing_body_com_by_hand():
     assert math.isclose(from_table, by_hand, rel_tol=1e-12)
     # About 0.56 of stature for an adult (constants.STANDING_COM_HEIGHT note, from memory).
     assert 0.53 < from_table / 1.78 < 0.59
+
+
+def test_shank_uses_de_leva_s_ankle_joint_row_to_the_printed_digits():
+    # de Leva 1996 Table 4 (as transcribed by R. Gurchiek 2018): shank KJC -> LMAL 44.59 % (male)
+    # / 44.16 % (female); KJC -> AJC 43.95 / 43.52; KJC -> SPHY 45.24 / 44.81. The rig's ankle
+    # landmark is the ankle joint (the foot bone's head), so the AJC row applies.
+    assert DE_LEVA_MALE.entry("shank").end == "ankle"
+    assert (DE_LEVA_MALE.entry("shank").com_fraction, DE_LEVA_FEMALE.entry("shank").com_fraction) == (0.4395, 0.4352)
+    assert "AJC" in DE_LEVA_MALE.entry("shank").published
+    assert [DE_LEVA_SHANK_DEFINITIONS[k][0][1] for k in ("LMAL", "AJC", "SPHY")] == [0.4459, 0.4395, 0.4524]
+    assert [DE_LEVA_SHANK_DEFINITIONS[k][1][1] for k in ("LMAL", "AJC", "SPHY")] == [0.4416, 0.4352, 0.4481]
+
+
+@pytest.mark.parametrize("sex", [0, 1], ids=["male", "female"])
+def test_the_three_shank_definitions_place_one_and_the_same_com(sex):
+    # The COM is one point of the shank whichever distal landmark the length runs to, so
+    # length x fraction must agree across de Leva's three rows within the printed rounding
+    # (length to 0.05 mm, fraction to 0.00005: at most ~0.05 mm each). A fraction taken from
+    # the wrong row (0.4459 with the AJC length) is off by 2.8 mm.
+    distances = [length * fraction for length, fraction in
+                 (DE_LEVA_SHANK_DEFINITIONS[k][sex] for k in ("LMAL", "AJC", "SPHY"))]
+    assert max(distances) - min(distances) < 0.1
+    assert abs(DE_LEVA_SHANK_DEFINITIONS["AJC"][sex][0] * DE_LEVA_SHANK_DEFINITIONS["LMAL"][sex][1]
+               - distances[0]) > 2.0
 
 
 def test_unknown_table_names_the_choices():
