@@ -12,6 +12,8 @@ import sys
 
 from core.errors import InvalidGoalError
 
+from .blend_tracks import addon_module
+
 PRESETS = ("hair", "cloth", "tail", "heavy prop")
 
 
@@ -34,18 +36,6 @@ def add_parser(subparsers):
 
 def _bone_names(values):
     return tuple(n.strip() for v in values for n in v.split(",") if n.strip())
-
-
-def _addon_package():
-    """The repository's ``addon`` package, its ``core`` mapped onto the repository's core.
-
-    The extension zip vendors ``core/`` into ``addon/core``; from a checkout the
-    same modules are made reachable under that name without copying.
-    """
-    import core
-    sys.modules.setdefault("addon.core", core)
-    from addon import lag_bake
-    return lag_bake
 
 
 def _find_rig(bpy, name, bones):
@@ -76,7 +66,7 @@ def run(args):
     except ImportError:
         print("leapwright: bake needs Blender as a Python module (pip install bpy)", file=sys.stderr)
         return 2
-    lag_bake = _addon_package()
+    lag_bake = addon_module("lag_bake")
     failed = 0
     for path in args.files:
         bpy.ops.wm.open_mainfile(filepath=os.path.abspath(path))

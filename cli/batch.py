@@ -16,13 +16,13 @@ from core.errors import LeapwrightError
 
 def check_file(path, options):
     """Check one file; returns ``{"file", "exit_code", "report" or "error"}`` (never raises)."""
-    from .check_command import analyse_file, to_json_dict
+    from .check_command import check_path, has_problems, report_dict
 
     try:
-        result = analyse_file(path, **options)
+        result, arc = check_path(path, **options)
     except LeapwrightError as exc:
         return {"file": str(path), "exit_code": 2, "error": str(exc)}
-    return {"file": str(path), "exit_code": 1 if result.has_problems else 0, "report": to_json_dict(result)}
+    return {"file": str(path), "exit_code": 1 if has_problems(result, arc) else 0, "report": report_dict(result, arc)}
 
 
 def check_files(paths, options, jobs=None, scheduler=None):
@@ -42,6 +42,14 @@ def check_files(paths, options, jobs=None, scheduler=None):
         return list(pool.map(check_file, paths, [options] * len(paths)))
 
 
+def _kinds(report):
+    """Finding kinds of one report, and ``body_off_arc`` when the body leaves its arc in the air."""
+    kinds = {f["kind"] for f in report.get("findings", [])}
+    if (report.get("body_arc") or {}).get("departures"):
+        kinds.add("body_off_arc")
+    return sorted(kinds)
+
+
 def summary_of(results):
     """Counts and the pipeline exit code: 2 if any file was bad input, else 1 if any had findings."""
     codes = [r["exit_code"] for r in results]
@@ -52,7 +60,7 @@ def summary_of(results):
         "bad_input": codes.count(2),
         "exit_code": 2 if 2 in codes else (1 if 1 in codes else 0),
         "results": [{"file": r["file"], "exit_code": r["exit_code"],
-                     "kinds": sorted({f["kind"] for f in r.get("report", {}).get("findings", [])}),
+                     "kinds": _kinds(r.get("report", {})),
                      **({"error": r["error"]} if "error" in r else {})} for r in results],
     }
 

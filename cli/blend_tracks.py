@@ -36,6 +36,22 @@ def _blender_chatter_to_stderr():
         os.close(saved)
 
 
+def addon_module(name):
+    """A module of the repository's ``addon`` package (e.g. ``"lag_bake"``), Blender as ``bpy``.
+
+    The extension zip vendors ``core/`` into ``addon/core``; from a checkout the same
+    modules are made reachable under that name without copying, so the command line
+    runs exactly the add-on's code.
+    """
+    import importlib
+
+    import core
+
+    _bpy()
+    sys.modules.setdefault("addon.core", core)
+    return importlib.import_module(f"addon.{name}")
+
+
 def sample_blend_track(path, object_name, bone_name=None):
     """World path of an object (or one of its pose bones) over the scene's frame range.
 

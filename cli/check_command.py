@@ -2,7 +2,10 @@
 
 The CSV has a header with at least ``frame,x,y,z`` (metres, z up, one row per frame).
 Further column triples ``NAME_x,NAME_y,NAME_z`` are read as foot tracks; give their leg
-rest lengths with ``--leg-length NAME=METRES`` to check for overstretched legs.
+rest lengths with ``--leg-length NAME=METRES`` to check for overstretched legs. Triples
+named after body landmarks (``vertex``, ``shoulder.L``, ... see :mod:`body_arc`) are the
+body's joints instead: with them the whole-body centre of mass is checked in the air,
+as it is for a rig in a .blend (the panel's Check Body Arc).
 
 Exit codes: 0 no problem found (stylisations may still be listed), 1 problems found,
 2 bad input (one line on stderr).
@@ -15,12 +18,17 @@ import sys
 
 import numpy as np
 
+from core.flight_correction import ARC_TOLERANCE
+from core.segment_tables import TABLES
+
 from core.analysis import FootTrack, analyse_trajectory
 from core.constants import BLENDER_DEFAULT_GRAVITY
 from core.errors import InvalidTrajectoryError, LeapwrightError
 from core.findings import FINDING_KINDS, frame_text
 from core.goals import gravity_from
 from core.timebase import parse_fps
+
+from . import body_arc
 
 REQUIRED_COLUMNS = ("frame", "x", "y", "z")
 
@@ -45,6 +53,11 @@ def add_parser(subparsers):
                    help="run the batch on a Dask distributed scheduler (tcp://host:8786) instead of a local pool")
     p.add_argument("--leg-length", action="append", default=[], metavar="NAME=METRES",
                    help="rest length of the leg ending at foot columns NAME_x,NAME_y,NAME_z")
+    p.add_argument("--arc-tolerance", type=float, default=100 * ARC_TOLERANCE, metavar="CM",
+                   help="body arc: how far the whole-body centre of mass may leave its arc in the air "
+                        f"before a warning [cm] (default {100 * ARC_TOLERANCE:g})")
+    p.add_argument("--body-table", default="de_leva_male", choices=sorted(TABLES),
+                   help="body arc: published segment masses (default de_leva_male)")
     p.add_argument("--json", action="store_true", help="print one JSON object instead of the report")
     p.add_argument("--chart", metavar="PATH", help="write a PNG: height and force [BW] against frames")
     p.set_defaults(func=run)
@@ -65,6 +78,16 @@ def _number(text, line, column):
 
 def read_trajectory_csv(path):
     """Frames, positions (n, 3) [m] and foot tracks ``{name: (n, 3)}`` from a CSV file.
+
+    Landmark columns (:data:`body_arc.LANDMARK_COLUMNS`) are not foot tracks; see
+    :func:`read_csv_tracks` for every column triple.
+    """
+    frames, positions, tracks = read_csv_tracks(path)
+    return frames, positions, {k: v for k, v in tracks.items() if k not in body_arc.LANDMARK_COLUMNS}
+
+
+def read_csv_tracks(path):
+    """Frames, positions (n, 3) [m] and every column triple ``{name: (n, 3)}`` of a CSV file.
 
     Raises
     ------
@@ -87,9 +110,9 @@ def read_trajectory_csv(path):
             f"{path!r} has no column {', '.join(repr(m) for m in missing)} (header: {','.join(header)}); "
             "the header must contain frame,x,y,z")
     col = {name: i for i, name in enumerate(header)}
-    foot_names = sorted(name[:-2] for name in header
+    triple_names = sorted(name[:-2] for name in header
                         if name.endswith("_x") and name[:-2] + "_y" in col and name[:-2] + "_z" in col)
-    wanted = list(REQUIRED_COLUMNS) + [f"{f}_{a}" for f in foot_names for a in "xyz"]
+    wanted = list(REQUIRED_COLUMNS) + [f"{f}_{a}" for f in triple_names for a in "xyz"]
     data = []
     for line, row in enumerate(rows[1:], start=2):
         if not any(cell.strip() for cell in row):
@@ -99,8 +122,8 @@ def read_trajectory_csv(path):
                 f"line {line} has {len(row)} values but the header has {len(header)}; fill in every column")
         data.append([_number(row[col[c]], line, c) for c in wanted])
     arr = np.array(data, dtype=float).reshape(-1, len(wanted))
-    feet = {name: arr[:, 4 + 3 * k:7 + 3 * k] for k, name in enumerate(foot_names)}
-    return arr[:, 0], arr[:, 1:4], feet
+    tracks = {name: arr[:, 4 + 3 * k:7 + 3 * k] for k, name in enumerate(triple_names)}
+    return arr[:, 0], arr[:, 1:4], tracks
 
 
 def _leg_lengths(items, feet):
@@ -228,35 +251,85 @@ def write_chart(result, path, title):
     force_plate_chart(path, result.frames, result.height_m, result.force_bw, spans, title)
 
 
-def analyse_file(path, fps=None, gravity=None, leg_lengths=(), object_name=None, bone_name=None):
-    """Read one CSV or .blend and analyse it (raises the core's errors with the file named)."""
-    path = str(path)
-    if path.lower().endswith(".blend"):
-        from .blend_tracks import sample_blend_track
+def analyse_file(path, fps=None, gravity=None, leg_lengths=(), object_name=None, bone_name=None, **body_options):
+    """Read one CSV or .blend and analyse its path (raises the core's errors with the file named)."""
+    return check_path(path, fps, gravity, leg_lengths, object_name, bone_name, **body_options)[0]
 
-        if not object_name:
-            raise InvalidTrajectoryError(f"{path}: give --object (and --bone for a rig's body bone)")
-        frames, positions, scene_fps, scene_g = sample_blend_track(path, object_name, bone_name)
-        feet = []
-        fps = parse_fps(fps) if fps is not None else scene_fps
-        gravity = gravity_from(str(gravity).strip().lstrip("-")) if gravity is not None else scene_g
-    else:
-        if fps is None:
-            raise InvalidTrajectoryError(f"{path}: a CSV needs --fps (e.g. 24 or 24000/1001)")
-        fps = parse_fps(fps)
-        gravity = gravity_from(str(gravity if gravity is not None else BLENDER_DEFAULT_GRAVITY).strip().lstrip("-"))
-        frames, positions, foot_columns = read_trajectory_csv(path)
-        lengths = _leg_lengths(list(leg_lengths), foot_columns)
-        feet = [FootTrack(name, pos, lengths.get(name)) for name, pos in foot_columns.items()]
+
+def check_path(path, fps=None, gravity=None, leg_lengths=(), object_name=None, bone_name=None,
+               arc_tolerance_cm=100 * ARC_TOLERANCE, body_table="de_leva_male"):
+    """Analyse one CSV or .blend: ``(analysis, body arc dict or None)``.
+
+    The body arc (:mod:`body_arc`) is checked for a rig in a .blend and for a CSV with
+    landmark columns; None when there is nothing to check it on.
+    """
+    path = str(path)
+    if not (math.isfinite(arc_tolerance_cm) and arc_tolerance_cm >= 0):
+        raise InvalidTrajectoryError(f"--arc-tolerance must be 0 cm or more, got {arc_tolerance_cm:g}")
+    tolerance = arc_tolerance_cm / 100.0
+    arc = None
     try:
-        return analyse_trajectory(frames, positions, fps, gravity=gravity, feet=feet)
+        if path.lower().endswith(".blend"):
+            from .blend_tracks import sample_blend_track
+
+            if not object_name:
+                raise InvalidTrajectoryError("give --object (and --bone for a rig's body bone)")
+            frames, positions, scene_fps, scene_g = sample_blend_track(path, object_name, bone_name)
+            feet = []
+            fps = parse_fps(fps) if fps is not None else scene_fps
+            given = gravity_from(str(gravity).strip().lstrip("-")) if gravity is not None else None
+            gravity = given if given is not None else scene_g
+            arc = body_arc.blend_body_arc(object_name, given, tolerance, body_table)
+        else:
+            if fps is None:
+                raise InvalidTrajectoryError("a CSV needs --fps (e.g. 24 or 24000/1001)")
+            fps = parse_fps(fps)
+            gravity = gravity_from(str(gravity if gravity is not None else BLENDER_DEFAULT_GRAVITY).strip().lstrip("-"))
+            frames, positions, tracks = read_csv_tracks(path)
+            foot_columns = {k: v for k, v in tracks.items() if k not in body_arc.LANDMARK_COLUMNS}
+            lengths = _leg_lengths(list(leg_lengths), foot_columns)
+            feet = [FootTrack(name, pos, lengths.get(name)) for name, pos in foot_columns.items()]
+            landmarks = body_arc.landmark_tracks(tracks)
+            if landmarks:
+                arc = body_arc.csv_body_arc(frames, landmarks, fps, gravity, tolerance, body_table)
+        return analyse_trajectory(frames, positions, fps, gravity=gravity, feet=feet), arc
     except LeapwrightError as exc:
-        raise type(exc)(f"{path}: {exc}") from None
+        text = str(exc)
+        raise type(exc)(text if text.startswith(path) else f"{path}: {text}") from None
+
+
+def has_problems(result, arc):
+    """Whether the file needs fixing: a problem finding, or the body leaving its arc in the air."""
+    return bool(result.has_problems or (arc is not None and arc["departures"]))
+
+
+def report_dict(result, arc):
+    """The JSON report of one file: the analysis, and ``body_arc`` when it was checked."""
+    out = to_json_dict(result)
+    if arc is not None:
+        out["body_arc"] = _clean(arc)
+    return out
+
+
+def arc_text(arc):
+    """The body-arc part of the plain-text report (the panel's lines)."""
+    if arc is None:
+        return []
+    if not arc["checked"]:
+        return [f"body arc not checked: {arc['reason']}"]
+    lines = ["body arc: " + arc["lines"][0]]
+    for d in arc["departures"]:
+        lines.append(f"[problem] body_off_arc {d['message']}")
+        lines.append(f"    fix: {d['suggestion']}")
+    if not arc["departures"]:
+        lines.append(f"  {body_arc.STAYS_ON_ARC} (within {arc['tolerance_cm']:g} cm)")
+    return lines
 
 
 def _options(args):
     return dict(fps=args.fps, gravity=args.gravity, leg_lengths=tuple(args.leg_length),
-                object_name=args.object, bone_name=args.bone)
+                object_name=args.object, bone_name=args.bone, arc_tolerance_cm=args.arc_tolerance,
+                body_table=args.body_table)
 
 
 def _run_batch(args):
@@ -285,14 +358,14 @@ def run(args):
         if len(args.files) > 1 or args.out_dir or args.scheduler:
             return _run_batch(args)
         path = args.files[0]
-        result = analyse_file(path, **_options(args))
+        result, arc = check_path(path, **_options(args))
         if args.chart:
             write_chart(result, args.chart, f"{path} at {result.fps:g} fps")
     except LeapwrightError as exc:
         print(f"leapwright check: {exc}", file=sys.stderr)
         return 2
     if args.json:
-        print(json.dumps(to_json_dict(result), indent=2))
+        print(json.dumps(report_dict(result, arc), indent=2))
     else:
-        print(report_text(result, path))
-    return 1 if result.has_problems else 0
+        print("\n".join([report_text(result, path)] + arc_text(arc)))
+    return 1 if has_problems(result, arc) else 0
