@@ -119,6 +119,31 @@ segments by the bone tree, or by the rig's ``lw_body_map`` text
     bone scale keys; optionally snap leapwright's keys to whole frames) and the
     jump split into ``<rig>-leap-start`` / ``-air`` / ``-land`` actions.
 
+Arm swing (settings ``scene.leapwright_swing``: ``upper_arm_left``/``_right``,
+``forearm_left``/``_right`` bone names; ``backswing``, ``upswing`` (elevation at
+take-off), ``landing_reach``, ``flight`` (with ``use_flight_pose``) [rad];
+``upswing_start_share``; ``on_conflict`` 'ASK' | 'REPLACE'; ``contact_from``
+'AUTO' | 'MARKERS' | 'BODY' | 'FEET'; ``hop``). Elevation is the shoulder-to-hand
+line's angle in the character's side view (0 hanging, 90° level forward); the
+side view comes from the rest shoulders (left) and the armature's Z (up):
+
+``find_arm_bones()``
+    Fills in the arm bones from the bone tree (names are not read).
+``place_arm_swing()``
+    Keys the upper arms (their own rotation mode; axis-angle is refused) with a
+    swing timed to the plan: back in the dip, up through the push to peak at
+    take-off, reach at touchdown; chosen forearms are keyed as at rest on the
+    same frames. Group ``lw:swing`` in the active action; re-running replaces it.
+``check_arm_swing()``
+    Reads the arms' evaluated motion and the contact (``lw:`` markers, the body
+    bone's free fall, or the foot heights) and warns of a swing peaking after
+    take-off (frames, implied torso drop) or outside contact. Writes nothing.
+``retime_arm_swing()``
+    Moves the times of your own keys on the arm bones (every channel; values
+    kept) with a monotone time warp so the upswing fills the push and peaks at
+    take-off; first keeps the action as ``lw:before <action>``, which
+    ``remove_written`` / ``remove_arm_swing()`` write back byte for byte.
+
 Bookkeeping for removal is kept in the rig's ``lw_state`` custom property.
 """
 
@@ -126,11 +151,13 @@ import bpy
 
 from . import air_operators, air_panel, air_settings, check_operators, check_panel, check_settings
 from . import lag_operators, lag_panel, lag_settings, operators, panel, plan_link, settings
+from . import swing_operators, swing_panel, swing_settings
 
 classes = (settings.classes + lag_settings.classes + operators.classes + lag_operators.classes + panel.classes
            + lag_panel.classes)
 classes += air_settings.classes + air_operators.classes + air_panel.classes
 classes += check_settings.classes + check_operators.classes + check_panel.classes
+classes += swing_settings.classes + swing_operators.classes + swing_panel.classes
 
 
 def register():
@@ -140,9 +167,11 @@ def register():
     lag_settings.register_properties()
     air_settings.register_properties()
     check_settings.register_properties()
+    swing_settings.register_properties()
 
 
 def unregister():
+    swing_settings.unregister_properties()
     check_settings.unregister_properties()
     air_settings.unregister_properties()
     lag_settings.unregister_properties()

@@ -151,6 +151,8 @@ def clear(obj, capability):
         state["replaced"] = kept
     if capability in state["layers"]:
         _remove_layer(obj, capability, state)
+    from . import action_backup  # keys of the animator's that the capability moved (arm re-timing)
+    action_backup.restore(obj, capability, state)
     state["written"] = [w for w in state.get("written", []) if w != capability]
     _restore_static(obj, capability, state)
     _tidy(obj, state)

@@ -15,9 +15,11 @@ OPERATORS = ("write_blocking", "remove_written", "use_active_bone",  # the block
              "bake_lag", "remove_lag",  # follow-through
              "check_body_arc", "keep_body_on_arc", "remove_arc_fix", "edit_body_map",  # the body in the air
              "check_jump", "go_to_finding", "clear_check",  # the checker
-             "check_export", "split_clips")  # game output
+             "check_export", "split_clips",  # game output
+             "find_arm_bones", "place_arm_swing", "check_arm_swing", "retime_arm_swing",
+             "remove_arm_swing")  # arm swing
 #: Operators that only read and report; every other one changes data and must be undoable.
-READ_ONLY = ("check_body_arc",)
+READ_ONLY = ("check_body_arc", "check_arm_swing")
 
 
 def test_installed_from_the_zip_into_the_user_directory():

@@ -1,0 +1,343 @@
+"""An arm swing inside the contact phase, in real Blender, on the demo mannequin.
+
+The swing is measured here independently of the add-on: the elevation of the
+shoulder-to-wrist line in the character's side view, read from Blender's evaluated
+pose one frame (or quarter frame) at a time, with the facing taken from the
+mannequin's own convention (blend_examples/mannequin.py: it faces the armature's
+-Y, Z up) turned by the object's world matrix. The times it is checked against are
+the plan's take-off and propulsion start (the core's planner, as the blocking pass
+wrote them). What is checked is the timing that makes an arm swing add height:
+the arms' elevation peaks at take-off and rises during the push (Lees,
+Vanrenterghem & De Clercq 2004, J Biomech 37:1929-1940; Feltner, Fraschetti &
+Crisp 1999, J Sports Sci 17:449-466), its angular speed peaking before take-off
+(Lees et al. 2004, Fig. 4, from memory).
+"""
+
+import json
+import math
+import os
+import sys
+
+import bpy
+import numpy as np
+import pytest
+from mathutils import Matrix, Quaternion, Vector
+
+from scene_probe import MODULE, addon, file_state, first_difference
+
+sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "..", "blend_examples"))
+import mannequin  # noqa: E402  (the demo's own rig, not edited here)
+
+LATE = 6  # frames: issue 6's deliberately late swing peaks this long after take-off
+ARMS = ("upper_arm.L", "upper_arm.R")
+
+
+def _enable():
+    import addon_utils
+
+    if MODULE not in bpy.context.preferences.addons:
+        addon_utils.enable(MODULE, default_set=True)
+
+
+def _jump(turn_deg=0.0, applied=False):
+    """The demo mannequin with the blocking pass written; optionally turned about world Z.
+
+    ``applied`` bakes the turn into the bones (edit-mode rest pose), so the armature
+    itself no longer faces -Y: the add-on cannot lean on any fixed axis.
+    """
+    objs = mannequin.build_demo_scene()  # starts a new file, which disables the add-on
+    _enable()
+    rig, scene = objs["rig"], bpy.context.scene
+    bpy.context.view_layer.objects.active = rig
+    if turn_deg:
+        rig.rotation_euler = (0.0, 0.0, math.radians(turn_deg))
+        bpy.context.view_layer.update()
+        if applied:
+            for obj in bpy.context.view_layer.objects:
+                obj.select_set(obj == rig)
+            bpy.ops.object.transform_apply(location=False, rotation=True, scale=False)
+    s = scene.leapwright
+    s.rig, s.com_bone = rig, mannequin.BODY_BONE
+    s.foot_left, s.foot_right = mannequin.FOOT_CONTROLLERS
+    s.height = 0.5
+    assert bpy.ops.leapwright.write_blocking() == {"FINISHED"}
+    plan = addon().plan_link.plan_for(scene)[0]
+    scene.frame_start, scene.frame_end = 1, int(math.ceil(1 + plan.duration_s * _fps(scene))) + 4
+    return rig, scene
+
+
+def _fps(scene):
+    return scene.render.fps / scene.render.fps_base
+
+
+def _events(scene):
+    """Propulsion start, take-off and touchdown [scene frames] of the plan the blocking pass wrote."""
+    plan = addon().plan_link.plan_for(scene)[0]
+    fps, start = _fps(scene), float(scene.leapwright.start_frame)
+    push = next(p for p in plan.phases if p.name == "propulsion")
+    hop = plan.hops[0]
+    return start + push.start_s * fps, start + hop.takeoff_time_s * fps, start + hop.touchdown_time_s * fps
+
+
+def _facing(rig, turn_deg):
+    """World forward and up of the mannequin: its armature -Y (or the baked turn of it), Z up."""
+    forward = Matrix.Rotation(math.radians(turn_deg), 3, "Z") @ Vector((0.0, -1.0, 0.0))
+    return np.array(forward), np.array([0.0, 0.0, 1.0])
+
+
+def _elevation(rig, frames, forward, up, side="L"):
+    """Elevation [deg] of the shoulder-to-wrist line, evaluated by Blender frame by frame."""
+    scene = bpy.context.scene
+    out = []
+    for f in frames:
+        whole = int(math.floor(f))
+        scene.frame_set(whole, subframe=float(f - whole))
+        ev = rig.evaluated_get(bpy.context.evaluated_depsgraph_get())
+        w = ev.matrix_world
+        d = np.array(w @ ev.pose.bones[f"hand.{side}"].head) - np.array(w @ ev.pose.bones[f"upper_arm.{side}"].head)
+        out.append(math.degrees(math.atan2(d @ forward, -(d @ up))))
+    return np.unwrap(np.radians(out)) * 180.0 / math.pi
+
+
+def _peak(frames, values):
+    """Frame of the highest sample, refined by the vertex of a parabola through it and its neighbours."""
+    i = int(np.argmax(values))
+    if 0 < i < len(values) - 1:
+        a, b, _ = np.polyfit(frames[i - 1:i + 2] - frames[i], values[i - 1:i + 2], 2)
+        return float(frames[i] - b / (2 * a)) if a < 0 else float(frames[i])
+    return float(frames[i])
+
+
+def _place(rig, find=True, **values):
+    s = bpy.context.scene.leapwright_swing
+    bpy.context.view_layer.objects.active = rig
+    if find:
+        assert bpy.ops.leapwright.find_arm_bones() == {"FINISHED"}
+    for k, v in values.items():
+        setattr(s, k, v)
+    return bpy.ops.leapwright.place_arm_swing()
+
+
+@pytest.mark.parametrize("mode", ["QUATERNION", "XYZ"])
+def test_placed_swing_peaks_at_takeoff_and_rises_inside_the_push(mode):
+    rig, scene = _jump()
+    for name in ARMS:
+        rig.pose.bones[name].rotation_mode = mode
+    assert _place(rig) == {"FINISHED"}
+    push, takeoff, _ = _events(scene)
+    frames = np.arange(push - 8.0, takeoff + 8.0, 0.25)
+    forward, up = _facing(rig, 0.0)
+    for side in "LR":
+        elev = _elevation(rig, frames, forward, up, side)
+        assert abs(_peak(frames, elev) - takeoff) <= 1.0
+        # The backswing's extreme (the upswing start) is inside propulsion: not before it.
+        before = frames <= takeoff
+        lowest = float(frames[before][np.argmin(elev[before])])
+        assert push - 1.0 <= lowest < takeoff
+        rising = (frames > push + 0.5) & (frames < takeoff - 0.5)
+        assert np.all(np.diff(elev[rising]) > 0)
+        # Angular speed peaks before take-off (the arms slow as they reach the top).
+        speed = np.gradient(elev, frames)
+        assert float(frames[np.argmax(speed)]) < takeoff - 1.0
+        # The default swing: 90 deg (level forward) at take-off, 45 deg behind at its start.
+        assert elev[np.argmin(np.abs(frames - takeoff))] == pytest.approx(90.0, abs=2.0)
+        assert elev.min() == pytest.approx(-45.0, abs=2.0)
+
+
+def test_placed_swing_rerun_replaces_and_remove_takes_it_back():
+    rig, scene = _jump()
+    before = file_state()
+    assert _place(rig) == {"FINISHED"}
+    once = file_state()
+    assert _place(rig) == {"FINISHED"}
+    assert file_state() == once, first_difference(file_state(), once)
+    group = [fc for fc in addon().blender_compat.fcurves(rig.animation_data.action, rig)
+             if fc.group is not None and fc.group.name == "lw:swing"]
+    assert {fc.data_path for fc in group} >= {f'pose.bones["{n}"].rotation_quaternion' for n in ARMS}
+    assert bpy.ops.leapwright.remove_arm_swing() == {"FINISHED"}
+    assert file_state() == before, first_difference(file_state(), before)
+
+
+@pytest.mark.parametrize("applied", [False, True], ids=["object turned", "bones turned"])
+def test_swing_plane_follows_a_rig_turned_90_degrees_about_z(applied):
+    rig, scene = _jump(turn_deg=90.0, applied=applied)
+    # Bones named by hand: the bone tree is read with the armature's +X as the character's left.
+    assert _place(rig, upper_arm_left=ARMS[0], upper_arm_right=ARMS[1], forearm_left="forearm.L",
+                  forearm_right="forearm.R", find=False) == {"FINISHED"}
+    _, takeoff, _ = _events(scene)
+    forward, up = _facing(rig, 90.0)  # the mannequin now faces world +X
+    assert np.allclose(forward, [1.0, 0.0, 0.0], atol=1e-6)
+    frames = np.arange(takeoff - 12.0, takeoff + 6.0, 0.25)
+    for side in "LR":
+        elev = _elevation(rig, frames, forward, up, side)
+        assert abs(_peak(frames, elev) - takeoff) <= 1.0
+        scene.frame_set(int(round(takeoff)))
+        d = (np.array(rig.matrix_world @ rig.pose.bones[f"hand.{side}"].head)
+             - np.array(rig.matrix_world @ rig.pose.bones[f"upper_arm.{side}"].head))
+        # Level forward at take-off: the shoulder-to-wrist line points along the facing.
+        assert math.degrees(math.acos(d @ forward / np.linalg.norm(d))) < 8.0
+
+
+def _late_swing(rig, scene):
+    """The animator's own swing, keyed as a user keys it, peaking LATE frames after take-off.
+
+    Elevation keys (deg) turn each upper arm about the character's side-to-side axis
+    (armature -X: forward x up for a rig facing -Y), from its rest pose.
+    """
+    push, takeoff, touchdown = _events(scene)
+    keys = ((push - 10, 0.0), (push + LATE, -40.0), (takeoff + LATE, 100.0), (touchdown + LATE, 40.0),
+            (touchdown + LATE + 10, 0.0))
+    for name in ARMS:
+        pb = rig.pose.bones[name]
+        b = rig.data.bones[name].matrix_local.to_quaternion()
+        for frame, deg in keys:
+            turn = Quaternion((-1.0, 0.0, 0.0), math.radians(deg))
+            pb.rotation_quaternion = b.inverted() @ turn @ b
+            pb.keyframe_insert("rotation_quaternion", frame=round(frame))
+        pb.rotation_quaternion = (1.0, 0.0, 0.0, 0.0)
+    scene.frame_end = max(scene.frame_end, int(touchdown + LATE + 14))
+    scene.frame_set(1)
+
+
+def _arm_curves(rig):
+    return {(fc.data_path, fc.array_index): addon().key_writer.read_keys(fc)
+            for fc in addon().blender_compat.fcurves(rig.animation_data.action, rig) if "upper_arm" in fc.data_path}
+
+
+def test_late_swing_is_retimed_to_peak_at_takeoff_keeping_its_values_and_removal_restores_it():
+    rig, scene = _jump()
+    _late_swing(rig, scene)
+    _, takeoff, _ = _events(scene)
+    forward, up = _facing(rig, 0.0)
+    frames = np.arange(takeoff - 14.0, takeoff + 14.0, 0.25)
+    assert _peak(frames, _elevation(rig, frames, forward, up)) - takeoff == pytest.approx(LATE, abs=0.6)
+
+    s = scene.leapwright_swing
+    bpy.context.view_layer.objects.active = rig
+    assert bpy.ops.leapwright.find_arm_bones() == {"FINISHED"}
+    s.forearm_left = s.forearm_right = ""
+    assert bpy.ops.leapwright.check_arm_swing() == {"FINISHED"}
+    warning = " ".join(t for t, icon in addon().swing_operators.LAST[rig.name] if icon == "ERROR")
+    late = float(warning.split("peaks ")[1].split(" frames")[0])
+    assert late == pytest.approx(LATE, abs=1.0) and "drops the torso by" in warning
+
+    scene.frame_set(1)
+    before, keys_before = file_state(), _arm_curves(rig)
+    assert bpy.ops.leapwright.retime_arm_swing() == {"FINISHED"}
+    moved = addon().swing_operators.LAST[rig.name][0][0]
+    assert float(moved.split("by up to ")[1].split(" frames")[0]) == pytest.approx(LATE, abs=1.0)
+    for side in "LR":
+        assert abs(_peak(frames, _elevation(rig, frames, forward, up, side)) - takeoff) <= 1.0
+    keys_after = _arm_curves(rig)
+    assert keys_after.keys() == keys_before.keys()
+    for k, old in keys_before.items():
+        new = keys_after[k]
+        assert new["co"][1::2].tobytes() == old["co"][1::2].tobytes()  # every value kept, bit for bit
+        assert np.all(np.diff(new["co"][0::2]) > 0)  # still in order
+    peak_key = [k for k in keys_before if k[1] == 0][0]
+    shift = keys_after[peak_key]["co"][4] - keys_before[peak_key]["co"][4]  # the third key: the peak
+    assert shift == pytest.approx(-LATE, abs=1.0)
+    assert any(a.name.startswith("lw:before ") for a in bpy.data.actions)
+
+    assert bpy.ops.leapwright.remove_arm_swing() == {"FINISHED"}
+    scene.frame_set(1)
+    assert file_state() == before, first_difference(file_state(), before)
+
+
+def test_remove_written_restores_retimed_keys_byte_for_byte():
+    rig, scene = _jump()
+    _late_swing(rig, scene)
+    keys_before = _arm_curves(rig)
+    s = scene.leapwright_swing
+    bpy.context.view_layer.objects.active = rig
+    s.upper_arm_left, s.upper_arm_right = ARMS
+    assert bpy.ops.leapwright.retime_arm_swing() == {"FINISHED"}
+    assert _arm_curves(rig)[(f'pose.bones["{ARMS[0]}"].rotation_quaternion', 0)]["co"].tobytes() != \
+        keys_before[(f'pose.bones["{ARMS[0]}"].rotation_quaternion', 0)]["co"].tobytes()
+    assert bpy.ops.leapwright.remove_written() == {"FINISHED"}
+    after = _arm_curves(rig)
+    assert after.keys() == keys_before.keys()
+    for k, old in keys_before.items():
+        assert all(after[k][f].tobytes() == old[f].tobytes() for f in old), k
+    assert not any(a.name.startswith("lw:before ") for a in bpy.data.actions)
+    # The action itself stays: the blocking pass made it, but it now holds the animator's keys.
+    state = json.loads(rig.get("lw_state", "{}"))
+    assert "backups" not in state and not state.get("written"), state
+
+
+@pytest.mark.parametrize("case", ["missing bone", "forearm without upper arm", "no plan", "retime without keys",
+                                  "mesh"])
+def test_bad_input_is_refused_and_changes_nothing(case):
+    rig, scene = _jump()
+    s = scene.leapwright_swing
+    s.upper_arm_left, s.upper_arm_right = ARMS
+    op, match = bpy.ops.leapwright.place_arm_swing, None
+    if case == "missing bone":
+        s.upper_arm_right, match = "upper_arm.X", "no bone named 'upper_arm.X'"
+    elif case == "forearm without upper arm":
+        s.upper_arm_left, s.forearm_left, match = "", "forearm.L", "without its upper arm"
+    elif case == "no plan":
+        scene.leapwright.height, match = 0.0, "no plan"
+    elif case == "retime without keys":
+        op, match = bpy.ops.leapwright.retime_arm_swing, "no keys of yours"
+    else:
+        bpy.ops.mesh.primitive_cube_add()
+        scene.leapwright.rig, match = bpy.context.active_object, "not an armature"
+    bpy.context.view_layer.objects.active = rig
+    before = file_state()
+    with pytest.raises(RuntimeError, match=match):
+        op()
+    assert file_state() == before, first_difference(file_state(), before)
+
+
+class _Layout:
+    """Stands in for bpy.types.UILayout (headless Blender has no window): records, checks names."""
+
+    def __init__(self, log):
+        self.log, self.use_property_split, self.use_property_decorate, self.scale_y = log, False, False, 1.0
+        self.enabled = True
+
+    def _child(self, *args, **kw):
+        return _Layout(self.log)
+
+    box = column = row = _child
+
+    def label(self, text="", icon="NONE"):
+        self.log.append(("label", text, icon))
+
+    def prop(self, data, name, **kw):
+        assert name in data.bl_rna.properties, name
+        self.log.append(("prop", name, None))
+
+    def prop_search(self, data, name, search_data, search_name, **kw):
+        assert name in data.bl_rna.properties and search_name in search_data.bl_rna.properties
+        self.log.append(("prop", name, None))
+
+    def operator(self, idname, **kw):
+        assert idname.split(".")[1] in dir(bpy.ops.leapwright), idname
+        self.log.append(("operator", idname, None))
+
+
+def _panel_log():
+    log = []
+    bpy.types.LEAPWRIGHT_PT_swing.draw(type("Stand", (), {"layout": _Layout(log)})(), bpy.context)
+    return log
+
+
+def test_panel_shows_the_arm_bones_the_buttons_and_a_late_swing_warning():
+    assert bpy.types.LEAPWRIGHT_PT_swing.bl_parent_id == "LEAPWRIGHT_PT_jump"
+    rig, scene = _jump()
+    log = _panel_log()
+    assert {("prop", "upper_arm_left", None), ("operator", "leapwright.place_arm_swing", None),
+            ("operator", "leapwright.retime_arm_swing", None)} <= set(log)
+    _late_swing(rig, scene)
+    s = scene.leapwright_swing
+    s.upper_arm_left, s.upper_arm_right = ARMS
+    bpy.context.view_layer.objects.active = rig
+    assert bpy.ops.leapwright.check_arm_swing() == {"FINISHED"}
+    warned = " ".join(t for kind, t, icon in _panel_log() if kind == "label" and icon in ("ERROR", "BLANK1"))
+    assert "frames after take-off" in warned and "cm" in warned
+    assert bpy.ops.leapwright.retime_arm_swing() == {"FINISHED"}
+    labels = [(t, icon) for kind, t, icon in _panel_log() if kind == "label"]
+    assert any(icon == "CHECKMARK" and t.startswith("the swing peaks at take-off") for t, icon in labels)
+    assert any("re-timed" in t for t, _ in labels)
