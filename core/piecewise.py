@@ -1,5 +1,6 @@
 """Piecewise polynomials of time: the exact form every planned curve takes."""
 
+import functools
 from dataclasses import dataclass
 
 import numpy as np
@@ -27,7 +28,17 @@ class PiecewisePolynomial:
     pieces: tuple
 
     def derivative_pieces(self, order):
-        return tuple(p.deriv(order) if order else p for p in self.pieces)
+        if not order:
+            return self.pieces
+        # Differentiating costs more than evaluating: key searches ask for speeds thousands of times.
+        cache = self._derivatives
+        if order not in cache:
+            cache[order] = tuple(p.deriv(order) for p in self.pieces)
+        return cache[order]
+
+    @functools.cached_property
+    def _derivatives(self):
+        return {}
 
     def evaluate(self, t, order=0):
         """Value (``order`` 0), speed (1) or acceleration (2) at times ``t`` [s]."""

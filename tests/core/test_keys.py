@@ -87,3 +87,17 @@ def test_held_poses_on_twos_and_threes_keep_takeoff_and_touchdown_frames(jump, s
         assert hold == step or nxt in forced or nxt == frames[-1]
         assert 1 <= hold <= step
     assert np.allclose(keys.values, jump.height(keys.times))
+
+
+@pytest.mark.parametrize("tolerance", [1e-300, 5e-324, 1e-10])
+def test_tolerance_finer_than_a_nanometre_is_refused(jump, tolerance):
+    # Below float resolution the key search could never finish; the message repeats the value.
+    from core.errors import InvalidGoalError
+    with pytest.raises(InvalidGoalError, match=f"key tolerance {tolerance:g} m"):
+        hermite_keys(jump, "height", tolerance)
+
+
+def test_nanometre_tolerance_still_follows_the_plan(jump):
+    keys = hermite_keys(jump, "height", 1e-9)
+    t = np.linspace(0, jump.duration_s, 20001)
+    assert np.max(np.abs(evaluate_hermite(keys, t) - jump.height(t))) <= 1e-9
