@@ -72,11 +72,11 @@ def _plan(kw):
 def _keys(example):
     kw, tol, step = example
     plan = plan_jump(JumpGoals(**kw))
-    out = []
+    # The held poses first: a bad step is refused before the costlier spline search.
+    out = [held_pose_keys(plan, channel, 24.0, step).values for channel in ("height", "forward")]
     for channel in ("height", "forward"):
         k = hermite_keys(plan, channel, tol)
         out += [k.times, k.values, k.slopes]
-        out.append(held_pose_keys(plan, channel, 24.0, step).values)
     return out
 
 
@@ -125,8 +125,10 @@ def cli_argv(draw):
 
 ENTRY_POINTS = [
     ("planner", goal_dicts(), _plan),
-    ("keys", st.tuples(goal_dicts(), st.one_of(st.floats(1e-5, 0.05, **FINITE), st.floats()),
-                       st.integers(-1, 5)), _keys),
+    # Mostly usable goals and tolerances, so that the key search itself is what gets fuzzed.
+    ("keys", st.tuples(st.one_of(sensible_goal_dicts(), sensible_goal_dicts(), wild_goal_dicts()),
+                       st.one_of(st.floats(1e-5, 0.05, **FINITE), st.floats(1e-5, 0.05, **FINITE), st.floats()),
+                       st.one_of(st.integers(1, 5), st.integers(-1, 13))), _keys),
     ("cli plan", cli_argv(), _cli),
 ]
 
@@ -226,8 +228,10 @@ def bone_clouds(draw):
     n_bones = draw(st.integers(1, 8))
     n_frames = draw(st.integers(1, 20))
     parents = [-1] + [draw(st.integers(0, i - 1)) for i in range(1, n_bones)]
-    masses = draw(st.lists(st.one_of(st.floats(0.0, 50.0, **FINITE), st.floats()),
-                           min_size=n_bones, max_size=n_bones))
+    # Half the rigs get only usable masses: one wild number already refuses the whole rig.
+    mass = st.floats(0.0, 50.0, **FINITE) if draw(st.booleans()) else st.one_of(st.floats(0.0, 50.0, **FINITE),
+                                                                                 st.floats())
+    masses = draw(st.lists(mass, min_size=n_bones, max_size=n_bones))
     rng = np.random.default_rng(draw(st.integers(0, 2**31 - 1)))
     heads = rng.normal(0, 0.5, (n_frames, n_bones, 3))
     tails = heads + rng.normal(0, 0.2, (n_frames, n_bones, 3))
@@ -293,4 +297,79 @@ ENTRY_POINTS += [
     ("segment COM", bone_clouds(), _body_mass),
     ("in-air correction", com_tracks(), _flight_correction),
     ("arm swing", swing_inputs(), _arm_swing),
+]
+
+
+# --- the other commands through the same parser -------------------------------------------
+
+_CSV_DIR = None
+
+
+def _csv_path(text):
+    """A CSV file holding ``text``, in a directory kept for the whole fuzz run."""
+    import hashlib
+    import tempfile
+
+    global _CSV_DIR
+    if _CSV_DIR is None:
+        _CSV_DIR = tempfile.mkdtemp(prefix="lw-fuzz-")
+    path = f"{_CSV_DIR}/{hashlib.sha1(text.encode()).hexdigest()[:16]}.csv"
+    with open(path, "w", encoding="utf-8") as fh:
+        fh.write(text)
+    return path
+
+
+_cell = st.one_of(st.floats(-3.0, 3.0, **FINITE).map(repr), st.sampled_from(["nan", "inf", "", "x", "1e308"]))
+
+
+_CHECK_OPTIONS = (
+    ("--gravity", st.sampled_from(["earth", "moon", "mars", "-9.81", "3.71"]), _cli_values),
+    ("--arc-tolerance", st.sampled_from(["0", "1", "2.5"]), _cli_values),
+    ("--leg-length", st.sampled_from(["foot=0.9", "foot=1.2"]), st.sampled_from(["foot=nan", "foot=0", "foot", "hand=1"])),
+    ("--body-table", st.sampled_from(["de_leva_male", "de_leva_female", "dempster_winter"]), st.just("nobody")),
+)
+
+
+@st.composite
+def check_argv(draw):
+    """``check`` on a CSV: half sensible (a planned or noisy track, valid options), half wild."""
+    sensible = draw(st.booleans())
+    if sensible or draw(st.booleans()):
+        frames, xyz, _fps = draw(trajectories())
+        rows = [",".join(repr(float(v)) for v in (f, x, y, z)) for f, (x, y, z) in zip(frames, xyz)]
+    else:
+        rows = [",".join(draw(_cell) for _ in range(4)) for _ in range(draw(st.integers(0, 12)))]
+    headers = ["frame,x,y,z", "frame,x,y,z,foot_x,foot_y,foot_z"] + ([] if sensible else ["frame,x,y", "t,x,y,z"])
+    header = draw(st.sampled_from(headers))
+    if header.count(",") == 6:
+        rows = [r + ",0,0,0" for r in rows]
+    argv = ["check", _csv_path("\n".join([header] + rows) + "\n")]
+    if sensible:
+        argv += ["--fps", draw(st.sampled_from(["24", "30", "60", "23.976", "24000/1001"]))]
+    elif draw(st.integers(0, 4)):
+        argv += ["--fps", draw(_cli_values)]
+    for flag, good, bad in _CHECK_OPTIONS:
+        if draw(st.integers(0, 2)) == 0:
+            argv += [flag, draw(good if sensible else st.one_of(good, bad))]
+    return argv + draw(st.sampled_from([[], ["--json"]]))
+
+
+@st.composite
+def bake_argv(draw):
+    """``bake``'s own checks (preset, key tolerance, files) come before Blender is loaded."""
+    argv = ["bake", draw(st.sampled_from(["/nonexistent/a.blend", ""])), "--bones",
+            draw(st.sampled_from(["pony.1", "a,b", ","]))]
+    if draw(st.booleans()):
+        argv += ["--preset", draw(st.one_of(st.sampled_from(["hair", "Heavy_Prop", "cloth ", "moon", ""]),
+                                            st.text(max_size=8)))]
+    if draw(st.booleans()):
+        argv += ["--key-tolerance", draw(_cli_values)]
+    if draw(st.booleans()):
+        argv += ["--frames", draw(_cli_values), draw(_cli_values)]
+    return argv
+
+
+ENTRY_POINTS += [
+    ("cli check", check_argv(), _cli),
+    ("cli bake", bake_argv(), _cli),
 ]
