@@ -3,9 +3,14 @@
 Blender runs in-process as the ``bpy`` module, imported only here and only
 when the command runs, so the other commands never need it. Each file is
 opened, baked exactly as ``bpy.ops.leapwright.bake_lag`` bakes (same module,
-same layer, re-baking replaces) and saved in place.
+same layer, re-baking replaces) and saved in place. Several files go through the
+same process pool (or Dask cluster) as ``leapwright check``, one fresh Blender per
+file, with one JSON report per file and a summary (exit 0 all baked, 2 if any file
+could not be baked).
 """
 
+import importlib.util
+import json
 import math
 import os
 import sys
@@ -30,6 +35,12 @@ def add_parser(subparsers):
     p.add_argument("--key-tolerance", type=float, default=0.0, metavar="DEG",
                    help="drop keys within this angle [deg] (default 0: every frame)")
     p.add_argument("--remove", action="store_true", help="remove a previous bake instead of baking")
+    p.add_argument("--out-dir", help="write one JSON report per file and summary.json here")
+    p.add_argument("--jobs", type=int, default=None,
+                   help="worker processes for several files (default: cores); each file in a fresh Blender")
+    p.add_argument("--scheduler", metavar="ADDRESS",
+                   help="run the batch on a Dask distributed scheduler (tcp://host:8786) instead of a local pool")
+    p.add_argument("--json", action="store_true", help="print JSON (the report, or the batch summary)")
     p.set_defaults(func=run)
     return p
 
@@ -51,6 +62,58 @@ def _find_rig(bpy, name, bones):
     return fits[0]
 
 
+def _options(args, bones, preset):
+    return dict(bones=bones, preset=preset, rig=args.rig, frames=tuple(args.frames) if args.frames else None,
+                on_twos=args.on_twos, key_tolerance_deg=args.key_tolerance, remove=args.remove)
+
+
+def bake_file(path, options):
+    """Bake (or remove) follow-through in one .blend and save it in place.
+
+    Exactly what ``bpy.ops.leapwright.bake_lag`` does (the add-on's ``lag_bake`` module,
+    same layer, re-baking replaces). Returns ``{"file", "exit_code", "report" or
+    "error"}`` and never raises for the input's faults: a worker of a batch.
+    """
+    import bpy
+
+    from .blend_tracks import jump_gravity, open_blend, save_blend
+
+    path = str(path)
+    lag_bake = addon_module("lag_bake")
+    bones = tuple(options["bones"])
+    try:
+        open_blend(path)
+        scene = bpy.context.scene
+        rig = _find_rig(bpy, options["rig"], bones)
+        report = {"rig": rig.name, "bones": list(bones)}
+        if options["remove"]:
+            report["removed"] = bool(lag_bake.remove(rig))
+            message = "removed the bake" if report["removed"] else "had no bake"
+        else:
+            start, end = options["frames"] or (scene.frame_start, scene.frame_end)
+            request = lag_bake.LagRequest(
+                bones=bones, parameters=lag_bake.chain_preset(options["preset"]), frame_start=start,
+                frame_end=end, key_tolerance=math.radians(options["key_tolerance_deg"]),
+                on_twos=options["on_twos"], reset_frames=lag_bake.marker_resets(scene, start, end, ""),
+                gravity=jump_gravity(scene))
+            work = lag_bake.prepare(scene, rig, request)
+            lag_bake.apply(rig, work)
+            top = max(work.peaks, key=work.peaks.get)
+            report.update(preset=options["preset"], frames=[int(start), int(end)], keys=int(work.keys),
+                          layer=lag_bake.TRACK, largest_swing_deg=math.degrees(work.peaks[top]),
+                          largest_swing_bone=top,
+                          swing_deg={b: math.degrees(v) for b, v in sorted(work.peaks.items())})
+            message = (f"{len(bones)} bones, {work.keys} keys on {lag_bake.TRACK}, largest swing "
+                       f"{report['largest_swing_deg']:.1f} deg ({top})")
+    except Exception as exc:  # noqa: BLE001 - sorted just below: the input's fault, or a bug
+        if not _expected(exc, lag_bake):
+            raise
+        text = str(exc)
+        return {"file": path, "exit_code": 2, "error": text if text.startswith(path) else f"{path}: {text}"}
+    save_blend(path)
+    return {"file": path, "exit_code": 0, "report": {**report, "message": message}}
+
+
 def run(args):
     bones = _bone_names(args.bones)
     preset = args.preset.strip().lower().replace("_", " ")
@@ -58,46 +121,29 @@ def run(args):
         raise InvalidGoalError(f"unknown preset {args.preset!r}; choose one of {', '.join(PRESETS)}")
     if not math.isfinite(args.key_tolerance) or not 0.0 <= args.key_tolerance <= 10.0:
         raise InvalidGoalError(f"--key-tolerance must be 0 to 10 deg, got {args.key_tolerance:g}")
+    if args.jobs is not None and args.jobs < 1:
+        raise InvalidGoalError(f"--jobs must be 1 or more, got {args.jobs}")
     missing = [f for f in args.files if not os.path.isfile(f)]
     if missing:
-        raise InvalidGoalError(f"no such file: {missing[0]}")
-    try:
-        import bpy
-    except ImportError:
+        raise InvalidGoalError(f"no such file: {missing[0]}; give existing .blend files")
+    # Only look: a parent that has loaded Blender cannot fork workers that load it again.
+    if importlib.util.find_spec("bpy") is None:
         print("leapwright: bake needs Blender as a Python module (pip install bpy)", file=sys.stderr)
         return 2
-    lag_bake = addon_module("lag_bake")
-    failed = 0
-    for path in args.files:
-        bpy.ops.wm.open_mainfile(filepath=os.path.abspath(path))
-        scene = bpy.context.scene
-        try:
-            rig = _find_rig(bpy, args.rig, bones)
-            if args.remove:
-                done = lag_bake.remove(rig)
-                message = "removed the bake" if done else "had no bake"
-            else:
-                start, end = args.frames if args.frames else (scene.frame_start, scene.frame_end)
-                jump = getattr(scene, "leapwright", None)
-                request = lag_bake.LagRequest(
-                    bones=bones, parameters=lag_bake.chain_preset(preset), frame_start=start, frame_end=end,
-                    key_tolerance=math.radians(args.key_tolerance), on_twos=args.on_twos,
-                    reset_frames=lag_bake.marker_resets(scene, start, end, ""),
-                    gravity=jump.gravity if jump is not None else lag_bake.STANDARD_GRAVITY)
-                work = lag_bake.prepare(scene, rig, request)
-                lag_bake.apply(rig, work)
-                top = max(work.peaks, key=work.peaks.get)
-                message = (f"{len(bones)} bones, {work.keys} keys on {lag_bake.TRACK}, largest swing "
-                           f"{math.degrees(work.peaks[top]):.1f} deg ({top})")
-        except (lag_bake.LagError, lag_bake.ownership.LayerError, InvalidGoalError, Exception) as exc:
-            if not _expected(exc, lag_bake):
-                raise
-            print(f"leapwright: {path}: {exc}", file=sys.stderr)
-            failed += 1
-            continue
-        bpy.ops.wm.save_mainfile(filepath=os.path.abspath(path))
-        print(f"{path}: {message}")
-    return 2 if failed else 0
+    options = _options(args, bones, preset)
+    if len(args.files) > 1 or args.out_dir or args.scheduler or args.jobs:
+        from .batch import report_batch, run_files
+
+        results = run_files(bake_file, args.files, options, jobs=args.jobs, scheduler=args.scheduler)
+        return report_batch(results, args.out_dir, args.json, lambda r: r["report"]["message"])
+    result = bake_file(args.files[0], options)
+    if result["exit_code"]:
+        print(f"leapwright: {result['error']}", file=sys.stderr)
+    elif args.json:
+        print(json.dumps(result["report"], indent=2))
+    else:
+        print(f"{result['file']}: {result['report']['message']}")
+    return result["exit_code"]
 
 
 def _expected(exc, lag_bake):

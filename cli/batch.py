@@ -25,8 +25,12 @@ def check_file(path, options):
     return {"file": str(path), "exit_code": 1 if has_problems(result, arc) else 0, "report": report_dict(result, arc)}
 
 
-def check_files(paths, options, jobs=None, scheduler=None):
-    """Check ``paths`` in parallel; results in the order of ``paths``."""
+def run_files(worker, paths, options, jobs=None, scheduler=None):
+    """``worker(path, options)`` for every path in parallel; results in the order of ``paths``.
+
+    ``worker`` is a module-level function returning ``{"file", "exit_code", ...}``
+    (``check_file``, ``bake_command.bake_file``), so that it pickles to other processes.
+    """
     paths = [str(p) for p in paths]
     if scheduler:
         try:
@@ -34,12 +38,37 @@ def check_files(paths, options, jobs=None, scheduler=None):
         except ImportError:
             raise LeapwrightError("--scheduler needs Dask distributed: pip install 'leapwright[batch]'") from None
         with Client(scheduler, timeout="20s") as client:
-            futures = client.map(check_file, paths, [options] * len(paths), pure=False)
+            futures = client.map(worker, paths, [options] * len(paths), pure=False)
             return client.gather(futures)
     jobs = max(1, min(jobs or os.cpu_count() or 1, len(paths)))
     # One task per worker process: each .blend gets a fresh Blender state.
     with ProcessPoolExecutor(max_workers=jobs, max_tasks_per_child=1) as pool:
-        return list(pool.map(check_file, paths, [options] * len(paths)))
+        return list(pool.map(worker, paths, [options] * len(paths)))
+
+
+def check_files(paths, options, jobs=None, scheduler=None):
+    """Check ``paths`` in parallel; results in the order of ``paths``."""
+    return run_files(check_file, paths, options, jobs, scheduler)
+
+
+def report_batch(results, out_dir, as_json, ok_text):
+    """Write the reports, print the summary (JSON or one line per file); returns the exit code.
+
+    ``ok_text(result)`` is the line for a file that succeeded.
+    """
+    if out_dir:
+        write_reports(results, out_dir)
+    summary = summary_of(results)
+    if as_json:
+        print(json.dumps(summary, indent=2))
+        return summary["exit_code"]
+    for r in results:
+        line = {0: ok_text, 1: lambda r: "findings: " + ", ".join(_kinds(r["report"])),
+                2: lambda r: "bad input: " + r["error"]}[r["exit_code"]](r)
+        print(f"{r['file']}: {line}")
+    print(f"{summary['files']} files: {summary['clean']} clean, {summary['with_findings']} with findings, "
+          f"{summary['bad_input']} bad input")
+    return summary["exit_code"]
 
 
 def _kinds(report):

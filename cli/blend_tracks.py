@@ -9,6 +9,7 @@ import sys
 
 import numpy as np
 
+from core.constants import STANDARD_GRAVITY
 from core.errors import InvalidTrajectoryError
 
 
@@ -52,6 +53,35 @@ def addon_module(name):
     return importlib.import_module(f"addon.{name}")
 
 
+def open_blend(path):
+    """Open a .blend in this process (Blender's loading notes go to stderr); returns ``bpy``."""
+    bpy = _bpy()
+    try:
+        with _blender_chatter_to_stderr():
+            bpy.ops.wm.open_mainfile(filepath=os.path.abspath(str(path)), load_ui=False)
+    except RuntimeError as exc:
+        raise InvalidTrajectoryError(f"{path}: cannot open it as a .blend ({str(exc).strip()[:120]})") from None
+    return bpy
+
+
+def save_blend(path):
+    """Save the open file in place (Blender's note goes to stderr)."""
+    bpy = _bpy()
+    with _blender_chatter_to_stderr():
+        bpy.ops.wm.save_mainfile(filepath=os.path.abspath(str(path)))
+
+
+def jump_gravity(scene):
+    """The jump panel's gravity saved in the file [m/s^2]; the add-on's default when unset.
+
+    The add-on is not registered in the command line's Blender, so its settings are
+    read as the plain ID properties the file keeps.
+    """
+    stored = scene.get("leapwright")
+    value = stored.get("gravity") if stored is not None and hasattr(stored, "get") else None
+    return addon_module("plan_link").exact_gravity(value) if value is not None else STANDARD_GRAVITY
+
+
 def sample_blend_track(path, object_name, bone_name=None):
     """World path of an object (or one of its pose bones) over the scene's frame range.
 
@@ -74,12 +104,7 @@ def sample_blend_track(path, object_name, bone_name=None):
     gravity : float
         |scene gravity| [m/s^2].
     """
-    bpy = _bpy()
-    try:
-        with _blender_chatter_to_stderr():
-            bpy.ops.wm.open_mainfile(filepath=str(path), load_ui=False)
-    except RuntimeError as exc:
-        raise InvalidTrajectoryError(f"{path}: cannot open it as a .blend ({str(exc).strip()[:120]})") from None
+    bpy = open_blend(path)
     scene = bpy.context.scene
     obj = bpy.data.objects.get(object_name)
     if obj is None:

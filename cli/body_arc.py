@@ -29,7 +29,6 @@ import numpy as np
 
 from core import flight_correction as fc
 from core.analysis import analyse_trajectory
-from core.constants import STANDARD_GRAVITY
 from core.body_mass import Landmarks, group_coms, mass_model, whole_body_com
 from core.errors import InvalidTrajectoryError, LeapwrightError
 from core.segment_tables import LANDMARKS, SIDED_LANDMARKS, get_table
@@ -151,13 +150,6 @@ def csv_body_arc(frames, landmarks, fps, gravity, tolerance_m=fc.ARC_TOLERANCE, 
 # --- .blend ------------------------------------------------------------------------------
 
 
-def _jump_gravity(scene, plan_link):
-    """The jump panel's gravity as saved in the file [m/s^2] (the add-on's default when unset)."""
-    stored = scene.get("leapwright")
-    value = stored.get("gravity") if stored is not None and hasattr(stored, "get") else None
-    return plan_link.exact_gravity(value) if value is not None else STANDARD_GRAVITY
-
-
 def blend_body_arc(object_name, gravity=None, tolerance_m=fc.ARC_TOLERANCE, table="de_leva_male"):
     """The add-on's Check Body Arc on the rig of the .blend open in this process (a JSON-ready dict).
 
@@ -166,7 +158,7 @@ def blend_body_arc(object_name, gravity=None, tolerance_m=fc.ARC_TOLERANCE, tabl
     """
     import bpy
 
-    from .blend_tracks import addon_module
+    from .blend_tracks import addon_module, jump_gravity
 
     rig = bpy.data.objects.get(object_name)
     if rig is None or rig.type != "ARMATURE":
@@ -174,7 +166,7 @@ def blend_body_arc(object_name, gravity=None, tolerance_m=fc.ARC_TOLERANCE, tabl
     ac = addon_module("air_correction")
     scene = bpy.context.scene
     if gravity is None:
-        gravity = _jump_gravity(scene, addon_module("plan_link"))
+        gravity = jump_gravity(scene)
     m = scene.unit_settings.scale_length
     settings = types.SimpleNamespace(table=table, flights="AUTO", carrier_bone="", tolerance=tolerance_m / m,
                                      settle_frames=0)

@@ -333,23 +333,12 @@ def _options(args):
 
 
 def _run_batch(args):
-    from .batch import check_files, summary_of, write_reports
+    from .batch import check_files, report_batch
 
     if args.jobs is not None and args.jobs < 1:
         raise LeapwrightError(f"--jobs must be 1 or more, got {args.jobs}")
     results = check_files(args.files, _options(args), jobs=args.jobs, scheduler=args.scheduler)
-    if args.out_dir:
-        write_reports(results, args.out_dir)
-    summary = summary_of(results)
-    if args.json:
-        print(json.dumps(summary, indent=2))
-    else:
-        for r in summary["results"]:
-            state = {0: "ok", 1: "findings: " + ", ".join(r["kinds"]), 2: "bad input: " + r.get("error", "")}
-            print(f"{r['file']}: {state[r['exit_code']]}")
-        print(f"{summary['files']} files: {summary['clean']} clean, {summary['with_findings']} with findings, "
-              f"{summary['bad_input']} bad input")
-    return summary["exit_code"]
+    return report_batch(results, args.out_dir, args.json, lambda r: "ok")
 
 
 def run(args):
