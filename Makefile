@@ -95,6 +95,7 @@ test: test-core typecheck test-blender test-demo
 docs-pictures: build
 	$(VPY) blend_examples/run_demo.py --zip "$$(ls -t dist/leapwright-*.zip | head -n 1)" --out blend_examples/out --docs docs
 	$(VENV)/bin/leapwright plan --height 0.4 --fps 24 --chart docs/plan_force.png > /dev/null
+	$(VPY) blend_examples/docs_pictures.py --zip "$$(ls -t dist/leapwright-*.zip | head -n 1)" --docs docs
 
 typecheck: $(STAMP)/core
 	PY311="$(PY311)" bash tools/typecheck.sh
