@@ -1,7 +1,8 @@
 """README picture of the in-air correction: the body's centre of mass (COM) before and after.
 
 The demo jump onto the crate is written by the extension (*Write Jump Keys*), then
-both arms are keyed rising late in the flight, by hand (``keyframe_insert``). The
+both arms are keyed by hand (``keyframe_insert``) swinging up late in the rise and
+down again before touchdown. The
 whole-body COM is read back from the evaluated rig (``body_com.whole_body_com``,
 the extension's segment model) before and after *Keep Body on Its Arc*, and drawn
 against the arc fixed at take-off (the arc the operator aims at). As a check from
@@ -19,8 +20,8 @@ import numpy as np
 from mathutils import Quaternion
 
 from docs_scene import FPS
+from run_demo import JUMP_DISTANCE as DISTANCE, JUMP_HEIGHT as HEIGHT  # the demo's jump [m]
 
-HEIGHT, DISTANCE = 0.7, 1.0  # the demo's jump (run_demo.py) [m]
 #: The arm swing keyed in the air: (fraction of the flight from take-off, degrees about the
 #: upper arm's X): up late in the rise, down again by the last frame in the air.
 ARM_SWING = ((0.25, 0.0), (0.55, 150.0), (0.95, 0.0))

@@ -13,8 +13,8 @@ throw-away Blender user directory), then on the demo mannequin:
 - ``path_overlay.png``: the same scene rendered with Cycles on the CPU, with the
   path overlay's geometry (the function its draw handler draws from) projected
   through the camera and drawn over the render;
-- ``body_arc_before_after.png``: the written jump with a late arm raise keyed in
-  the air; the whole-body COM height read back from the evaluated rig before
+- ``body_arc_before_after.png``: the written jump with an arm swing keyed in the
+  air (up late in the rise, down again before touchdown); the whole-body COM height read back from the evaluated rig before
   and after *Keep Body on Its Arc*, against the take-off arc, with the
   operator's report (see ``docs_arc.py``).
 """
@@ -30,10 +30,10 @@ import traceback
 
 import numpy as np
 
+from run_demo import JUMP_DISTANCE as DISTANCE, JUMP_HEIGHT as PANEL_HEIGHT  # the panel's goals [m]
+
 HERE = os.path.dirname(os.path.abspath(__file__))
 
-#: The panel's goals: the demo's jump onto the crate (``run_demo.py``) [m].
-PANEL_HEIGHT, DISTANCE = 0.7, 1.0
 #: The hand-keyed take: a lower jump onto the same crate, sampled at twice the
 #: scene's rate, so it plays at half speed (hang time doubled, g / 4 implied).
 TAKE_HEIGHT, TAKE_SAMPLE_FPS = 0.5, 48
