@@ -148,6 +148,5 @@ def run(args):
 
 def _expected(exc, lag_bake):
     """Errors that are the input's fault (reported in one line), not bugs."""
-    from addon.core.errors import LeapwrightError as VendoredError
-    from core.errors import LeapwrightError
-    return isinstance(exc, (lag_bake.LagError, lag_bake.ownership.LayerError, LeapwrightError, VendoredError))
+    from .blend_tracks import input_errors
+    return isinstance(exc, (lag_bake.LagError, lag_bake.ownership.LayerError, *input_errors()))

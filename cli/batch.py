@@ -72,8 +72,8 @@ def report_batch(results, out_dir, as_json, ok_text):
 
 
 def _kinds(report):
-    """Finding kinds of one report, and ``body_off_arc`` when the body leaves its arc in the air."""
-    kinds = {f["kind"] for f in report.get("findings", [])}
+    """Finding (or export issue) kinds of one report, and ``body_off_arc`` when the body leaves its arc."""
+    kinds = {f["kind"] for f in report.get("findings", []) + report.get("issues", [])}
     if (report.get("body_arc") or {}).get("departures"):
         kinds.add("body_off_arc")
     return sorted(kinds)

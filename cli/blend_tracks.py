@@ -53,6 +53,14 @@ def addon_module(name):
     return importlib.import_module(f"addon.{name}")
 
 
+def input_errors():
+    """The error classes that mean bad input: the core's, and the same classes as the
+    add-on's vendored copy of the core defines them (``addon.core.errors``)."""
+    from core.errors import LeapwrightError
+
+    return (LeapwrightError, addon_module("core.errors").LeapwrightError)
+
+
 def open_blend(path):
     """Open a .blend in this process (Blender's loading notes go to stderr); returns ``bpy``."""
     bpy = _bpy()

@@ -27,8 +27,8 @@ def _subcommands():
         check_command = None
     if check_command is not None:
         modules.append(check_command)
-    from . import bake_command
-    modules.append(bake_command)
+    from . import bake_command, export_command
+    modules += [bake_command, export_command]
     return modules
 
 

@@ -196,6 +196,74 @@ def test_snap_moves_contact_keys_at_most_half_a_frame_and_keeps_them():
     assert np.max(np.abs(foot[1] - foot[0])) < 1e-6
 
 
+def _cli(*args):
+    """``leapwright`` from this checkout in a subprocess (Blender as a module there too)."""
+    import json
+    import os
+    import subprocess
+    import sys
+    repo = os.path.abspath(os.path.join(os.path.dirname(__file__), "..", ".."))
+    r = subprocess.run([sys.executable, "-m", "cli.main", *args], cwd=repo, capture_output=True, text=True,
+                       env=dict(os.environ, PYTHONPATH=repo))
+    return r.returncode, (json.loads(r.stdout) if r.stdout.strip().startswith("{") else r.stdout), r.stderr
+
+
+def _panel_issues():
+    return [(i.kind, i.message) for i in addon().game_operators.LAST_CHECK[bpy.context.scene.as_pointer()][1]]
+
+
+def test_check_export_on_the_command_line_says_what_the_panel_says(tmp_path):
+    rig = build_rig()
+    configure(rig, height=0.4, key_style="EVERY_FRAME", root_motion="ROOT_BONE", root_bone="root")
+    assert run_write(rig) == {"FINISHED"}
+    bpy.context.view_layer.objects.active = rig
+    path = str(tmp_path / "jump.blend")
+    bpy.ops.wm.save_as_mainfile(filepath=path, copy=True)
+    assert bpy.ops.leapwright.check_export() == {"FINISHED"}
+    code, report, err = _cli("check-export", path, "--object", rig.name, "--json")
+    assert code == 1, err
+    assert [(i["kind"], i["message"]) for i in report["issues"]] == _panel_issues()
+    assert {k for k, _ in _panel_issues()} == {"fractional_keys"} and report["root_bone"] == "root"
+    # Snap and Check from the command line: saved, and the panel then finds nothing either.
+    code, report, err = _cli("check-export", path, "--object", rig.name, "--snap-keys", "--json")
+    assert code == 0 and report["issues"] == [] and report["snapped_keys"] > 0, (report, err)
+    name = rig.name
+    bpy.ops.wm.open_mainfile(filepath=path)
+    bpy.context.view_layer.objects.active = bpy.data.objects[name]
+    assert bpy.ops.leapwright.check_export() == {"FINISHED"}
+    assert _panel_issues() == []
+
+
+def test_check_export_on_the_command_line_finds_each_problem_the_panel_finds(tmp_path):
+    rig = build_rig()
+    configure(rig, height=0.4, key_style="EVERY_FRAME", root_motion="ROOT_BONE", root_bone="root")
+    assert run_write(rig) == {"FINISHED"}
+    bpy.context.view_layer.objects.active = rig
+    assert bpy.ops.leapwright.check_export(snap_keys=True) == {"FINISHED"}
+    rig.scale = (1.0, 1.0, -1.0)
+    bpy.context.scene.unit_settings.scale_length = 0.01
+    pb = rig.pose.bones["spine"]
+    pb.scale = (1.0, 1.3, 1.0)
+    pb.keyframe_insert("scale", frame=5)
+    rig.rotation_euler = (np.pi / 2, 0.0, 0.0)
+    bpy.context.view_layer.update()
+    paths = [str(tmp_path / f"shot_{i}.blend") for i in range(2)]
+    for p in paths:
+        bpy.ops.wm.save_as_mainfile(filepath=p, copy=True)
+    assert bpy.ops.leapwright.check_export() == {"FINISHED"}
+    panel = _panel_issues()
+    assert {k for k, _ in panel} == {"unit_scale", "object_scale", "bone_scale_keys", "root_axes"}
+    code, summary, err = _cli("check-export", *paths, "--object", rig.name, "--jobs", "2", "--json",
+                              "--out-dir", str(tmp_path / "reports"))
+    assert code == 1 and summary["files"] == 2 and summary["with_findings"] == 2, err
+    for p in paths:
+        import json
+        one = json.loads((tmp_path / "reports" / (p.split("/")[-1] + ".json")).read_text())
+        assert [(i["kind"], i["message"]) for i in one["report"]["issues"]] == panel
+    code, _out, err = _cli("check-export", paths[0], "--object", "NoSuchRig")
+    assert code == 2 and "NoSuchRig" in err and "Traceback" not in err
+
+
 def _accessor(g, blob, index):
     """An accessor's floats as an (count, width) array (glTF 2.0 section 3.6: bufferView + offset)."""
     acc = g.accessors[index]

@@ -78,3 +78,11 @@ def test_batch_on_a_local_dask_cluster_matches_one_by_one(shots, tmp_path):
 def test_unwritable_report_folder_is_bad_input(shots):
     r = leapwright("check", str(shots[0]), str(shots[1]), "--fps", "24", "--out-dir", "/proc/leapwright")
     assert r.returncode == 2 and len(r.stderr.strip().splitlines()) == 1
+
+
+@pytest.mark.parametrize("command", [["check-export", "--object", "Rig"], ["bake", "--bones", "tail_1"]])
+def test_blend_commands_refuse_a_missing_file_in_one_line(tmp_path, command):
+    missing = str(tmp_path / "no_such_shot.blend")
+    r = leapwright(command[0], missing, *command[1:])
+    assert r.returncode == 2 and r.stderr.strip().splitlines() == [f"leapwright: no such file: {missing}; "
+                                                                   "give existing .blend files"]
