@@ -1,7 +1,8 @@
 """Operators for getting a jump into a game engine: export checks (and the key snap).
 
-``leapwright.split_clips()`` bakes the written jump into three actions,
-``<rig>-leap-start`` / ``-leap-air`` / ``-leap-land`` (see :mod:`jump_clips`).
+``leapwright.split_clips()`` bakes the written jump into three actions per hop,
+``<rig>-leap-start`` / ``-leap-air`` / ``-leap-land`` for the first and
+``<rig>-leap<k>-start`` / ``-air`` / ``-land`` for hop k >= 2 (see :mod:`jump_clips`).
 
 ``leapwright.check_export(snap_keys=False)`` lists what would break the export
 (see ``core.export_checks``) as warnings and in the panel; with ``snap_keys``
@@ -53,7 +54,7 @@ class LEAPWRIGHT_OT_check_export(bpy.types.Operator):
 
 
 class LEAPWRIGHT_OT_split_clips(bpy.types.Operator):
-    """Bake the written jump into three game clips: start (dip to take-off), air (a loop), land (touchdown to settled)"""
+    """Bake the written jump into game clips, three per hop: start (to take-off), air (a loop), land (from touchdown)"""
 
     bl_idname = "leapwright.split_clips"
     bl_label = "Split into Clips"

@@ -1,16 +1,27 @@
-"""A written jump as three game clips: start, air (a loop) and land, each its own action.
+"""A written jump as game clips: start, air (a loop) and land for every hop, each its own action.
 
-Engines whose character controller owns the vertical arc want the jump cut
-in three: *start* (first dip frame to take-off), *air* (a loop held in the
-air: the flight's rising half played forward then back, with the body's arc
-and travel taken off, so its first and last frames are the same pose) and
-*land* (touchdown to the end of the settle). Each clip is the rig's evaluated
-pose baked on whole frames into a new action named
-``<rig>-leap-start`` / ``-leap-air`` / ``-leap-land``, with its frame range
-stored on the action (manual frame range), kept with a fake user so that
-saving and glTF export ("all armature actions") carry it.
+Engines whose character controller owns the vertical arc want each hop cut
+in three: *start* (to take-off), *air* (a loop held in the air: the flight's
+rising half played forward then back, with the body's arc and travel taken
+off, so its first and last frames are the same pose) and *land* (from
+touchdown). Each clip is the rig's evaluated pose baked on whole frames into
+a new action, with its frame range stored on the action (manual frame range),
+kept with a fake user so that saving and glTF export ("all armature actions")
+carry it.
+
+Naming and frame ranges (hop ``k`` counted from 1)
+--------------------------------------------------
+* hop 1: ``<rig>-leap-start`` (first dip frame -> take-off), ``<rig>-leap-air``,
+  ``<rig>-leap-land``;
+* hop ``k`` >= 2: ``<rig>-leap<k>-start``, ``<rig>-leap<k>-air``, ``<rig>-leap<k>-land``;
+* a start clip after the first runs from the bottom of the rebound (the end of
+  the previous landing, where the push begins) to its take-off; a land clip
+  before the last runs from its touchdown to that bottom, so land ``k`` and
+  start ``k+1`` meet on one frame and play back to back; the last land clip
+  runs from touchdown to settled (the end of the jump).
 """
 
+import re
 from dataclasses import dataclass
 
 import bpy
@@ -27,34 +38,51 @@ GROUP = "lw:clip"
 _UP = np.array([0.0, 0.0, 1.0])
 
 
-def clip_name(rig, part):
-    """The action name of one clip: ``<rig>-leap-<part>``."""
-    return f"{rig.name}-leap-{part}"
+def clip_name(rig, part, hop=0):
+    """The action name of one clip: ``<rig>-leap-<part>``, ``<rig>-leap<k>-<part>`` for hop k >= 2.
+
+    ``hop`` counts from 0 (the first hop).
+    """
+    return f"{rig.name}-leap{'' if hop == 0 else hop + 1}-{part}"
 
 
 @dataclass(frozen=True)
 class ClipFrames:
-    """Whole scene frames of the three clips, and the flight's events [frame]."""
+    """Whole scene frames of one hop's three clips, and its flight's events [frame]."""
 
     start: tuple
     air: tuple  # frames sampled for the loop's first half, take-off to apex
     land: tuple
     takeoff: float
     touchdown: float
+    hop: int = 0
 
 
-def clip_frames(plan, start_frame, fps):
-    """The clips' whole frames for the first hop of ``plan`` at ``fps`` [frames/s]."""
-    hop = plan.hops[0]
-    dip = next(p.start_s for p in plan.phases if p.name == "unweighting")
+def _phase(plan, name, hop):
+    """The plan's phase called ``name`` of hop ``hop`` (0-based)."""
+    return next(p for p in plan.phases if p.name == name and p.hop == hop + 1)
+
+
+def clip_frames(plan, start_frame, fps, hop=0):
+    """The clips' whole frames for hop ``hop`` (0-based) of ``plan`` at ``fps`` [frames/s]."""
+    h = plan.hops[hop]
     f = lambda t: start_frame + t * fps  # noqa: E731
-    take, touch = f(hop.takeoff_time_s), f(hop.touchdown_time_s)
-    apex = f(hop.takeoff_time_s + (hop.takeoff_speed_m_s / plan.gravity))
+    # Hop 1 starts at the first dip; later hops where the rebound's push begins.
+    first = _phase(plan, "unweighting", 0).start_s if hop == 0 else _phase(plan, "propulsion", hop).start_s
+    last_hop = hop == len(plan.hops) - 1
+    end = (int(np.floor(f(plan.duration_s) + 1e-6)) if last_hop
+           else int(round(f(_phase(plan, "propulsion", hop + 1).start_s))))
+    take, touch = f(h.takeoff_time_s), f(h.touchdown_time_s)
+    apex = f(h.takeoff_time_s + (h.takeoff_speed_m_s / plan.gravity))
     first_air = int(np.ceil(take - 1e-6))
     top = max(first_air + 1, int(np.floor(min(apex, touch) + 1e-6)))
-    return ClipFrames(start=(int(round(f(dip))), int(round(take))), air=(first_air, top),
-                      land=(int(round(touch)), int(np.floor(f(plan.duration_s) + 1e-6))),
-                      takeoff=take, touchdown=touch)
+    return ClipFrames(start=(int(round(f(first))), int(round(take))), air=(first_air, top),
+                      land=(int(round(touch)), end), takeoff=take, touchdown=touch, hop=hop)
+
+
+def every_hop(plan, start_frame, fps):
+    """:class:`ClipFrames` of every hop, in order."""
+    return [clip_frames(plan, start_frame, fps, k) for k in range(len(plan.hops))]
 
 
 def _channels(rig, include_object):
@@ -97,34 +125,8 @@ def _new_action(rig, name, frames, values, first, last):
     return action
 
 
-def split(scene, rig, plan, carriers, start_frame):
-    """Bake the three clips.
-
-    Parameters
-    ----------
-    carriers : list of (rig_space.Channels, tuple of parts)
-        Each channel leapwright keyed and the parts of the plan ('forward',
-        'height') it carries itself; the air clip takes exactly these off.
-
-    Returns
-    -------
-    dict of str -> bpy.types.Action
-        ``{'start': ..., 'air': ..., 'land': ...}``.
-    """
-    fps = plan_link.scene_fps(scene)
-    m = plan_link.metres_per_unit(scene)
-    cf = clip_frames(plan, start_frame, fps)
-    include_object = any(c.data_path == "location" for c, _ in carriers)
-    channels = _channels(rig, include_object)
-    out = {}
-    s0, s1 = cf.start
-    start_frames = list(range(s0, s1 + 1))
-    out["start"] = _new_action(rig, clip_name(rig, "start"), start_frames,
-                               _sample(scene, rig, channels, start_frames), s0, s1)
-    l0, l1 = cf.land
-    land_frames = list(range(l0, l1 + 1))
-    out["land"] = _new_action(rig, clip_name(rig, "land"), land_frames,
-                              _sample(scene, rig, channels, land_frames), l0, l1)
+def _air_loop(scene, rig, plan, carriers, start_frame, channels, cf, m, fps):
+    """The air clip's samples: the rising half with the carried arc taken off, then back."""
     a0, a1 = cf.air
     half = list(range(a0, a1 + 1))
     values = _sample(scene, rig, channels, half)
@@ -143,6 +145,46 @@ def split(scene, rig, plan, carriers, start_frame):
         values[ch.data_path] = values[ch.data_path] - (rel / m) @ ch.world_to_channel.T
     # forward to the top, then back: a loop whose ends are the same pose
     loop = {p: np.concatenate([v, v[-2::-1]]) for p, v in values.items()}
-    loop_frames = list(range(a0, a0 + 2 * (a1 - a0) + 1))
-    out["air"] = _new_action(rig, clip_name(rig, "air"), loop_frames, loop, a0, loop_frames[-1])
+    return list(range(a0, a0 + 2 * (a1 - a0) + 1)), loop
+
+
+def _remove_stale(rig, hops):
+    """Remove clips of hops the jump no longer has (a re-split after fewer hops)."""
+    pattern = re.compile(rf"^{re.escape(rig.name)}-leap(\d*)-({'|'.join(CLIP_NAMES)})$")
+    for action in list(bpy.data.actions):
+        found = pattern.match(action.name)
+        if found and int(found.group(1) or 1) > hops:
+            bpy.data.actions.remove(action)
+
+
+def split(scene, rig, plan, carriers, start_frame):
+    """Bake every hop's three clips.
+
+    Parameters
+    ----------
+    carriers : list of (rig_space.Channels, tuple of parts)
+        Each channel leapwright keyed and the parts of the plan ('forward',
+        'height') it carries itself; the air clips take exactly these off.
+
+    Returns
+    -------
+    dict of str -> bpy.types.Action
+        Action name -> action, in play order (start, air, land of hop 1, then hop 2 ...).
+    """
+    fps = plan_link.scene_fps(scene)
+    m = plan_link.metres_per_unit(scene)
+    include_object = any(c.data_path == "location" for c, _ in carriers)
+    channels = _channels(rig, include_object)
+    _remove_stale(rig, len(plan.hops))
+    out = {}
+    for cf in every_hop(plan, start_frame, fps):
+        for part in CLIP_NAMES:
+            if part == "air":
+                frames, values = _air_loop(scene, rig, plan, carriers, start_frame, channels, cf, m, fps)
+            else:
+                first, last = getattr(cf, part)
+                frames = list(range(first, last + 1))
+                values = _sample(scene, rig, channels, frames)
+            name = clip_name(rig, part, cf.hop)
+            out[name] = _new_action(rig, name, frames, values, frames[0], frames[-1])
     return out
