@@ -105,14 +105,17 @@ class LEAPWRIGHT_OT_place_arm_swing(_ArmOperator, bpy.types.Operator):
         # Nothing above wrote anything; from here on the run changes the file.
         ownership.clear(rig, swing_keys.CAPABILITY)
         ownership.write_into_action(rig, swing_keys.CAPABILITY, work.specs, replace=bool(clashes))
-        start = work.timeline.start_frame
-        LAST[rig.name] = ([(f"placed on {', '.join(b for a in work.arms for b in a.bones)}", "INFO")]
-                          + [(x, "ERROR" if i > 1 else "INFO") for i, x in enumerate(lines)])
+        frame = work.timeline.frames
+        up, off = work.placed.upswing_starts_s[0], work.placed.takeoffs_s[0]
+        push = next(p.start_s for p in plan.phases if p.name == "propulsion")
+        # The core's first line counts frames from the plan's start; the panel shows scene frames.
+        where = f"upswing frames {frame(up):.1f}-{frame(off):.1f}; push {frame(push):.1f}-{frame(off):.1f} (the plan)"
+        LAST[rig.name] = ([(f"placed on {', '.join(b for a in work.arms for b in a.bones)}", "INFO"),
+                           (where, "INFO")] + [(x, "ERROR" if i > 1 else "INFO") for i, x in enumerate(lines) if i])
         n_keys = sum(len(x.frames) for x in work.specs)
         how = " over your keys" if clashes else ""
         self.report({"INFO"}, f"wrote {n_keys} arm keys in '{ownership.group_name(swing_keys.CAPABILITY)}'{how}; "
-                              f"elevation peaks at take-off, frame "
-                              f"{start + work.placed.takeoffs_s[0] * work.timeline.fps:.1f}")
+                              f"elevation peaks at take-off, frame {frame(off):.1f}")
         for line in lines[1:]:
             self.report({"INFO"}, line)
         return {"FINISHED"}

@@ -104,8 +104,10 @@ def blocking_pass(demo):
             f"frames {scene.frame_start}-{scene.frame_end}; markers {[n for _, n in markers]}")
 
 
+from demo_swing import swing_pass  # noqa: E402  (imports Blender only when it runs)
+
 #: The demo's passes, in order. Later capabilities append theirs.
-PASSES = (blocking_pass,)
+PASSES = (blocking_pass, swing_pass)
 
 
 def _write_manifest(demo, out_dir, frame_size, moments):

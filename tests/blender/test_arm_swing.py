@@ -193,7 +193,7 @@ def _late_swing(rig, scene):
         for frame, deg in keys:
             turn = Quaternion((-1.0, 0.0, 0.0), math.radians(deg))
             pb.rotation_quaternion = b.inverted() @ turn @ b
-            pb.keyframe_insert("rotation_quaternion", frame=round(frame))
+            pb.keyframe_insert("rotation_quaternion", frame=frame)
         pb.rotation_quaternion = (1.0, 0.0, 0.0, 0.0)
     scene.frame_end = max(scene.frame_end, int(touchdown + LATE + 14))
     scene.frame_set(1)

@@ -193,3 +193,31 @@ def test_strip_moments_follow_the_jump(outputs):
     frames = [frame for frame, _ in outputs["info"]["strip"]["moments"]]
     assert labels[0] == "stand" and "apex" in labels and labels[-1] == "stand on crate"
     assert frames == sorted(frames) and len(set(frames)) == len(frames), frames
+
+
+@pytest.fixture(scope="module")
+def swing_probe(outputs):
+    """The demo file's evaluated shoulders and wrists, read by Blender in a fresh process."""
+    cmd = [sys.executable, os.path.join(REPO, "blend_examples", "demo_swing.py"), "--probe",
+           outputs["jump_demo.blend"]]
+    res = subprocess.run(cmd, capture_output=True, text=True)
+    line = next((ln for ln in res.stdout.splitlines() if ln.startswith("SWING ")), None)
+    assert res.returncode == 0 and line is not None, f"the swing probe failed:\n{res.stderr[-3000:]}"
+    return json.loads(line[len("SWING "):])
+
+
+def test_arm_swing_peaks_at_takeoff_and_rises_in_the_push(swing_probe):
+    # The arms' elevation peaks at take-off and rises during the push (Lees, Vanrenterghem & De Clercq
+    # 2004, J Biomech 37:1929-1940). Markers sit on whole frames, so the take-off is within half a frame
+    # of lw:flight and the placed peak within one frame of the take-off: 1.5 frames from the marker.
+    f = np.array(swing_probe["frames"])
+    fwd, up, marks = np.array(swing_probe["forward"]), np.array(swing_probe["up"]), swing_probe["markers"]
+    for side, (shoulder, wrist) in swing_probe["arms"].items():
+        d = np.array(wrist) - np.array(shoulder)
+        elev = np.degrees(np.arctan2(d @ fwd, -(d @ up)))
+        before_landing = f < marks["landing"]
+        peak = f[np.argmax(np.where(before_landing, elev, -np.inf))]
+        assert abs(peak - marks["flight"]) <= 1.5, (side, peak, marks)
+        low = f[np.argmin(np.where(f < peak, elev, np.inf))]
+        assert marks["propulsion"] - 1.5 <= low < marks["flight"], (side, low, marks)
+        assert elev.max() - elev.min() > 90.0, side  # a real swing: back 45 deg, up 90 deg by default
