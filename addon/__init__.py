@@ -117,7 +117,8 @@ segments by the bone tree, or by the rig's ``lw_body_map`` text
 ``check_export(snap_keys=False)`` / ``split_clips()``
     Export checks (unit scale, object scale, keys between frames, root axes,
     bone scale keys; optionally snap leapwright's keys to whole frames) and the
-    jump split into ``<rig>-leap-start`` / ``-air`` / ``-land`` actions.
+    jump split into ``<rig>-leap-start`` / ``-air`` / ``-land`` actions per hop
+    (``<rig>-leap<k>-start`` ... for hop k >= 2).
 
 Arm swing (settings ``scene.leapwright_swing``: ``upper_arm_left``/``_right``,
 ``forearm_left``/``_right`` bone names; ``backswing``, ``upswing`` (elevation at
