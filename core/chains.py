@@ -74,12 +74,6 @@ from .spring_integrator import ChainSlots, integrate
 
 __all__ = ["BakeOptions", "ChainBake", "ChainParameters", "LinkCoefficients", "bake_chains"]
 
-#: Passes allowed to reach a cyclic bake's periodic state before giving up.
-MAX_CYCLIC_PASSES = 30
-#: Mismatch [rad] between a cyclic bake's first and last frame accepted as periodic.
-CYCLIC_TOLERANCE = 1e-7
-
-
 @dataclass(frozen=True)
 class BakeOptions:
     """How to run and thin a bake.
@@ -135,7 +129,7 @@ class ChainBake:
     cyclic_mismatch : float
         Largest first/last frame difference of a cyclic bake [rad] (0 otherwise).
     passes : int
-        Simulation passes run (more than 1 only for a cyclic bake).
+        Sweeps over the whole range the integrator ran (the most of any segment).
     """
 
     times: np.ndarray
@@ -147,28 +141,6 @@ class ChainBake:
     peak_offsets: np.ndarray
     cyclic_mismatch: float
     passes: int
-
-
-def _run_cyclic(slots, coeffs, times, drive, g_ref, substeps):
-    """Shoot for the periodic state: Newton on the start state with the linear step
-    matrices' product as Jacobian, plain repetition when that does not shrink the mismatch."""
-    n = slots.size
-    state = np.zeros((slots.trees, 2 * n, 3))
-    best = math.inf
-    for passes in range(1, MAX_CYCLIC_PASSES + 1):
-        offsets, end, mono = integrate(slots, coeffs, times, drive, g_ref, state, substeps, want_monodromy=True)
-        residual = end - state
-        mismatch = float(np.max(np.abs(residual[:, :n]))) if residual.size else 0.0
-        if mismatch < CYCLIC_TOLERANCE:
-            return offsets, mismatch, passes
-        try:
-            jump = np.linalg.solve(np.eye(2 * n) - mono, residual)
-            newton_ok = mismatch < best and np.all(np.isfinite(jump))
-        except np.linalg.LinAlgError:
-            newton_ok = False
-        state = state + jump if newton_ok else end
-        best = min(best, mismatch)
-    return offsets, mismatch, passes
 
 
 def bake_chains(times, heads, rotations, parents, parameters, gravity=(0.0, 0.0, -STANDARD_GRAVITY), options=BakeOptions()):
@@ -232,11 +204,8 @@ def bake_chains(times, heads, rotations, parents, parameters, gravity=(0.0, 0.0,
             drive[name] = g_ref - drive[name]
         for name in ("directions", "directions_mid"):
             drive[name][:, padding, 1] = 1.0  # unused slots get any unit direction
-        if options.cyclic:
-            offsets, mismatch, passes = _run_cyclic(slots, slot_coeffs, seg_times, drive, g_ref, substeps)
-        else:
-            state = np.zeros((slots.trees, 2 * slots.size, 3))
-            offsets = integrate(slots, slot_coeffs, seg_times, drive, g_ref, state, substeps)[0]
+        offsets, sweeps, _ = integrate(slots, slot_coeffs, seg_times, drive, g_ref, options.cyclic, substeps)
+        passes = max(passes, sweeps)
         world[lo:hi] = offsets[:, slots.slot]
     # joint rotation in world axes, R(psi_p)^T R(psi_c), then in the bone's own axes
     q_world = rotvec_to_quaternion(world)

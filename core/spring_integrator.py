@@ -1,4 +1,4 @@
-"""Exact-step integration of chains of damped rotational springs under apparent weight.
+"""Chains of damped rotational springs under apparent weight, stepped exactly.
 
 Each bone ``i`` is a point mass on a rigid link of swing length ``l_i`` from its
 head, held by a damped rotational spring. Its state is the world-frame offset
@@ -18,54 +18,71 @@ simulated bone direction, ``d0_i`` the animated one, ``g_eff = g - a_head`` and
 mass has no inertia about its own link). The constant ``d0 x g_ref`` term makes the
 animated pose the loaded shape at the reference gravity, so a still rig stays put.
 
-Each step freezes the coefficients at the step's start and solves the linear part
-exactly: springs, dampers, the chain coupling and the gravity stiffness
-``(d . g_eff)/l`` (its stabilising part) go through one matrix exponential per
-chain, and the rest of the gravity torque plus the drive enter as a force that
-follows a parabola in time across the step through its values at the step's start,
-middle and end; those are taken first at the starting offsets, then once more
-along the predicted path (an exponential predictor-corrector: second order). Every eigenvalue of
-the stepped matrix has a non-positive real part, so no stiffness or frame rate can
-make the step blow up; the angle limit bounds what true buckling can do.
+How it is stepped (a whole bake is a handful of array passes, no per-bone loop):
+
+* Per frame interval and bone, the spring, its damper and the gravity stiffness
+  ``s = (d . g_eff)/l`` (evaluated halfway through the interval, on the animated
+  pose) form a scalar oscillator, the same for the three axes, stepped exactly in
+  closed form (:mod:`.chain_steps`). Every other force enters as the parabola
+  through its values at the interval's start, middle and end. An exact step of a
+  damped oscillator never grows, so no stiffness or frame rate can make a bake
+  blow up; a buckling (negative) stiffness beyond the spring's own stays in the
+  force, and the angle limit bounds the pose.
+* The pull of the parent (``k psi_p + mu c psi_p'``, its middle value from the
+  cubic Hermite interpolant of the parent's states) is linear in the parent's
+  states at the interval's ends, so a chain's step is the affine map
+  ``X_{f+1} = M_f X_f + Q_f U_f`` with ``M_f = (I - E1)^-1 (Phi + E0)``: ``E1``
+  only links children to parents, so the inverse is a finite sum of its powers.
+  The maps of all intervals are built at once; only their composition runs frame
+  by frame, after composing them in pairs three times over (an eighth of the
+  frames in the sequential part).
+* Gravity's torque is nonlinear in the offsets. The whole range is swept: each
+  sweep evaluates the force along the previous sweep's path (joints held within
+  their limits) and solves the affine recurrence, until no offset changes by
+  more than :data:`SWEEP_TOLERANCE` (waveform relaxation). The stiffness ``s``
+  the exact step applies is given back in the force on the swing only, and the
+  force has no part about the bone's own animated axis (a point mass has no
+  inertia there), so the twist is stepped in the linear part alone: it follows
+  the parent through the spring, held by ``k + s``. A cyclic bake solves each
+  sweep's periodic state directly (the product of the step maps is the monodromy
+  matrix). At convergence this is a collocation scheme: exact for the linear
+  part, at least second order for the rest.
+* The angle limit is a hold on the path (joint rotations scaled back to the
+  limit), not an impact: the rate is not stopped there.
 
 References
 ----------
-Hochbruck, M., Ostermann, A. & Schweitzer, J. 2009, "Exponential Rosenbrock-type
-methods", SIAM J. Numer. Anal. 47(1):786-803.
+Hochbruck, M. & Ostermann, A. 2010, "Exponential integrators", Acta Numerica
+19:209-286 (exponential integrators with a polynomial force, their stability).
 Van Loan, C. F. 1978, "Computing integrals involving the matrix exponential",
-IEEE Trans. Automatic Control 23(3):395-404 (the augmented matrix for the held force).
-Higham, N. J. 2005, "The scaling and squaring method for the matrix exponential
-revisited", SIAM J. Matrix Anal. Appl. 26(4):1179-1193.
+IEEE Trans. Automatic Control 23(3):395-404.
+Lelarasmee, E., Ruehli, A. E. & Sangiovanni-Vincentelli, A. L. 1982, "The waveform
+relaxation method for time-domain analysis of large scale integrated circuits",
+IEEE Trans. CAD 1(3):131-145 (sweeping a whole time range per iteration).
+Kogge, P. M. & Stone, H. S. 1973, "A parallel algorithm for the efficient solution
+of a general class of recurrence equations", IEEE Trans. Computers C-22(8):786-793
+(composing the affine steps in pairs).
 """
 
 from dataclasses import dataclass
 
 import numpy as np
 
+from .chain_samples import refine_drive
+from .chain_steps import expm_batched, oscillator_steps
 from .rotation_vectors import cross, rotate
 
-# Taylor terms after scaling to norm <= 1/2: the remainder 0.5^15/15! is ~2e-17,
-# below double precision, so the exponential is exact to rounding.
-_TAYLOR_TERMS = 14
+__all__ = ["ChainSlots", "expm_batched", "integrate", "SWEEP_TOLERANCE", "MAX_SWEEPS"]
 
-
-def expm_batched(matrices):
-    """Matrix exponentials of a stack (..., m, m) by scaling, Taylor and squaring.
-
-    One scaling exponent serves the whole stack (the largest needed), which only
-    costs a few extra squarings for the smaller matrices.
-    """
-    a = np.asarray(matrices, dtype=float)
-    norm = float(np.max(np.abs(a).sum(axis=-1))) if a.size else 0.0
-    squarings = max(0, int(np.ceil(np.log2(norm / 0.5)))) if norm > 0.5 else 0
-    x = a / 2.0**squarings
-    eye = np.broadcast_to(np.eye(a.shape[-1]), a.shape)
-    result = eye + x / _TAYLOR_TERMS
-    for k in range(_TAYLOR_TERMS - 1, 0, -1):
-        result = eye + (x @ result) / k
-    for _ in range(squarings):
-        result = result @ result
-    return result
+#: A sweep that changes no offset by more than this [rad] ends the iteration.
+SWEEP_TOLERANCE = 1e-5
+#: Sweeps allowed before the last path is taken as it is.
+MAX_SWEEPS = 40
+#: Sweeps that set the exact step's gravity stiffness along the latest path; after
+#: them it stays (the first sweep's path is the animated pose: no offset).
+STIFFNESS_SWEEPS = 1
+#: Pair levels composed before the frame-by-frame part.
+_PAIR_LEVELS = 3
 
 
 @dataclass(frozen=True)
@@ -124,6 +141,11 @@ class ChainSlots:
         path = np.linalg.inv(np.eye(size) - pm)
         return cls(parents, slot, trees, size, pm, np.rint(path))
 
+    @property
+    def depth(self):
+        """Longest parent-to-child path in any tree (0 for lone bones)."""
+        return int(self.path_matrix.sum(axis=-1).max()) - 1 if self.size else 0
+
     def to_slots(self, per_bone, fill=0.0):
         """Scatter (..., B, k) per-bone values into (..., trees * size, k) slots."""
         per_bone = np.asarray(per_bone, dtype=float)
@@ -134,47 +156,168 @@ class ChainSlots:
         return out
 
 
-def _limit_joints(psi, vel, slots, limit):
-    """Hold every joint rotation within its angle limit; stop the outward rate there.
-
-    ``psi`` and ``vel`` are (trees, size, 3); ``limit`` (trees, size, 1) [rad].
-    """
-    eye = np.eye(slots.size)
-    rel = (eye - slots.parent_matrix) @ psi
-    angle = np.linalg.norm(rel, axis=-1, keepdims=True)
-    over = angle > limit
+def limit_joints(psi, slots, limit):
+    """Offsets (3, nodes, trees * size), component-first, with every joint's bend
+    (its offset relative to its parent's) held within ``limit`` (trees * size,) [rad]."""
+    parent = _parent_slots(slots)
+    has = parent >= 0
+    rel = psi - np.where(has, psi[..., np.maximum(parent, 0)], 0.0)
+    angle2 = rel[0] * rel[0] + rel[1] * rel[1] + rel[2] * rel[2]
+    over = angle2 > limit * limit
     if not np.any(over):
-        return psi, vel
-    unit = rel / np.where(angle > 0.0, angle, 1.0)
-    rel = np.where(over, unit * limit, rel)
-    rel_vel = (eye - slots.parent_matrix) @ vel
-    outward = np.sum(rel_vel * unit, axis=-1, keepdims=True)
-    rel_vel = np.where(over & (outward > 0.0), rel_vel - outward * unit, rel_vel)
-    return slots.path_matrix @ rel, slots.path_matrix @ rel_vel
+        return psi
+    rel = rel * np.where(over, limit / np.sqrt(np.where(over, angle2, 1.0)), 1.0)
+    out = rel.copy()
+    for _ in range(slots.depth):  # parents before children: add each ancestor's joint
+        out = rel + np.where(has, out[..., np.maximum(parent, 0)], 0.0)
+    return out
 
 
-def _quadratic(start, mid, end, w):
-    """Value at ``w`` in [0, 1] of the parabola through ``start``, ``mid``, ``end`` at 0, 1/2, 1."""
-    # in differences from the start, so three equal values give that value exactly
-    dm, de = mid - start, end - start
-    return start + w * (4.0 * dm - de) + w * w * (2.0 * de - 4.0 * dm)
+def _parent_slots(slots):
+    """Flat slot of each slot's chain parent (-1 for none)."""
+    tree, child, parent = np.nonzero(slots.parent_matrix)
+    out = np.full(slots.trees * slots.size, -1)
+    out[tree * slots.size + child] = tree * slots.size + parent
+    return out
 
 
-def _remainder(psi, d0, ge, al, gain, g_ref, stiff_in):
-    """Force on each bone [rad/s^2] beyond the linear part stepped exactly.
+def _turned(px, py, pz, d0):
+    """Components of ``d0`` (3, ...) turned by the rotation vectors ``(px, py, pz)`` (Rodrigues)."""
+    theta2 = px * px + py * py + pz * pz
+    small = theta2 < 1e-8
+    theta = np.sqrt(np.where(small, 1.0, theta2))
+    a = np.where(small, 1.0 - theta2 / 6.0, np.sin(theta) / theta)
+    b = np.where(small, 0.5 - theta2 / 24.0, (1.0 - np.cos(theta)) / (theta * theta))
+    dx, dy, dz = d0
+    c1x, c1y, c1z = py * dz - pz * dy, pz * dx - px * dz, px * dy - py * dx
+    c2x, c2y, c2z = py * c1z - pz * c1y, pz * c1x - px * c1z, px * c1y - py * c1x
+    return dx + a * c1x + b * c2x, dy + a * c1y + b * c2y, dz + a * c1z + b * c2z
 
-    Gravity's torque relative to the loaded pose, minus the animated angular
-    acceleration across the bone, plus back the gravity stiffness the linear part
-    already applies.
+
+def _gravity_and_turn(psi, d0, ge, al, gain, loaded):
+    """Force on each bone [rad/s^2] from gravity (relative to the loaded pose) and the turning.
+
+    Every vector is component-first, (3, nodes, slots); so is the result.
     """
-    d = rotate(psi, d0)
-    torque = gain[:, None] * (cross(d, ge) - cross(d0, g_ref))
-    across = al - np.sum(al * d, axis=-1, keepdims=True) * d
-    return torque - across + stiff_in[:, None] * psi
+    dx, dy, dz = _turned(psi[0], psi[1], psi[2], d0)
+    gx, gy, gz = ge
+    ax, ay, az = al
+    along = ax * dx + ay * dy + az * dz
+    fx = gain * (dy * gz - dz * gy) - loaded[0] - ax + along * dx
+    fy = gain * (dz * gx - dx * gz) - loaded[1] - ay + along * dy
+    fz = gain * (dx * gy - dy * gx) - loaded[2] - az + along * dz
+    # no torque about the bone's own (animated) axis: a point mass has no inertia there
+    ex, ey, ez = d0
+    tw = fx * ex + fy * ey + fz * ez
+    fx, fy, fz = fx - tw * ex, fy - tw * ey, fz - tw * ez
+    return np.stack([fx, fy, fz])
 
 
-def integrate(slots, coefficients, times, drive, g_ref, state, substeps=1, want_monodromy=False):
-    """Step the chains through the sampled drive.
+def _chain_maps(phi, beta, k, c, mu, h, slots):
+    """Per-interval affine maps of whole trees and the transfer of the nodal forces.
+
+    ``phi`` (S-1, N, 2, 2) and ``beta`` (S-1, N, 3, 2) per interval and slot.
+    Returns ``M`` (S-1, trees, 2n, 2n) and ``Q`` (S-1, trees, 2n, 3n): the state after
+    an interval is ``M X + Q U`` with ``U`` the force at the start, middle and end
+    (n rows each). State rows are ``2 i + {0: psi, 1: rate}``.
+    """
+    steps, n, trees = phi.shape[0], slots.size, slots.trees
+    hh = h[:, None]
+    kk, kd = k[None, :] + 0.0 * hh, (mu * c)[None, :] + 0.0 * hh
+    kc = np.stack([kk, kd], -1)  # (S-1, N, 2)
+    # parent's force k psi + mu c psi' in the middle, from the cubic Hermite interpolant
+    mid_start = np.stack([0.5 * kk - 1.5 * kd / hh, kk * hh / 8.0 - 0.25 * kd], -1)
+    mid_end = np.stack([0.5 * kk + 1.5 * kd / hh, -kk * hh / 8.0 - 0.25 * kd], -1)
+    b0, bm, b1 = beta[..., 0, :], beta[..., 1, :], beta[..., 2, :]
+    g0 = b0[..., :, None] * kc[..., None, :] + bm[..., :, None] * mid_start[..., None, :]
+    g1 = b1[..., :, None] * kc[..., None, :] + bm[..., :, None] * mid_end[..., None, :]
+    tree, child, parent = np.nonzero(slots.parent_matrix)
+    flat = tree * n + child
+    e0 = np.zeros((steps, trees, n, 2, n, 2))
+    e1 = np.zeros_like(e0)
+    mo = np.zeros_like(e0)
+    # separated index arrays put their axis first
+    e0[:, tree, child, :, parent, :] = g0[:, flat].transpose(1, 0, 2, 3)
+    e1[:, tree, child, :, parent, :] = g1[:, flat].transpose(1, 0, 2, 3)
+    pos = np.arange(n)
+    mo[:, :, pos, :, pos, :] = phi.reshape(steps, trees, n, 2, 2).transpose(2, 0, 1, 3, 4)
+    shape = (steps, trees, 2 * n, 2 * n)
+    e1 = e1.reshape(shape)
+    inv = np.broadcast_to(np.eye(2 * n), shape).copy()
+    term = inv
+    for _ in range(slots.depth):
+        term = term @ e1
+        inv += term
+    push = np.zeros((steps, trees, n, 2, 3, n))
+    push[:, :, pos, :, :, pos] = beta.reshape(steps, trees, n, 3, 2).transpose(2, 0, 1, 4, 3)
+    return inv @ (mo + e0).reshape(shape), inv @ push.reshape(steps, trees, 2 * n, 3 * n)
+
+
+def _compose_pairs(m, levels):
+    """Maps of pairs, quadruples, ... of consecutive intervals: list of (M, kept count)."""
+    out = [m]
+    for _ in range(levels):
+        cur = out[-1]
+        if len(cur) < 4:
+            break
+        pairs = len(cur) // 2
+        out.append(cur[1:2 * pairs:2] @ cur[0:2 * pairs:2])
+    return out
+
+
+def _run_affine(maps, forces, start):
+    """States after every interval of ``X_{f+1} = M_f X_f + C_f`` from ``start``.
+
+    ``maps`` from :func:`_compose_pairs`; ``forces`` (S-1, trees, 2n, 3).
+    Returns (S, trees, 2n, 3).
+    """
+    levels = [forces]
+    for lvl in range(1, len(maps)):
+        cur, m = levels[-1], maps[lvl - 1]
+        pairs = len(cur) // 2
+        levels.append(m[1:2 * pairs:2] @ cur[0:2 * pairs:2] + cur[1:2 * pairs:2])
+    # the coarsest level frame by frame
+    m, c = maps[-1], levels[-1]
+    states = np.empty((len(c) + 1,) + start.shape)
+    states[0] = start
+    x = start
+    for f in range(len(c)):
+        x = m[f] @ x + c[f]
+        states[f + 1] = x
+    # refine: a coarse state at every other fine node, the rest one fine step on
+    for lvl in range(len(maps) - 2, -1, -1):
+        m, c = maps[lvl], levels[lvl]
+        fine = np.empty((len(c) + 1,) + start.shape)
+        coarse = len(states) - 1
+        fine[0:2 * coarse + 1:2] = states
+        fine[1:2 * coarse:2] = m[0:2 * coarse:2] @ states[:-1] + c[0:2 * coarse:2]
+        for f in range(2 * coarse, len(c)):  # an odd interval left over
+            fine[f + 1] = m[f] @ fine[f] + c[f]
+        states = fine
+    return states
+
+
+def _periodic_start(maps, forces, shape):
+    """State at the first sample whose run returns to itself (linear part exact)."""
+    total = np.broadcast_to(np.eye(shape[-2]), shape[:-1] + (shape[-2],))
+    for lvl_map in maps[-1]:
+        total = lvl_map @ total
+    end = _run_affine(maps, forces, np.zeros(shape))[-1]
+    # in the order the run takes them: the coarse level, then each finer level's odd
+    # interval left over at its end
+    for lvl in range(len(maps) - 2, -1, -1):
+        coarse = (len(maps[lvl]) // 2) * 2
+        for f in range(coarse, len(maps[lvl])):
+            total = maps[lvl][f] @ total
+    eye = np.eye(shape[-2])
+    try:
+        return np.linalg.solve(eye - total, end)
+    except np.linalg.LinAlgError:  # an undamped mode in resonance: the least-squares loop
+        return np.stack([np.linalg.lstsq(eye - t, e, rcond=None)[0] for t, e in zip(total, end)])
+
+
+def integrate(slots, coefficients, times, drive, g_ref, cyclic=False, substeps=1):
+    """Offsets of every chain over the sampled drive, starting from rest (or periodic).
 
     Parameters
     ----------
@@ -192,78 +335,77 @@ def integrate(slots, coefficients, times, drive, g_ref, state, substeps=1, want_
         an interval the drive is the parabola through the three.
     g_ref : numpy.ndarray, shape (3,)
         Gravity under which the animated pose is the loaded shape [m/s^2].
-    state : numpy.ndarray, shape (trees, 2 * size, 3)
-        Offsets (rows ``:size``) [rad] and rates (rows ``size:``) [rad/s] at ``times[0]``.
+    cyclic : bool
+        Start in the periodic state (the last sample is the first one's moment).
     substeps : int
         Exact steps per frame interval.
-    want_monodromy : bool
-        Also return the product of the linear step matrices (for periodic solves).
 
     Returns
     -------
     offsets : numpy.ndarray, shape (F, trees * size, 3)
-        World offsets ``psi`` at every sample [rad].
-    state : numpy.ndarray, shape (trees, 2 * size, 3)
-        State at ``times[-1]``.
-    monodromy : numpy.ndarray or None, shape (trees, 2 * size, 2 * size)
+        World offsets ``psi`` at every sample [rad], joints within their limits.
+    sweeps : int
+        Sweeps run.
+    change : float
+        Largest change of an offset in the last sweep [rad].
     """
+    if substeps > 1:
+        times, drive = refine_drive(times, drive, substeps)
     trees, n = slots.trees, slots.size
-    k = coefficients["spring"].reshape(trees, n)
-    c = coefficients["damping"].reshape(trees, n)
-    gain = coefficients["gain"]
-    mu = coefficients["transmission"].reshape(trees, n)
-    limit = coefficients["limit"].reshape(trees, n, 1)
-    # state x, then the force as a quadratic in step time: value, slope, curvature
-    # (Van Loan's augmented matrix gives the exact response to each)
-    template = np.zeros((trees, 5 * n, 5 * n))
-    idx = np.arange(n)
-    template[:, idx, n + idx] = 1.0
-    template[:, n + idx, 2 * n + idx] = 1.0
-    template[:, n + idx, n + idx] = -c
-    # the child's spring pulls toward the parent's swing, its damper toward mu times
-    # the parent's swing rate (the rest of the damping works against still air)
-    template[:, n:2 * n, :n] += k[:, :, None] * slots.parent_matrix
-    template[:, n:2 * n, n:2 * n] += (mu * c)[:, :, None] * slots.parent_matrix
-    frames = len(times)
-    offsets = np.empty((frames, trees * n, 3))
-    offsets[0] = state[:, :n].reshape(trees * n, 3)
-    mono = np.broadcast_to(np.eye(2 * n), (trees, 2 * n, 2 * n)).copy() if want_monodromy else None
-    x = state.copy()
-    names = ("directions", "g_eff", "alpha")
-    for f in range(frames - 1):
-        h = (times[f + 1] - times[f]) / substeps
-        nodes = [(drive[name][f], drive[name + "_mid"][f], drive[name][f + 1]) for name in names]
-        for s in range(substeps):
-            psi0 = x[:, :n].reshape(trees * n, 3)
-            # the drive at the substep's start, middle and end, stacked on a first axis
-            w = ((s + np.array([0.0, 0.5, 1.0])) / substeps)[:, None, None]
-            d0, ge, al = (_quadratic(*node, w) for node in nodes)
-            d0 = d0 / np.linalg.norm(d0, axis=-1, keepdims=True)
-            d_mid = rotate(psi0, d0[1])
-            # a buckling (negative) net stiffness stays in the held force, so the
-            # exponential never grows; the angle limit then bounds the offset
-            stiff_in = np.maximum(gain * np.sum(d_mid * ge[1], axis=-1), -k.ravel())
-            m = template * h
-            m[:, n + idx, idx] = -(k + stiff_in.reshape(trees, n)) * h
-            m[:, 2 * n + idx, 3 * n + idx] = 1.0
-            m[:, 3 * n + idx, 4 * n + idx] = 1.0
-            e = expm_batched(m)
-            phi = e[:, :2 * n, :2 * n]
-            free = phi @ x
-            # predictor with the remainder force at the starting offsets, then a
-            # corrector with it along the predicted path (second order overall)
-            path = np.broadcast_to(psi0, (3,) + psi0.shape)
-            for _ in range(2):
-                fs, fm, fe = _remainder(path, d0, ge, al, gain, g_ref, stiff_in)
-                inputs = (fs, -3.0 * fs + 4.0 * fm - fe, 4.0 * fs - 8.0 * fm + 4.0 * fe)
-                x = free.copy()
-                for j, u in enumerate(inputs):
-                    x += e[:, :2 * n, (2 + j) * n:(3 + j) * n] @ u.reshape(trees, n, 3)
-                end = x[:, :n].reshape(trees * n, 3)
-                path = np.stack([psi0, 0.5 * (psi0 + end), end])
-            psi, vel = _limit_joints(x[:, :n], x[:, n:], slots, limit)
-            x = np.concatenate([psi, vel], axis=1)
-            if want_monodromy:
-                mono = phi @ mono
-        offsets[f + 1] = x[:, :n].reshape(trees * n, 3)
-    return offsets, x, mono
+    k, c, gain, mu, limit = (coefficients[name] for name in ("spring", "damping", "gain", "transmission", "limit"))
+    frames, steps = len(times), len(times) - 1
+    h = np.diff(times)
+    used = np.zeros(trees * n, dtype=bool)
+    used[slots.slot] = True
+    mids = drive["directions_mid"] / np.linalg.norm(drive["directions_mid"], axis=-1, keepdims=True)
+
+    def first(*parts):  # frame nodes, then the middles, component-first (3, nodes, slots)
+        return np.ascontiguousarray(np.concatenate(parts).transpose(2, 0, 1))
+
+    d0 = first(drive["directions"], mids)
+    ge = first(drive["g_eff"], drive["g_eff_mid"])
+    al = first(drive["alpha"], drive["alpha_mid"])
+    loaded = gain * np.stack([d0[1] * g_ref[2] - d0[2] * g_ref[1], d0[2] * g_ref[0] - d0[0] * g_ref[2],
+                              d0[0] * g_ref[1] - d0[1] * g_ref[0]])
+    psi = np.zeros((3, 2 * frames - 1, trees * n))
+    state_shape = (trees, 2 * n, 3)
+    start = np.zeros(state_shape)
+    best, change, sweeps = None, np.inf, 0
+    hm = h[None, :, None]
+    for sweeps in range(1, MAX_SWEEPS + 1):
+        if sweeps <= STIFFNESS_SWEEPS:
+            dx, dy, dz = _turned(psi[0, frames:], psi[1, frames:], psi[2, frames:], d0[:, frames:])
+            stiff = np.maximum(gain * (dx * ge[0, frames:] + dy * ge[1, frames:] + dz * ge[2, frames:]), -k)
+            # unused slots get any stiffness whose exact step is cheap; their force is 0
+            k_net = np.where(used, k + stiff, 1.0 / h[:, None] ** 2)
+            phi, beta = oscillator_steps(k_net, c, h[:, None])
+            m, push = _chain_maps(phi, beta, k, c, mu, h, slots)
+            maps = _compose_pairs(m, _PAIR_LEVELS)
+        force = _gravity_and_turn(psi, d0, ge, al, gain, loaded)
+        # the stiffness the exact step applies is given back on the swing only: the twist
+        # keeps it (it follows the parent a little less, and converges in one sweep)
+        swing = psi - (psi[0] * d0[0] + psi[1] * d0[1] + psi[2] * d0[2]) * d0
+        nodal = np.concatenate([force[:, :steps] + stiff * swing[:, :steps], force[:, frames:] + stiff * swing[:, frames:],
+                                force[:, 1:frames] + stiff * swing[:, 1:frames]], axis=-1)  # (3, S-1, 3N)
+        nodal = nodal.reshape(3, steps, 3, trees, n).transpose(1, 3, 2, 4, 0).reshape(steps, trees, 3 * n, 3)
+        forces = push @ nodal
+        if cyclic:
+            start = _periodic_start(maps, forces, state_shape)
+        states = _run_affine(maps, forces, start).reshape(frames, trees * n, 2, 3)
+        p = states[:, :, 0].transpose(2, 0, 1)
+        v = states[:, :, 1].transpose(2, 0, 1)
+        new = np.concatenate([p, 0.5 * (p[:, :-1] + p[:, 1:]) + hm * (v[:, :-1] - v[:, 1:]) / 8.0], axis=1)
+        if not np.all(np.isfinite(new)):
+            break
+        # the next sweep's force sees joints held within their limits
+        new = limit_joints(new, slots, limit)
+        change = float(np.max(np.abs(new[:, :frames] - psi[:, :frames]))) if new.size else 0.0
+        psi = new
+        if best is None or change <= best[0]:
+            best = (change, psi)
+        if change <= SWEEP_TOLERANCE:
+            break
+    if best is None:  # the very first sweep was not finite: nothing moved
+        best = (np.inf, np.zeros_like(psi))
+    change, psi = best
+    return psi[:, :frames:substeps].transpose(1, 2, 0), sweeps, change
