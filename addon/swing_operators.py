@@ -4,6 +4,8 @@ Every check and every number is done before the first key is written, so a refus
 run leaves the file as it was. No ``bpy.ops`` inside ``execute``.
 """
 
+from typing import Any
+
 import bpy
 
 from . import ownership, plan_link, rig_space, swing_keys, swing_retime
@@ -11,7 +13,7 @@ from .core.errors import LeapwrightError
 from .core.swing_timing import plan_swing_report
 
 #: Rig name -> (line, icon) of the last check, placing or re-timing (shown in the panel; not saved in the file).
-LAST = {}
+LAST: dict = {}
 
 
 def _ready(context):
@@ -31,7 +33,8 @@ def _rig_problem(rig):
 class _ArmOperator:
     """What the arm-swing operators share: when they run, and how they refuse (nothing written)."""
 
-    bl_options = {"REGISTER", "UNDO"}
+    # Typed Any: Blender's own annotation is an enum literal a plain mixin cannot restate.
+    bl_options: Any = {"REGISTER", "UNDO"}
 
     @classmethod
     def poll(cls, context):

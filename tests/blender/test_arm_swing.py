@@ -341,3 +341,27 @@ def test_panel_shows_the_arm_bones_the_buttons_and_a_late_swing_warning():
     labels = [(t, icon) for kind, t, icon in _panel_log() if kind == "label"]
     assert any(icon == "CHECKMARK" and t.startswith("the swing peaks at take-off") for t, icon in labels)
     assert any("re-timed" in t for t, _ in labels)
+
+
+@pytest.mark.parametrize("contact_from", ["BODY", "FEET", "AUTO"])
+def test_contact_window_without_markers_comes_from_the_body_or_the_feet(contact_from):
+    # Without the lw: markers the push and take-off are read from the evaluated rig: the body bone's
+    # free fall (second difference within 5% of -g: projectile motion) or the feet leaving the ground.
+    # Both are sampled once per frame, so they may sit up to a frame from the plan's exact times.
+    rig, scene = _jump()
+    push, takeoff, _ = _events(scene)
+    for m in [m for m in scene.timeline_markers if m.name.startswith("lw:")]:
+        scene.timeline_markers.remove(m)
+    s = scene.leapwright_swing
+    s.upper_arm_left, s.upper_arm_right = ARMS
+    s.contact_from = contact_from
+    bpy.context.view_layer.objects.active = rig
+    assert _place(rig, find=False) == {"FINISHED"}
+    assert bpy.ops.leapwright.check_arm_swing() == {"FINISHED"}
+    (line, _), (verdict, icon) = addon().swing_operators.LAST[rig.name][:2]
+    source = {"BODY": "the body bone's free fall", "FEET": "the foot heights", "AUTO": "the body bone's free fall"}
+    assert f"(from {source[contact_from]})" in line
+    got_push, got_takeoff = (float(x) for x in line.split("; push ")[1].split(" ")[0].split("-"))
+    assert abs(got_takeoff - takeoff) <= 1.0
+    assert abs(got_push - push) <= 1.0  # the lowest body point before take-off (end of braking)
+    assert icon == "CHECKMARK", verdict
