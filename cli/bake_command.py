@@ -9,14 +9,13 @@ file, with one JSON report per file and a summary (exit 0 all baked, 2 if any fi
 could not be baked).
 """
 
-import importlib.util
 import json
 import math
-import os
 import sys
 
 from core.errors import InvalidGoalError
 
+from .batch import add_batch_arguments, blend_command_ready, is_batch, report_batch, run_files
 from .blend_tracks import addon_module
 
 PRESETS = ("hair", "cloth", "tail", "heavy prop")
@@ -35,11 +34,7 @@ def add_parser(subparsers):
     p.add_argument("--key-tolerance", type=float, default=0.0, metavar="DEG",
                    help="drop keys within this angle [deg] (default 0: every frame)")
     p.add_argument("--remove", action="store_true", help="remove a previous bake instead of baking")
-    p.add_argument("--out-dir", help="write one JSON report per file and summary.json here")
-    p.add_argument("--jobs", type=int, default=None,
-                   help="worker processes for several files (default: cores); each file in a fresh Blender")
-    p.add_argument("--scheduler", metavar="ADDRESS",
-                   help="run the batch on a Dask distributed scheduler (tcp://host:8786) instead of a local pool")
+    add_batch_arguments(p)
     p.add_argument("--json", action="store_true", help="print JSON (the report, or the batch summary)")
     p.set_defaults(func=run)
     return p
@@ -121,19 +116,10 @@ def run(args):
         raise InvalidGoalError(f"unknown preset {args.preset!r}; choose one of {', '.join(PRESETS)}")
     if not math.isfinite(args.key_tolerance) or not 0.0 <= args.key_tolerance <= 10.0:
         raise InvalidGoalError(f"--key-tolerance must be 0 to 10 deg, got {args.key_tolerance:g}")
-    if args.jobs is not None and args.jobs < 1:
-        raise InvalidGoalError(f"--jobs must be 1 or more, got {args.jobs}")
-    missing = [f for f in args.files if not os.path.isfile(f)]
-    if missing:
-        raise InvalidGoalError(f"no such file: {missing[0]}; give existing .blend files")
-    # Only look: a parent that has loaded Blender cannot fork workers that load it again.
-    if importlib.util.find_spec("bpy") is None:
-        print("leapwright: bake needs Blender as a Python module (pip install bpy)", file=sys.stderr)
+    if not blend_command_ready(args, "bake"):
         return 2
     options = _options(args, bones, preset)
-    if len(args.files) > 1 or args.out_dir or args.scheduler or args.jobs:
-        from .batch import report_batch, run_files
-
+    if is_batch(args):
         results = run_files(bake_file, args.files, options, jobs=args.jobs, scheduler=args.scheduler)
         return report_batch(results, args.out_dir, args.json, lambda r: r["report"]["message"])
     result = bake_file(args.files[0], options)

@@ -6,12 +6,14 @@ function runs on a local pool or, with ``--scheduler ADDRESS``, on a Dask
 distributed cluster (``pip install 'leapwright[batch]'``).
 """
 
+import importlib.util
 import json
 import os
 import pathlib
+import sys
 from concurrent.futures import ProcessPoolExecutor
 
-from core.errors import LeapwrightError
+from core.errors import InvalidGoalError, LeapwrightError
 
 
 def check_file(path, options):
@@ -23,6 +25,38 @@ def check_file(path, options):
     except LeapwrightError as exc:
         return {"file": str(path), "exit_code": 2, "error": str(exc)}
     return {"file": str(path), "exit_code": 1 if has_problems(result, arc) else 0, "report": report_dict(result, arc)}
+
+
+def add_batch_arguments(p):
+    """``--out-dir``, ``--jobs`` and ``--scheduler`` on a subcommand that takes many files."""
+    p.add_argument("--out-dir", help="write one JSON report per file and summary.json here")
+    p.add_argument("--jobs", type=int, default=None,
+                   help="worker processes for several files (default: cores); each .blend in a fresh Blender")
+    p.add_argument("--scheduler", metavar="ADDRESS",
+                   help="run the batch on a Dask distributed scheduler (tcp://host:8786) instead of a local pool")
+
+
+def is_batch(args):
+    """Whether the files go to workers (several files, or any batch option given)."""
+    return len(args.files) > 1 or bool(args.out_dir or args.scheduler or args.jobs)
+
+
+def blend_command_ready(args, command):
+    """Check a .blend command's files and options before any worker starts.
+
+    Returns True when it can run; False after one line on stderr when Blender is
+    missing. Raises InvalidGoalError for bad ``--jobs`` or a missing file.
+    """
+    if args.jobs is not None and args.jobs < 1:
+        raise InvalidGoalError(f"--jobs must be 1 or more, got {args.jobs}")
+    missing = [f for f in args.files if not os.path.isfile(f)]
+    if missing:
+        raise InvalidGoalError(f"no such file: {missing[0]}; give existing .blend files")
+    # Only look: a parent that has loaded Blender cannot fork workers that load it again.
+    if importlib.util.find_spec("bpy") is None:
+        print(f"leapwright: {command} needs Blender as a Python module (pip install bpy)", file=sys.stderr)
+        return False
+    return True
 
 
 def run_files(worker, paths, options, jobs=None, scheduler=None):

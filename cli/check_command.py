@@ -29,6 +29,7 @@ from core.goals import gravity_from
 from core.timebase import parse_fps
 
 from . import body_arc
+from .batch import add_batch_arguments, is_batch
 
 REQUIRED_COLUMNS = ("frame", "x", "y", "z")
 
@@ -47,10 +48,7 @@ def add_parser(subparsers):
                         "9.81 for a CSV as Blender's default); sign ignored")
     p.add_argument("--object", help=".blend: the object (rig) to check")
     p.add_argument("--bone", help=".blend: the body (COM) bone of --object; its head is sampled")
-    p.add_argument("--out-dir", help="write one JSON report per file and summary.json here")
-    p.add_argument("--jobs", type=int, default=None, help="worker processes for several files (default: cores)")
-    p.add_argument("--scheduler", metavar="ADDRESS",
-                   help="run the batch on a Dask distributed scheduler (tcp://host:8786) instead of a local pool")
+    add_batch_arguments(p)
     p.add_argument("--leg-length", action="append", default=[], metavar="NAME=METRES",
                    help="rest length of the leg ending at foot columns NAME_x,NAME_y,NAME_z")
     p.add_argument("--arc-tolerance", type=float, default=100 * ARC_TOLERANCE, metavar="CM",
@@ -344,7 +342,7 @@ def _run_batch(args):
 def run(args):
     """Run ``check``; returns the exit code (0, 1, or 2 with one line on stderr)."""
     try:
-        if len(args.files) > 1 or args.out_dir or args.scheduler:
+        if is_batch(args):
             return _run_batch(args)
         path = args.files[0]
         result, arc = check_path(path, **_options(args))

@@ -11,12 +11,11 @@ the file, as Snap and Check does. Several files run through the same process poo
 Exit codes: 0 ready to export, 1 export issues found, 2 bad input (one line on stderr).
 """
 
-import importlib.util
-import os
 import sys
 
 from core.errors import InvalidGoalError
 
+from .batch import add_batch_arguments, blend_command_ready, is_batch, report_batch, run_files
 from .blend_tracks import addon_module
 
 ROOT_DEFAULT = "root"  # the jump panel's default root bone (addon/settings.py)
@@ -35,10 +34,7 @@ def add_parser(subparsers):
                         f"saved in the file, else {ROOT_DEFAULT!r}; skipped when the rig has no such bone)")
     p.add_argument("--snap-keys", action="store_true",
                    help="first move leapwright's keys between frames onto whole frames and save the file")
-    p.add_argument("--out-dir", help="write one JSON report per file and summary.json here")
-    p.add_argument("--jobs", type=int, default=None, help="worker processes for several files (default: cores)")
-    p.add_argument("--scheduler", metavar="ADDRESS",
-                   help="run the batch on a Dask distributed scheduler (tcp://host:8786) instead of a local pool")
+    add_batch_arguments(p)
     p.add_argument("--json", action="store_true", help="print JSON (the report, or the batch summary)")
     p.set_defaults(func=run)
     return p
@@ -96,18 +92,10 @@ def run(args):
     """Run ``check-export``; returns the exit code (0, 1, or 2 with one line on stderr)."""
     import json
 
-    if args.jobs is not None and args.jobs < 1:
-        raise InvalidGoalError(f"--jobs must be 1 or more, got {args.jobs}")
-    missing = [f for f in args.files if not os.path.isfile(f)]
-    if missing:
-        raise InvalidGoalError(f"no such file: {missing[0]}; give existing .blend files")
-    if importlib.util.find_spec("bpy") is None:  # only look: workers load Blender themselves
-        print("leapwright: check-export needs Blender as a Python module (pip install bpy)", file=sys.stderr)
+    if not blend_command_ready(args, "check-export"):
         return 2
     options = {"object": args.object, "root_bone": args.root_bone, "snap_keys": args.snap_keys}
-    if len(args.files) > 1 or args.out_dir or args.scheduler or args.jobs:
-        from .batch import report_batch, run_files
-
+    if is_batch(args):
         results = run_files(check_export_file, args.files, options, jobs=args.jobs, scheduler=args.scheduler)
         return report_batch(results, args.out_dir, args.json,
                             lambda r: "ready to export" if not r["report"]["issues"] else "")

@@ -5,7 +5,6 @@ import subprocess
 import sys
 import pathlib
 
-import numpy as np
 import pytest
 
 from core.goals import JumpGoals
