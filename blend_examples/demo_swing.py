@@ -1,8 +1,8 @@
 """The demo's arm swing, and the README's before/after of re-timing a late one.
 
-``swing_pass(demo)`` is a pass of ``run_demo.py``: it names the arm bones (the
-extension's *Find Arm Bones*) and places the swing on the written jump (*Place Arm
-Swing*), then reads it back with *Check Arm Swing*. Run as a script it draws
+``swing_pass(demo)`` is a pass of ``run_demo.py``: it names the mannequin's arm
+bones in the panel and places the swing on the written jump (*Place Arm Swing*),
+then reads it back with *Check Arm Swing*. Run as a script it draws
 ``arm_swing_before_after.png``: the demo jump with both arms keyed by hand
 (``keyframe_insert``) in a swing that peaks :data:`LATE` frames after take-off, the
 arm's elevation read from the evaluated rig, then *Re-time Arm Swing*, read again::
@@ -32,6 +32,8 @@ SUBSTEPS = 4  # samples per frame
 HAND_KEYS = (("propulsion", -10, 0.0), ("propulsion", LATE, -40.0), ("flight", LATE, 100.0),
              ("landing", LATE, 40.0), ("landing", LATE + 10, 0.0))
 SIDES = "LR"
+ARMS = ("upper_arm.L", "upper_arm.R")  # the mannequin's bones (mannequin.py)
+FOREARMS = ("forearm.L", "forearm.R")
 
 
 def _call(op, rig, **props):
@@ -50,7 +52,9 @@ def swing_pass(demo):
     import bpy
 
     rig = demo.objects["rig"]
-    _call(bpy.ops.leapwright.find_arm_bones, rig)
+    s = demo.scene.leapwright_swing
+    s.upper_arm_left, s.upper_arm_right = ARMS
+    s.forearm_left, s.forearm_right = FOREARMS
     _call(bpy.ops.leapwright.place_arm_swing, rig)
     placed = _lines(rig)
     _call(bpy.ops.leapwright.check_arm_swing, rig)
@@ -171,7 +175,7 @@ def before_after(out_dir, zip_path):
     key_late_swing(scene, rig)
     frames, before = _track(scene, rig)
     s = scene.leapwright_swing
-    s.upper_arm_left, s.upper_arm_right = "upper_arm.L", "upper_arm.R"
+    s.upper_arm_left, s.upper_arm_right = ARMS
     _call(bpy.ops.leapwright.retime_arm_swing, rig)
     moved = _lines(rig)[0].split(";")[0]
     _, after = _track(scene, rig)

@@ -30,6 +30,7 @@ import mannequin  # noqa: E402  (the demo's own rig, not edited here)
 
 LATE = 6  # frames: issue 6's deliberately late swing peaks this long after take-off
 ARMS = ("upper_arm.L", "upper_arm.R")
+FOREARMS = ("forearm.L", "forearm.R")
 
 
 def _enable():
@@ -108,14 +109,26 @@ def _peak(frames, values):
     return float(frames[i])
 
 
-def _place(rig, find=True, **values):
+def _place(rig, **values):
+    """Place Arm Swing on the mannequin's arms, named by hand (see the test of Find Arm Bones)."""
     s = bpy.context.scene.leapwright_swing
     bpy.context.view_layer.objects.active = rig
-    if find:
-        assert bpy.ops.leapwright.find_arm_bones() == {"FINISHED"}
+    s.upper_arm_left, s.upper_arm_right = ARMS
+    s.forearm_left, s.forearm_right = FOREARMS
     for k, v in values.items():
         setattr(s, k, v)
     return bpy.ops.leapwright.place_arm_swing()
+
+
+def test_find_arm_bones_reads_the_arms_from_the_bone_tree_whatever_their_names():
+    rig, scene = _jump()
+    bpy.context.view_layer.objects.active = rig
+    for b in rig.data.bones:
+        b.name = "b" + b.name[::-1]  # no name the add-on could recognise
+    assert bpy.ops.leapwright.find_arm_bones() == {"FINISHED"}
+    s = scene.leapwright_swing
+    found = (s.upper_arm_left, s.forearm_left, s.upper_arm_right, s.forearm_right)
+    assert found == tuple("b" + n[::-1] for n in (ARMS[0], FOREARMS[0], ARMS[1], FOREARMS[1]))
 
 
 @pytest.mark.parametrize("mode", ["QUATERNION", "XYZ"])
@@ -161,9 +174,7 @@ def test_placed_swing_rerun_replaces_and_remove_takes_it_back():
 @pytest.mark.parametrize("applied", [False, True], ids=["object turned", "bones turned"])
 def test_swing_plane_follows_a_rig_turned_90_degrees_about_z(applied):
     rig, scene = _jump(turn_deg=90.0, applied=applied)
-    # Bones named by hand: the bone tree is read with the armature's +X as the character's left.
-    assert _place(rig, upper_arm_left=ARMS[0], upper_arm_right=ARMS[1], forearm_left="forearm.L",
-                  forearm_right="forearm.R", find=False) == {"FINISHED"}
+    assert _place(rig) == {"FINISHED"}
     _, takeoff, _ = _events(scene)
     forward, up = _facing(rig, 90.0)  # the mannequin now faces world +X
     assert np.allclose(forward, [1.0, 0.0, 0.0], atol=1e-6)
@@ -178,7 +189,7 @@ def test_swing_plane_follows_a_rig_turned_90_degrees_about_z(applied):
         assert math.degrees(math.acos(d @ forward / np.linalg.norm(d))) < 8.0
 
 
-def _late_swing(rig, scene):
+def _late_swing(rig, scene, handles="AUTO_CLAMPED"):
     """The animator's own swing, keyed as a user keys it, peaking LATE frames after take-off.
 
     Elevation keys (deg) turn each upper arm about the character's side-to-side axis
@@ -195,6 +206,11 @@ def _late_swing(rig, scene):
             pb.rotation_quaternion = b.inverted() @ turn @ b
             pb.keyframe_insert("rotation_quaternion", frame=frame)
         pb.rotation_quaternion = (1.0, 0.0, 0.0, 0.0)
+    if handles != "AUTO_CLAMPED":  # as the animator leaves them after dragging handles: where they are
+        for fc in addon().blender_compat.fcurves(rig.animation_data.action, rig):
+            for k in fc.keyframe_points:
+                if "upper_arm" in fc.data_path:
+                    k.handle_left_type = k.handle_right_type = handles
     scene.frame_end = max(scene.frame_end, int(touchdown + LATE + 14))
     scene.frame_set(1)
 
@@ -204,9 +220,10 @@ def _arm_curves(rig):
             for fc in addon().blender_compat.fcurves(rig.animation_data.action, rig) if "upper_arm" in fc.data_path}
 
 
-def test_late_swing_is_retimed_to_peak_at_takeoff_keeping_its_values_and_removal_restores_it():
+@pytest.mark.parametrize("handles", ["AUTO_CLAMPED", "FREE"])
+def test_late_swing_is_retimed_to_peak_at_takeoff_keeping_its_values_and_removal_restores_it(handles):
     rig, scene = _jump()
-    _late_swing(rig, scene)
+    _late_swing(rig, scene, handles)
     _, takeoff, _ = _events(scene)
     forward, up = _facing(rig, 0.0)
     frames = np.arange(takeoff - 14.0, takeoff + 14.0, 0.25)
@@ -214,8 +231,7 @@ def test_late_swing_is_retimed_to_peak_at_takeoff_keeping_its_values_and_removal
 
     s = scene.leapwright_swing
     bpy.context.view_layer.objects.active = rig
-    assert bpy.ops.leapwright.find_arm_bones() == {"FINISHED"}
-    s.forearm_left = s.forearm_right = ""
+    s.upper_arm_left, s.upper_arm_right = ARMS
     assert bpy.ops.leapwright.check_arm_swing() == {"FINISHED"}
     warning = " ".join(t for t, icon in addon().swing_operators.LAST[rig.name] if icon == "ERROR")
     late = float(warning.split("peaks ")[1].split(" frames")[0])
@@ -234,6 +250,12 @@ def test_late_swing_is_retimed_to_peak_at_takeoff_keeping_its_values_and_removal
         new = keys_after[k]
         assert new["co"][1::2].tobytes() == old["co"][1::2].tobytes()  # every value kept, bit for bit
         assert np.all(np.diff(new["co"][0::2]) > 0)  # still in order
+        # Handles stay on their own side of their key and do not cross the next key's (Blender keeps
+        # a Bezier span a function of time only then).
+        t, left, right = new["co"][0::2], new["handle_left"][0::2], new["handle_right"][0::2]
+        assert np.all(left <= t + 1e-4) and np.all(right >= t - 1e-4)
+        assert np.all(right[:-1] <= left[1:] + 1e-4)
+        assert new["handle_left_type"].tobytes() == old["handle_left_type"].tobytes()
     peak_key = [k for k in keys_before if k[1] == 0][0]
     shift = keys_after[peak_key]["co"][4] - keys_before[peak_key]["co"][4]  # the third key: the peak
     assert shift == pytest.approx(-LATE, abs=1.0)
@@ -356,7 +378,7 @@ def test_contact_window_without_markers_comes_from_the_body_or_the_feet(contact_
     s.upper_arm_left, s.upper_arm_right = ARMS
     s.contact_from = contact_from
     bpy.context.view_layer.objects.active = rig
-    assert _place(rig, find=False) == {"FINISHED"}
+    assert _place(rig) == {"FINISHED"}
     assert bpy.ops.leapwright.check_arm_swing() == {"FINISHED"}
     (line, _), (verdict, icon) = addon().swing_operators.LAST[rig.name][:2]
     source = {"BODY": "the body bone's free fall", "FEET": "the foot heights", "AUTO": "the body bone's free fall"}
@@ -365,3 +387,23 @@ def test_contact_window_without_markers_comes_from_the_body_or_the_feet(contact_
     assert abs(got_takeoff - takeoff) <= 1.0
     assert abs(got_push - push) <= 1.0  # the lowest body point before take-off (end of braking)
     assert icon == "CHECKMARK", verdict
+
+
+@pytest.mark.parametrize("on_conflict", ["ASK", "REPLACE"])
+def test_placing_over_your_arm_keys_asks_first_or_replaces_and_gives_them_back(on_conflict):
+    rig, scene = _jump()
+    _late_swing(rig, scene)
+    before = file_state()
+    result = _place(rig, on_conflict=on_conflict)
+    if on_conflict == "ASK":  # a warning, not an error: nothing was wrong, nothing was written
+        assert result == {"CANCELLED"}
+        assert file_state() == before, first_difference(file_state(), before)
+        return
+    assert result == {"FINISHED"}
+    push, takeoff, _ = _events(scene)
+    frames = np.arange(push - 4.0, takeoff + 8.0, 0.25)
+    forward, up = _facing(rig, 0.0)
+    assert abs(_peak(frames, _elevation(rig, frames, forward, up)) - takeoff) <= 1.0
+    assert bpy.ops.leapwright.remove_arm_swing() == {"FINISHED"}
+    scene.frame_set(1)
+    assert file_state() == before, first_difference(file_state(), before)
