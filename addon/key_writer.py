@@ -69,16 +69,23 @@ def write_curve(fcurve, frames, values, slopes=None, interpolation="BEZIER"):
     if slopes is None:
         slopes = np.zeros(n)
     left, right = handle_positions(f, v, slopes)
+    # (frame, value) pairs and both handles in one float32 block: three views, one cast
+    block = np.empty((3, n, 2), dtype=np.float32)
+    block[0, :, 0], block[0, :, 1] = f, v
+    block[1], block[2] = left, right
+    codes = np.empty((3, n), dtype=np.int32)
+    codes[0] = INTERPOLATION[interpolation]
+    codes[1:] = _FREE
     points = fcurve.keyframe_points
     if len(points):
         points.clear()
     points.add(n)
-    points.foreach_set("co", np.column_stack([f, v]).astype(np.float32).ravel())
-    points.foreach_set("handle_left", left.astype(np.float32).ravel())
-    points.foreach_set("handle_right", right.astype(np.float32).ravel())
-    points.foreach_set("interpolation", np.full(n, INTERPOLATION[interpolation], dtype=np.int32))
-    points.foreach_set("handle_left_type", np.full(n, _FREE, dtype=np.int32))
-    points.foreach_set("handle_right_type", np.full(n, _FREE, dtype=np.int32))
+    points.foreach_set("co", block[0].ravel())
+    points.foreach_set("handle_left", block[1].ravel())
+    points.foreach_set("handle_right", block[2].ravel())
+    points.foreach_set("interpolation", codes[0])
+    points.foreach_set("handle_left_type", codes[1])
+    points.foreach_set("handle_right_type", codes[2])
     fcurve.update()
 
 

@@ -107,28 +107,31 @@ def sample_pose(scene, rig, frames, bone_names=None, channels=(), progress=None)
     names, pick = _bone_indices(rig, bone_names)
     bones = rig.pose.bones
     n_all = len(bones)
-    buf = np.empty(n_all * 16, dtype=np.float32)
-    out = np.empty((frames.size, len(names), 4, 4))
-    extra = {name: np.empty((frames.size, len(names), width)) for name, width in channels}
-    extra_buf = {name: np.empty(n_all * width, dtype=np.float32) for name, width in channels}
+    # one row per frame, filled in place: the loop does nothing but evaluate and copy
+    buf = np.empty((frames.size, n_all * 16), dtype=np.float32)
+    extra_buf = {name: np.empty((frames.size, n_all * width), dtype=np.float32) for name, width in channels}
+    placements = []
     whole = np.floor(frames).astype(int)
     sub = frames - whole
     with quiet_evaluation(scene, rig):
-        for i, (f, s) in enumerate(zip(whole, sub)):
-            scene.frame_set(int(f), subframe=float(s))
-            bones.foreach_get("matrix", buf)
-            # foreach_get gives each 4x4 column by column: transpose to row-major.
-            arm = buf.reshape(n_all, 4, 4).transpose(0, 2, 1)
-            if pick is not None:
-                arm = arm[pick]
-            world = np.array(rig.matrix_world, dtype=float)
-            out[i] = world @ arm
-            for name, width in channels:
-                bones.foreach_get(name, extra_buf[name])
-                vals = extra_buf[name].reshape(n_all, width)
-                extra[name][i] = vals[pick] if pick is not None else vals
+        for i, (f, s) in enumerate(zip(whole.tolist(), sub.tolist())):
+            scene.frame_set(f, subframe=s)
+            bones.foreach_get("matrix", buf[i])
+            placements.append(rig.matrix_world.copy())
+            for name, _width in channels:
+                bones.foreach_get(name, extra_buf[name][i])
             if progress is not None:
                 progress(i + 1)
+    # foreach_get gives each 4x4 column by column: transpose to row-major.
+    arm = buf.reshape(frames.size, n_all, 4, 4).transpose(0, 1, 3, 2)
+    if pick is not None:
+        arm = arm[:, pick]
+    world = np.array([np.array(m, dtype=float) for m in placements]).reshape(frames.size, 1, 4, 4)
+    out = world @ arm
+    extra = {}
+    for name, width in channels:
+        vals = extra_buf[name].reshape(frames.size, n_all, width).astype(float)
+        extra[name] = vals[:, pick] if pick is not None else vals
     return out, names, extra
 
 
