@@ -38,6 +38,7 @@ import numpy as np
 from . import constants as C
 from .body_mass import group_coms, whole_body_com
 from .errors import InvalidGoalError, InvalidTrajectoryError, require_finite
+from .timebase import MAX_FPS, MIN_FPS
 
 #: COM departure from the arc above which a warning is given [m] (design choice: one
 #: centimetre, a clearly visible torso drift on a human-sized character).
@@ -166,6 +167,9 @@ def correct_flight(com, stretches, fps, gravity=C.STANDARD_GRAVITY, up=(0.0, 0.0
         raise InvalidTrajectoryError(f"the COM track must be a finite (n_frames, 3) array [m], got shape {c.shape}"
                                      f"{'' if np.isfinite(c).all() else ' with NaN or infinity'}")
     fps = require_finite("fps", fps, positive=True)
+    if not MIN_FPS <= fps <= MAX_FPS:
+        raise InvalidGoalError(f"fps {fps:g} is outside {MIN_FPS:g} to {MAX_FPS:g}; give the scene's frame rate, "
+                               "e.g. 24")
     g = require_finite("gravity", gravity, non_negative=True, unit=" m/s^2")
     upv = np.asarray(up, float).reshape(3)
     if not np.isfinite(upv).all() or np.linalg.norm(upv) == 0:

@@ -7,6 +7,9 @@ from .errors import InvalidGoalError
 #: Largest frame rate accepted [frames/s]; far above any production rate, it keeps
 #: sample counts bounded when a rate is typed wrong.
 MAX_FPS = 10_000.0
+#: Smallest frame rate accepted [frames/s]: Blender's own lowest (fps 1 over an fps_base
+#: of 1e6, the hard limits of its RenderSettings); below it frame times overflow.
+MIN_FPS = 1e-6
 
 
 def parse_fps(text):

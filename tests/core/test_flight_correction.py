@@ -180,3 +180,12 @@ def test_random_poses_never_crash_or_give_nan(seed, fps, gravity):
     np.testing.assert_allclose(moved[first:last + 1], fix.arcs[0], atol=1e-6 * (1 + np.abs(fix.arcs[0]).max()))
     for dep in found:
         assert np.isfinite(dep.torso_drop_cm).all() and all(np.isfinite(v).all() for v in dep.limb_drop_cm.values())
+
+
+@pytest.mark.parametrize("fps", [2.152989292011759e-226, 1e-7, 1e5])
+def test_frame_rate_outside_blenders_range_is_refused(fps):
+    # Blender's RenderSettings allow fps 1..32767 over fps_base 1e-5..1e6 (its RNA hard limits); far
+    # outside, frame times overflow and the least-squares take-off fit did not converge.
+    com = np.zeros((30, 3))
+    with pytest.raises(InvalidGoalError, match="fps"):
+        correct_flight(com, [(10, 20)], fps)
