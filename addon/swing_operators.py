@@ -14,6 +14,10 @@ from .core.swing_timing import plan_swing_report
 
 #: Rig name -> (line, icon) of the last check, placing or re-timing (shown in the panel; not saved in the file).
 LAST: dict = {}
+#: A swing whose peak and upswing start are this close to take-off and the push start is left
+#: alone [frames]: the detection's own precision from whole-frame samples (design choice), so a
+#: second run does not nudge the keys again.
+ON_TIME_FRAMES = 0.25
 
 
 def _ready(context):
@@ -162,7 +166,7 @@ class LEAPWRIGHT_OT_retime_arm_swing(_ArmOperator, bpy.types.Operator):
         except swing_keys.SwingError as exc:
             return self._refuse(str(exc))
         rep = work.report
-        if rep.max_frames_moved < 1e-3:
+        if max(abs(rep.peak_shift_frames), abs(rep.start_shift_frames)) < ON_TIME_FRAMES:
             LAST[rig.name] = reading_lines(work.reading)
             self.report({"INFO"}, f"the swing on '{rig.name}' is already on time; no key moved")
             return {"FINISHED"}

@@ -260,6 +260,9 @@ def test_late_swing_is_retimed_to_peak_at_takeoff_keeping_its_values_and_removal
     shift = keys_after[peak_key]["co"][4] - keys_before[peak_key]["co"][4]  # the third key: the peak
     assert shift == pytest.approx(-LATE, abs=1.0)
     assert any(a.name.startswith("lw:before ") for a in bpy.data.actions)
+    once = file_state()
+    assert bpy.ops.leapwright.retime_arm_swing() == {"FINISHED"}  # on time now: nothing moves
+    assert file_state() == once, first_difference(file_state(), once)
 
     assert bpy.ops.leapwright.remove_arm_swing() == {"FINISHED"}
     scene.frame_set(1)
