@@ -189,15 +189,15 @@ def test_swing_plane_follows_a_rig_turned_90_degrees_about_z(applied):
         assert math.degrees(math.acos(d @ forward / np.linalg.norm(d))) < 8.0
 
 
-def _late_swing(rig, scene, handles="AUTO_CLAMPED"):
+def _late_swing(rig, scene, handles="AUTO_CLAMPED", late=LATE):
     """The animator's own swing, keyed as a user keys it, peaking LATE frames after take-off.
 
     Elevation keys (deg) turn each upper arm about the character's side-to-side axis
     (armature -X: forward x up for a rig facing -Y), from its rest pose.
     """
     push, takeoff, touchdown = _events(scene)
-    keys = ((push - 10, 0.0), (push + LATE, -40.0), (takeoff + LATE, 100.0), (touchdown + LATE, 40.0),
-            (touchdown + LATE + 10, 0.0))
+    keys = ((push - 10, 0.0), (push + late, -40.0), (takeoff + late, 100.0), (touchdown + late, 40.0),
+            (touchdown + late + 10, 0.0))
     for name in ARMS:
         pb = rig.pose.bones[name]
         b = rig.data.bones[name].matrix_local.to_quaternion()
@@ -211,7 +211,7 @@ def _late_swing(rig, scene, handles="AUTO_CLAMPED"):
             for k in fc.keyframe_points:
                 if "upper_arm" in fc.data_path:
                     k.handle_left_type = k.handle_right_type = handles
-    scene.frame_end = max(scene.frame_end, int(touchdown + LATE + 14))
+    scene.frame_end = max(scene.frame_end, int(touchdown + late + 14))
     scene.frame_set(1)
 
 
@@ -410,3 +410,23 @@ def test_placing_over_your_arm_keys_asks_first_or_replaces_and_gives_them_back(o
     assert bpy.ops.leapwright.remove_arm_swing() == {"FINISHED"}
     scene.frame_set(1)
     assert file_state() == before, first_difference(file_state(), before)
+
+
+def test_a_swing_wholly_in_the_air_is_called_outside_contact_and_retimed_into_the_push():
+    rig, scene = _jump()
+    push, takeoff, _ = _events(scene)
+    late = math.ceil(takeoff - push) + 2  # the upswing starts two frames after take-off
+    _late_swing(rig, scene, late=late)
+    s = scene.leapwright_swing
+    s.upper_arm_left, s.upper_arm_right = ARMS
+    bpy.context.view_layer.objects.active = rig
+    assert bpy.ops.leapwright.check_arm_swing() == {"FINISHED"}
+    warnings = [t for t, icon in addon().swing_operators.LAST[rig.name] if icon == "ERROR"]
+    assert any(w.startswith("arm swing outside contact") for w in warnings), warnings
+    assert bpy.ops.leapwright.retime_arm_swing() == {"FINISHED"}
+    frames = np.arange(push - 4.0, takeoff + late + 8.0, 0.25)
+    forward, up = _facing(rig, 0.0)
+    elev = _elevation(rig, frames, forward, up)
+    assert abs(_peak(frames, elev) - takeoff) <= 1.0
+    before = frames <= takeoff
+    assert push - 1.0 <= float(frames[before][np.argmin(elev[before])]) < takeoff
