@@ -49,6 +49,17 @@ class _ArmOperator:
         return {"CANCELLED"}
 
 
+class _KeyWritingOperator(_ArmOperator):
+    """An arm-swing operator that changes keys: the rig must take them, else nothing runs."""
+
+    def execute(self, context):
+        rig = rig_space.chosen_rig(context)
+        problem = _rig_problem(rig)
+        if problem:
+            return self._refuse(problem)
+        return self.run(context.scene, rig, context.scene.leapwright_swing)
+
+
 def _frames(reading, t):
     return f"{reading.frame(t):.1f}"
 
@@ -82,18 +93,13 @@ class LEAPWRIGHT_OT_find_arm_bones(_ArmOperator, bpy.types.Operator):
         return {"FINISHED"}
 
 
-class LEAPWRIGHT_OT_place_arm_swing(_ArmOperator, bpy.types.Operator):
+class LEAPWRIGHT_OT_place_arm_swing(_KeyWritingOperator, bpy.types.Operator):
     """Key an arm swing timed to the planned jump: back in the dip, up through the push to take-off"""
 
     bl_idname = "leapwright.place_arm_swing"
     bl_label = "Place Arm Swing"
 
-    def execute(self, context):
-        scene, rig = context.scene, rig_space.chosen_rig(context)
-        s = scene.leapwright_swing
-        problem = _rig_problem(rig)
-        if problem:
-            return self._refuse(problem)
+    def run(self, scene, rig, s):
         plan, readout = plan_link.plan_for(scene)
         if plan is None:
             return self._refuse(f"no plan to time the swing to: {readout['error']}")
@@ -149,18 +155,13 @@ class LEAPWRIGHT_OT_check_arm_swing(_ArmOperator, bpy.types.Operator):
         return {"FINISHED"}
 
 
-class LEAPWRIGHT_OT_retime_arm_swing(_ArmOperator, bpy.types.Operator):
+class LEAPWRIGHT_OT_retime_arm_swing(_KeyWritingOperator, bpy.types.Operator):
     """Move the times of your arm keys so the upswing fills the push and peaks at take-off (values kept)"""
 
     bl_idname = "leapwright.retime_arm_swing"
     bl_label = "Re-time Arm Swing"
 
-    def execute(self, context):
-        scene, rig = context.scene, rig_space.chosen_rig(context)
-        s = scene.leapwright_swing
-        problem = _rig_problem(rig)
-        if problem:
-            return self._refuse(problem)
+    def run(self, scene, rig, s):
         try:
             work = swing_retime.prepare_retime(scene, rig, s)
         except swing_keys.SwingError as exc:
