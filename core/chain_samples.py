@@ -100,27 +100,27 @@ def check_samples(times, heads, rotations, parents, gravity):
 def _rotation_parts(matrices):
     """Proper rotations of world matrices.
 
-    A rig's matrices are rotations times a uniform scale up to float32 rounding;
-    those are divided by their scale and polished by two steps of Bjorck's
-    iteration ``X (3 I - X^T X) / 2``, which squares the distance to orthogonality
-    each step (1e-7 -> 1e-14 -> rounding). Anything else (shear, stretch) goes
-    through :func:`nearest_rotations` (the SVD polar factor), which also refuses
-    mirrored and degenerate matrices.
-
-    References
-    ----------
-    Bjorck, A. & Bowie, C. 1971, "An iterative algorithm for computing the best
-    estimate of an orthogonal matrix", SIAM J. Numer. Anal. 8(2):358-364.
+    A rig's matrices are rotations times a uniform scale, to float32 rounding;
+    those are divided by their scale (orthogonal to ~1e-7, Blender's own
+    precision). Anything else (shear, stretch) goes through
+    :func:`nearest_rotations` (the SVD polar factor), which also refuses mirrored
+    and degenerate matrices.
     """
-    gram = np.einsum("...ji,...jk->...ik", matrices, matrices)
-    scale2 = (gram[..., 0, 0] + gram[..., 1, 1] + gram[..., 2, 2]) / 3.0
-    off = np.abs(gram - scale2[..., None, None] * np.eye(3)).max(axis=(-2, -1))
-    if not (np.all(off <= 1e-5 * scale2) and np.all(np.linalg.det(matrices) > 0.0)):
+    c0, c1, c2 = matrices[..., 0], matrices[..., 1], matrices[..., 2]
+
+    def dot(a, b):
+        return a[..., 0] * b[..., 0] + a[..., 1] * b[..., 1] + a[..., 2] * b[..., 2]
+
+    n0, n1, n2 = dot(c0, c0), dot(c1, c1), dot(c2, c2)
+    scale2 = (n0 + n1 + n2) / 3.0
+    off = np.maximum.reduce([np.abs(n0 - scale2), np.abs(n1 - scale2), np.abs(n2 - scale2),
+                             np.abs(dot(c0, c1)), np.abs(dot(c0, c2)), np.abs(dot(c1, c2))])
+    det = (c0[..., 0] * (c1[..., 1] * c2[..., 2] - c1[..., 2] * c2[..., 1])
+           + c0[..., 1] * (c1[..., 2] * c2[..., 0] - c1[..., 0] * c2[..., 2])
+           + c0[..., 2] * (c1[..., 0] * c2[..., 1] - c1[..., 1] * c2[..., 0]))
+    if not (np.all(off <= 1e-6 * scale2) and np.all(det > 0.0)):
         return nearest_rotations(matrices, "rotations")
-    x = matrices / np.sqrt(scale2)[..., None, None]
-    for _ in range(2):
-        x = x @ (1.5 * np.eye(3) - 0.5 * np.einsum("...ji,...jk->...ik", x, x))
-    return x
+    return matrices / np.sqrt(scale2)[..., None, None]
 
 
 def check_drive(accel, alpha, times, first=0):
