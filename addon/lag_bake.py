@@ -143,12 +143,19 @@ def check(rig, request):
 
 
 def _muted_lag(rig):
-    """The previous bake's track muted, so sampling sees the animation without it."""
+    """The previous bake's track muted, so sampling sees the animation without it.
+
+    A muted track stops writing, and Blender leaves an un-keyed channel at its
+    last value, which is the layer's: those channels get the values they had
+    before the layer (what :mod:`ownership` remembered for removal).
+    """
     ad = rig.animation_data
     track = ad.nla_tracks.get(TRACK) if ad is not None else None
     was = track.mute if track is not None else None
     if track is not None:
         track.mute = True
+        for (path, index), value in ownership.static_values(rig, CAPABILITY).items():
+            rig.path_resolve(path)[index] = value
     return track, was
 
 
@@ -186,6 +193,7 @@ def prepare(scene, rig, request, progress=None):
     finally:
         if track is not None:
             track.mute = was
+            scene.frame_set(scene.frame_current, subframe=scene.frame_subframe)  # the layer's values again
     unit = scene.unit_settings.scale_length or 1.0
     fps = scene.render.fps / scene.render.fps_base
     times = frames / fps

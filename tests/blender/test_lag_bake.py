@@ -67,6 +67,12 @@ def _lag_curves(rig):
     return list(addon().blender_compat.fcurves(track.strips[0].action, rig))
 
 
+def _key_values(fc):
+    buf = np.zeros(2 * len(fc.keyframe_points), dtype=np.float32)
+    fc.keyframe_points.foreach_get("co", buf)
+    return buf
+
+
 def _user_curves(snap, action_name):
     for obj in snap["objects"]:
         for name, curves, _groups in obj[3]:
@@ -90,8 +96,17 @@ def test_keys_only_on_chosen_bones_rebake_keeps_count_user_keys_untouched_and_un
     scene = bpy.context.scene
     lag_keys = sum(len(fc.keyframe_points) for fc in _lag_curves(rig))
     assert lag_keys == 4 * 2 * (scene.frame_end - scene.frame_start + 1)  # every frame, 4 channels, 2 bones
+    first = {(fc.data_path, fc.array_index): _key_values(fc) for fc in _lag_curves(rig)}
+    now = scene.frame_current
+    scene.frame_set(scene.frame_end)  # the layer's last pose is what the un-keyed pony.2 rotation holds now
     assert _bake(rig, bones=",".join(PONY[:2]), preset="hair") == {"FINISHED"}
+    scene.frame_set(now)
     assert key_count(rig) == n_first
+    # the same motion gives the same keys: the second bake samples the animation without the first
+    again = {(fc.data_path, fc.array_index): _key_values(fc) for fc in _lag_curves(rig)}
+    assert again.keys() == first.keys()
+    for channel, values in first.items():
+        np.testing.assert_allclose(again[channel], values, atol=1e-6, err_msg=str(channel))
     assert len([t for t in rig.animation_data.nla_tracks if t.name == "lw:lag"]) == 1
     after = snapshot()
     assert dict(_user_curves(after, action)) == dict(_user_curves(before, action))
