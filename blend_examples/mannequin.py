@@ -27,11 +27,30 @@ from primitives import limb, material, parent_to_bone, slab_along, sphere
 STANDING_COM_HEIGHT = 1.0
 BODY_BONE = "hips"
 FOOT_CONTROLLERS = ("foot_ctrl.L", "foot_ctrl.R")
-PONYTAIL = tuple(f"ponytail_{i}" for i in range(1, 6))
+PONYTAIL = tuple(f"ponytail_{i}" for i in range(1, 4))
 
 _HIP_X, _SHOULDER_X = 0.1, 0.2
-_PONY_POINTS = ((0.0, 0.10, 1.80), (0.0, 0.17, 1.77), (0.0, 0.22, 1.70), (0.0, 0.245, 1.62),
-                (0.0, 0.255, 1.54), (0.0, 0.26, 1.46))
+#: Rest angle of each ponytail bone from straight down [deg]: held out behind the head, the
+#: way a tied ponytail springs from its band. In free fall a bone floats up by
+#: sag * sin(this angle), so a hanging (0 deg) tail would barely move in the air.
+PONY_TILT_DEG = (50.0, 45.0, 40.0)
+_PONY_LENGTH = 0.11
+
+
+def _pony_points():
+    at = [(0.0, 0.10, 1.80)]
+    for tilt in PONY_TILT_DEG:
+        a = math.radians(tilt)
+        x, y, z = at[-1]
+        at.append((x, y + _PONY_LENGTH * math.sin(a), z - _PONY_LENGTH * math.cos(a)))
+    return tuple(at)
+
+
+_PONY_POINTS = _pony_points()
+#: The skirt's flaps flare out (an A-line) by this much from vertical [deg], for the same
+#: reason; the hem stays inside the hands' reach (the rig is read by topology: the bones
+#: reaching furthest sideways are taken for the hands).
+SKIRT_FLARE_DEG = (30.0, 34.0)
 # Skirt flaps: name, hanging direction at the hem (unit-ish), the width direction.
 _SKIRT = (("front", (0.0, -1.0), (1, 0, 0)), ("back", (0.0, 1.0), (1, 0, 0)),
           ("left", (1.0, 0.0), (0, 1, 0)), ("right", (-1.0, 0.0), (0, 1, 0)))
@@ -57,8 +76,10 @@ def _side_bones(side, sx):
 def _skirt_bones():
     out = []
     for name, (dx, dy), _ in _SKIRT:
-        r0, r1, r2 = 0.125, 0.14, 0.16
-        p0, p1, p2 = ((dx * r, dy * r, z) for r, z in ((r0, 0.93), (r1, 0.84), (r2, 0.75)))
+        r0, z0, drop = 0.125, 0.93, 0.09
+        r1 = r0 + drop * math.tan(math.radians(SKIRT_FLARE_DEG[0]))
+        r2 = r1 + drop * math.tan(math.radians(SKIRT_FLARE_DEG[1]))
+        p0, p1, p2 = ((dx * r, dy * r, z) for r, z in ((r0, z0), (r1, z0 - drop), (r2, z0 - 2 * drop)))
         out.append((f"skirt_{name}_1", p0, p1, BODY_BONE, False))
         out.append((f"skirt_{name}_2", p1, p2, f"skirt_{name}_1", True))
     return out
@@ -165,14 +186,14 @@ def _build_body(rig, collection):
     ]
     for i, name in enumerate(PONYTAIL):
         a, b = Vector(_PONY_POINTS[i]), Vector(_PONY_POINTS[i + 1])
-        r = 0.042 - 0.006 * i
+        r = 0.042 - 0.008 * i
         parts.append((sphere(f"{name}_shape", (a + b) / 2.0, (r, r, (b - a).length * 0.62), m["hair"], c,
                              segments=16), name))
     heads = {n: (h, t) for n, h, t, _, _ in bone_table()}
     for name, _, across in _SKIRT:
         for k in (1, 2):
             h, t = heads[f"skirt_{name}_{k}"]
-            width = 0.2 if name in ("front", "back") else 0.16
+            width = (0.2 if name in ("front", "back") else 0.16) * (1.0 if k == 1 else 1.25)
             parts.append((slab_along(f"skirt_{name}_{k}_shape", h, t, across, width, 0.02, m["cloth"], c),
                           f"skirt_{name}_{k}"))
     parts += _side_body("L", 1.0, m, c) + _side_body("R", -1.0, m, c)

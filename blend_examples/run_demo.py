@@ -105,9 +105,10 @@ def blocking_pass(demo):
 
 
 from demo_swing import swing_pass  # noqa: E402  (imports Blender only when it runs)
+from demo_lag import lag_pass  # noqa: E402
 
 #: The demo's passes, in order. Later capabilities append theirs.
-PASSES = (blocking_pass, swing_pass)
+PASSES = (blocking_pass, swing_pass, lag_pass)
 
 
 def _write_manifest(demo, out_dir, frame_size, moments):

@@ -51,7 +51,10 @@ def main(blend, manifest):
         balls.append([list(rig.matrix_world @ b.head) for b in feet])
     crate = bpy.data.objects[info["crate"]]
     corners = np.array([list(crate.matrix_world @ Vector(c)) for c in crate.bound_box])
-    action = rig.animation_data.action if rig.animation_data else None
+    ad = rig.animation_data
+    # with a leapwright layer (NLA) the animator's action plays from a track below it
+    actions = ([ad.action] if ad is not None and ad.action is not None else []) + (
+        [st.action for tr in ad.nla_tracks for st in tr.strips if st.action is not None] if ad is not None else [])
     out = {
         "version": bpy.app.version_string,
         "objects": sorted(o.name for o in bpy.data.objects),
@@ -63,7 +66,7 @@ def main(blend, manifest):
         "balls": (np.array(balls) * m).tolist(),
         "markers": sorted([m_.frame, m_.name] for m_ in scene.timeline_markers),
         "has_weight_property": "lw_weight_bw" in rig,
-        "fcurve_paths": _fcurve_paths(action) if action is not None else [],
+        "fcurve_paths": [p for a in actions for p in _fcurve_paths(a)],
         "crate_min": (corners.min(axis=0) * m).tolist(),
         "crate_max": (corners.max(axis=0) * m).tolist(),
     }

@@ -221,3 +221,36 @@ def test_arm_swing_peaks_at_takeoff_and_rises_in_the_push(swing_probe):
         low = f[np.argmin(np.where(f < peak, elev, np.inf))]
         assert marks["propulsion"] - 1.5 <= low < marks["flight"], (side, low, marks)
         assert elev.max() - elev.min() > 90.0, side  # a real swing: back 45 deg, up 90 deg by default
+
+
+@pytest.fixture(scope="module")
+def lag_probe(outputs):
+    """The demo file's ponytail tip and skirt hem, with the follow-through layer and without it."""
+    cmd = [sys.executable, os.path.join(REPO, "blend_examples", "demo_lag.py"), "--probe",
+           outputs["jump_demo.blend"]]
+    res = subprocess.run(cmd, capture_output=True, text=True)
+    line = next((ln for ln in res.stdout.splitlines() if ln.startswith("LAG ")), None)
+    assert res.returncode == 0 and line is not None, f"the follow-through probe failed:\n{res.stderr[-3000:]}"
+    return json.loads(line[len("LAG "):])
+
+
+@pytest.mark.parametrize("bone, droop_within", [(0, 0.1), (1, 0.2)])
+def test_ponytail_and_skirt_float_in_flight_and_drop_on_landing(lag_probe, bone, droop_within):
+    # In flight the apparent weight is zero (|g_eff| = W/m, Newton's second law), so a trailing
+    # part floats toward its unloaded shape; at touchdown the force spike loads it past its
+    # standing shape. The issue's check for the ponytail tip: it lifts by at least half its sag
+    # during flight and droops past its standing angle within 0.1 s after touchdown. The skirt
+    # hem (two bones) is checked the same way over 0.2 s.
+    f = np.array(lag_probe["frames"])
+    baked = np.array(lag_probe["baked_deg"])[:, bone]
+    animated = np.array(lag_probe["animated_deg"])[:, bone]
+    marks, fps = lag_probe["markers"], lag_probe["fps"]
+    assert lag_probe["track_strips"] == 1
+    assert np.ptp(animated) < 1.0  # the body does not turn the part: what moves it is the layer
+    standing = animated[0]
+    lift = baked - animated  # away from straight down
+    flight = (f >= marks["flight"]) & (f < marks["landing"])
+    assert lift[flight].max() >= 0.5 * lag_probe["sag_deg"], (lift[flight].max(), lag_probe["sag_deg"])
+    assert baked[f == marks["landing"] - 1][0] > standing  # still floating just before touchdown
+    soon = (f >= marks["landing"]) & (f <= marks["landing"] + droop_within * fps + 1e-9)
+    assert baked[soon].min() < standing, (baked[soon], standing)

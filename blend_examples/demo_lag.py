@@ -1,0 +1,188 @@
+"""The demo's follow-through: the ponytail and the skirt trail the jump, and the README's strip.
+
+``lag_pass(demo)`` is a pass of ``run_demo.py``: it bakes the ponytail and the
+skirt flaps with the extension's *Bake Follow-Through*
+(``bpy.ops.leapwright.bake_lag``) over the scene range and reports the panel's
+readout (largest swing per bone). Run as a script::
+
+    .venv/bin/python blend_examples/demo_lag.py --strip blend_examples/out/jump_demo.blend --out docs
+
+renders ``follow_through_strip.png`` from a saved demo file (Cycles on the CPU,
+small and few samples): the moments around the flight with the baked layer,
+and the same moments with it muted, one row each. ``--probe FILE.blend`` prints
+``LAG {json}``: the ponytail tip's and a skirt flap's angle from straight down
+per frame, with the layer and with it muted, the phase markers and the preset's
+sag (for tests/blender_demo). Blender is imported inside the functions:
+``run_demo`` points Blender's user directories elsewhere before the first
+``import bpy``.
+"""
+
+import argparse
+import json
+import math
+import os
+import sys
+import tempfile
+import traceback
+
+import numpy as np
+
+HERE = os.path.dirname(os.path.abspath(__file__))
+#: The preset the demo bakes with. Hair (1.5 Hz, zeta 0.25, sag 20 deg) on the tilted
+#: ponytail floats it and drops it past standing within 0.1 s of touchdown.
+PRESET = "hair"
+TRACK = "lw:lag"
+STATE_PROPERTY = "lw_state"
+#: The bones that trail, as the mannequin names them: the ponytail, then each skirt flap.
+SKIRT_FLAPS = ("front", "back", "left", "right")
+#: Size of each rendered moment in the strip [px].
+TILE = (240, 270)
+
+
+def lag_bones():
+    """Names of the baked bones: ponytail root to tip, then the skirt flaps (top, hem)."""
+    import mannequin
+
+    return tuple(mannequin.PONYTAIL) + tuple(f"skirt_{flap}_{k}" for flap in SKIRT_FLAPS for k in (1, 2))
+
+
+def lag_pass(demo):
+    """Bake the ponytail and the skirt with the extension and report the readout."""
+    import bpy
+
+    from run_demo import _operator_call  # here: run_demo imports this module
+
+    scene, rig = demo.scene, demo.objects["rig"]
+    s = scene.leapwright_lag
+    s.preset = PRESET
+    s.use_scene_range = True
+    bones = lag_bones()
+    _operator_call(bpy.ops.leapwright.bake_lag, rig, bones=",".join(bones), preset="SETTINGS")
+    peaks = json.loads(s.readout)
+    import mannequin
+
+    tip, hem = mannequin.PONYTAIL[-1], "skirt_back_2"
+    return (f"follow-through ({PRESET}) baked on {len(bones)} bones over frames {scene.frame_start}-"
+            f"{scene.frame_end}; largest swing {tip} {peaks[tip]:.1f} deg, {hem} {peaks[hem]:.1f} deg")
+
+
+def _markers(scene):
+    return {m.name[len("lw:"):]: int(m.frame) for m in scene.timeline_markers if m.name.startswith("lw:")}
+
+
+def _angles_from_down(scene, rig, names, frames):
+    """Angle of each bone's +Y axis from straight down [deg], per frame (evaluated rig)."""
+    out = []
+    for f in frames:
+        scene.frame_set(int(f))
+        row = []
+        for name in names:
+            y = (rig.matrix_world.to_3x3() @ rig.pose.bones[name].matrix.to_3x3()).col[1].normalized()
+            row.append(math.degrees(math.acos(max(-1.0, min(1.0, -y.z)))))
+        out.append(row)
+    return np.array(out)
+
+
+def _open(blend):
+    import bpy
+
+    bpy.ops.wm.open_mainfile(filepath=os.path.abspath(blend))
+    scene = bpy.context.scene
+    rig = next(o for o in bpy.data.objects if o.type == "ARMATURE")
+    return scene, rig, rig.animation_data.nla_tracks.get(TRACK)
+
+
+def _without_layer(rig, track):
+    """Mute the layer. A muted layer leaves un-keyed channels at its last values, so put
+    back the ones the extension remembered from before it (its state property, JSON)."""
+    track.mute = True
+    for rec in json.loads(rig.get(STATE_PROPERTY, "{}")).get("static", []):
+        if rec["capability"] == "lag":
+            rig.path_resolve(rec["path"])[rec["index"]] = rec["value"]
+
+
+def probe(blend):
+    """Print ``LAG {json}`` for a saved demo file (plain Blender data, add-on not needed)."""
+    import mannequin
+
+    scene, rig, track = _open(blend)
+    names = [mannequin.PONYTAIL[-1], "skirt_back_2"]
+    frames = np.arange(scene.frame_start, scene.frame_end + 1)
+    baked = _angles_from_down(scene, rig, names, frames)
+    _without_layer(rig, track)
+    animated = _angles_from_down(scene, rig, names, frames)
+    track.mute = False
+    from core.chain_presets import chain_preset  # the repository's core: the preset's published sag
+
+    print("LAG " + json.dumps({"fps": scene.render.fps / scene.render.fps_base, "frames": frames.tolist(),
+                               "bones": names, "baked_deg": baked.tolist(), "animated_deg": animated.tolist(),
+                               "markers": _markers(scene), "sag_deg": math.degrees(chain_preset(PRESET).sag),
+                               "track_strips": len(track.strips)}))
+
+
+def strip_moments(marks):
+    """(frame, label) of the strip: standing, take-off, in the air, touchdown and just after."""
+    up, down = marks["flight"], marks["landing"]
+    return [(marks["propulsion"] - 2, "crouch"), (up, "take-off"), ((up + down) // 2, "in the air"),
+            (down - 1, "touching down"), (down + 2, "landed +2 fr")]
+
+
+def render_strip(blend, out_dir, samples=12):
+    """Render the moments with the layer, then muted, and lay them out in two rows."""
+    import bpy
+
+    sys.path.insert(0, HERE)
+    import demo_pictures as pics
+
+    scene, rig, track = _open(blend)
+    scene.render.resolution_x, scene.render.resolution_y = TILE
+    scene.render.resolution_percentage = 100
+    moments = strip_moments(_markers(scene))
+    frames_dir = tempfile.mkdtemp(prefix="lw-lag-strip-")
+    rows = []
+    for muted, tag in ((False, "baked"), (True, "without")):
+        if muted:
+            _without_layer(rig, track)
+        shots = pics.render_moments(scene, moments, frames_dir, samples=samples)
+        for k, path in enumerate(shots):
+            os.replace(path, os.path.join(frames_dir, f"{tag}_{k}.png"))
+        rows.append([(f, f"{label}{' (no layer)' if muted else ''}") for f, label in moments])
+    paths = [os.path.join(frames_dir, f"{tag}_{k}.png") for tag in ("baked", "without")
+             for k in range(len(moments))]
+    os.makedirs(out_dir, exist_ok=True)
+    out = pics.compose_strip(paths, rows[0] + rows[1], os.path.join(out_dir, "follow_through_strip.png"),
+                             TILE, columns=len(moments))
+    bpy.ops.wm.read_factory_settings(use_empty=True)
+    return out
+
+
+def main(argv=None):
+    ap = argparse.ArgumentParser(description="probe or render the demo's follow-through")
+    ap.add_argument("--probe", help="a saved demo .blend to read back")
+    ap.add_argument("--strip", help="a saved demo .blend to render the strip from")
+    ap.add_argument("--out", default=os.path.join(os.path.dirname(HERE), "docs"), help="output directory")
+    args = ap.parse_args(argv)
+    sys.path.insert(0, HERE)
+    sys.path.insert(0, os.path.dirname(HERE))
+    status = 1
+    try:
+        if args.probe:
+            probe(args.probe)
+        elif args.strip:
+            path = render_strip(args.strip, os.path.abspath(args.out))
+            print(f"wrote {path} ({os.path.getsize(path) // 1024} kB)")
+        else:
+            raise SystemExit("give --probe FILE.blend or --strip FILE.blend")
+        status = 0
+    except SystemExit as exc:
+        print(f"demo_lag failed: {exc}", file=sys.stderr)
+    except Exception:
+        traceback.print_exc()
+    finally:
+        sys.stdout.flush()
+        sys.stderr.flush()
+        os._exit(status)
+
+
+if __name__ == "__main__":
+    main()
