@@ -149,6 +149,16 @@ def new_nla_strip(obj, track, name, start, action, slot_handle=0):
     return strip
 
 
+def set_strip_action(strip, action):
+    """Let an NLA strip play ``action``, on the slot with the handle it played before."""
+    handle = strip_slot_handle(strip)
+    strip.action = action
+    if LAYERED:
+        slot = next((s for s in action.slots if s.handle == handle), None)
+        if slot is not None and strip.action_slot != slot:
+            strip.action_slot = slot
+
+
 def new_delta_action(obj, name):
     """A new empty action ready to take ``obj``'s curves without being assigned."""
     action = bpy.data.actions.new(name)

@@ -14,6 +14,16 @@ Keys of the animator's that a run was told to replace are saved first, in the
 rig's ``lw_state`` property (with everything else needed to undo the run), and
 written back on removal. Blender's own undo covers the UI; this is for the
 "remove what leapwright wrote" operator and for re-runs.
+
+A rig that plays an action linked from a library never gets keys written
+into that action: Blender does not save changes to linked data, so they would
+be gone after save and reload. The rig plays a local copy of it instead, in
+this file ("make local" done for the animator, the library file untouched);
+removal puts the linked action back and deletes the copy, as long as the copy
+holds nothing but the library's keys (keys the animator added to it are
+theirs, and the copy stays). Linked rigs and library overrides themselves are
+refused before anything is written (:func:`rig_space.linked_library_problem`);
+see :mod:`linked_actions`.
 """
 
 import json
@@ -21,8 +31,9 @@ import json
 import bpy
 import numpy as np
 
-from . import blender_compat as compat
+from . import blender_compat as compat, linked_actions
 from .key_writer import read_keys, restore_keys, write_curve
+from .linked_actions import action_ref, find_action
 
 PREFIX = "lw:"
 STATE_PROPERTY = "lw_state"
@@ -48,7 +59,7 @@ def load_state(obj):
 
 def save_state(obj, state):
     if (state.get("replaced") or state.get("layers") or state.get("static") or state.get("pushed") or state.get("created_action")
-            or state.get("created_anim_data") or state.get("written")):
+            or state.get("created_anim_data") or state.get("written") or state.get("adopted")):
         obj[STATE_PROPERTY] = json.dumps(state)
     elif STATE_PROPERTY in obj:
         del obj[STATE_PROPERTY]
@@ -59,7 +70,7 @@ def user_action(obj, state=None):
     state = load_state(obj) if state is None else state
     pushed = state.get("pushed")
     if pushed:
-        return bpy.data.actions.get(pushed["action"])
+        return find_action(pushed["action"])
     ad = obj.animation_data
     return ad.action if ad is not None else None
 
@@ -68,14 +79,40 @@ def _is_ours(fc):
     return fc.group is not None and fc.group.name.startswith(PREFIX)
 
 
+def _strip_actions(strips, out):
+    for strip in strips:
+        if strip.type == "META":
+            _strip_actions(strip.strips, out)
+        elif strip.action is not None and strip.action not in out:
+            out.append(strip.action)
+    return out
+
+
+def user_strip_actions(obj):
+    """Actions of the animator's own NLA strips (muted ones too: unmuting them must not surprise)."""
+    ad = obj.animation_data
+    out = []
+    for track in (ad.nla_tracks if ad is not None else ()):
+        if not track.name.startswith(PREFIX):  # USER_TRACK holds user_action, the rest are ours
+            _strip_actions(track.strips, out)
+    return out
+
+
 def conflicts(obj, specs):
-    """``(data_path, index)`` of the specs' channels the animator already keys."""
-    action = user_action(obj)
+    """``(data_path, index)`` of the specs' channels the animator already keys.
+
+    Searched: the animator's action and the actions of their NLA strips. A
+    channel keyed only in a strip clashes too: the active action written over
+    it would override the strip's keys without a word.
+    """
+    actions = [a for a in [user_action(obj)] + user_strip_actions(obj) if a is not None]
     out = []
     for spec in specs:
-        fc = compat.find_fcurve(action, obj, spec.data_path, spec.index)
-        if fc is not None and len(fc.keyframe_points) and not _is_ours(fc):
-            out.append((spec.data_path, spec.index))
+        for action in actions:
+            fc = compat.find_fcurve(action, obj, spec.data_path, spec.index)
+            if fc is not None and len(fc.keyframe_points) and not _is_ours(fc):
+                out.append((spec.data_path, spec.index))
+                break
     return out
 
 
@@ -145,7 +182,7 @@ def clear(obj, capability):
             if rec["capability"] != capability:
                 kept.append(rec)
                 continue
-            fc = compat.find_fcurve(bpy.data.actions.get(rec["action"]), obj, rec["path"], rec["index"])
+            fc = compat.find_fcurve(find_action(rec["action"]), obj, rec["path"], rec["index"])
             if fc is not None:
                 restore_keys(fc, rec["keys"])
         state["replaced"] = kept
@@ -175,6 +212,7 @@ def _remove_layer(obj, capability, state):
 
 def _tidy(obj, state):
     """Remove the action and animation data this add-on created, once they hold nothing."""
+    _return_linked(obj, state)
     ad = obj.animation_data
     made = state.get("created_action")
     if made and not state.get("pushed"):
@@ -203,7 +241,54 @@ def _target_action(obj, state):
         action = bpy.data.actions.new(f"{obj.name}Action")
         compat.assign_action(obj, action)
         state["created_action"] = action.name
+    elif linked_actions.is_linked(action):
+        action = _adopt_local_copy(obj, action, state)
     return action
+
+
+def _swap_action(obj, old, new, state):
+    """Let ``new`` play wherever ``old`` played for the animator: active, or pushed into USER_TRACK."""
+    ad = obj.animation_data
+    if ad.action == old:
+        compat.assign_action(obj, new, compat.active_slot_handle(obj))
+    track = ad.nla_tracks.get(USER_TRACK)
+    for strip in (track.strips if track is not None else ()):
+        if strip.action == old:
+            compat.set_strip_action(strip, new)
+    pushed = state.get("pushed")
+    if pushed and find_action(pushed["action"]) == old:
+        pushed["action"] = action_ref(new)
+
+
+def _adopt_local_copy(obj, linked, state):
+    """A local copy of a linked action, playing in its place, to take the keys (see the module notes)."""
+    copy = linked_actions.local_copy(linked)
+    _swap_action(obj, linked, copy, state)
+    state["adopted"] = {"original": action_ref(linked), "copy": action_ref(copy)}
+    return copy
+
+
+def _return_linked(obj, state):
+    """Play the linked action again once its local copy holds nothing of ours, and delete the copy."""
+    adopted = state.get("adopted")
+    if not adopted:
+        return
+    copy = find_action(adopted["copy"])
+    linked = linked_actions.original_of(copy, adopted["original"])
+    if copy is not None and linked is not None:
+        if any(_is_ours(fc) for fc in compat.fcurves(copy, obj)) or any(
+                r["action"] == adopted["copy"] for r in state["replaced"]):
+            return  # another capability still has keys in the copy
+        if not linked_actions.same_keys(obj, copy, linked):
+            linked_actions.release(copy)  # the animator keyed the copy: it is their action now
+            state.pop("adopted")
+            return
+        _swap_action(obj, copy, linked, state)
+        if copy.users == 0:
+            bpy.data.actions.remove(copy)
+        else:
+            linked_actions.release(copy)
+    state.pop("adopted")
 
 
 def write_into_action(obj, capability, specs, replace):
@@ -222,7 +307,7 @@ def write_into_action(obj, capability, specs, replace):
             if not replace and len(fc.keyframe_points):
                 raise RuntimeError(f"{spec.data_path}[{spec.index}] has the animator's keys")
             keys = {k: v.tolist() for k, v in read_keys(fc).items()}
-            state["replaced"].append({"capability": capability, "action": action.name, "path": spec.data_path,
+            state["replaced"].append({"capability": capability, "action": action_ref(action), "path": spec.data_path,
                                       "index": spec.index, "keys": keys})
         elif fc is None:
             fc = compat.new_fcurve(action, obj, spec.data_path, spec.index, group_name(capability))
@@ -237,7 +322,7 @@ def _push_user_action(obj, state):
     action = ad.action
     if action is None or state.get("pushed"):
         return
-    state["pushed"] = {"action": action.name, "slot": compat.active_slot_handle(obj),
+    state["pushed"] = {"action": action_ref(action), "slot": compat.active_slot_handle(obj),
                        "blend": ad.action_blend_type, "influence": ad.action_influence,
                        "extrapolation": ad.action_extrapolation}
     track = ad.nla_tracks.new()
@@ -258,7 +343,7 @@ def _pop_user_action(obj, state):
     track = ad.nla_tracks.get(USER_TRACK)
     if track is not None:
         ad.nla_tracks.remove(track)
-    action = bpy.data.actions.get(pushed["action"])
+    action = find_action(pushed["action"])
     compat.assign_action(obj, action, pushed["slot"])
     ad.action_blend_type = pushed["blend"]
     ad.action_influence = pushed["influence"]

@@ -85,15 +85,25 @@ def chosen_rig(context):
 
 
 def linked_library_problem(rig):
-    """Why keys cannot go on a rig linked from another file, or None for a local rig.
+    """Why leapwright cannot write on a rig from another file, or None for a local rig.
 
     Blender keeps linked data read-only on disk: keys written into a linked rig
-    in memory are lost when the file is saved.
+    in memory are lost when the file is saved. A library override saves only
+    its changes to what the library already holds: the properties leapwright
+    adds to the rig (the record that lets removal take its work back, the
+    apparent weight) are gone after reloading, so an override is refused too.
+    Making the rig local keeps everything.
     """
-    if rig is None or rig.library is None:
+    if rig is None:
         return None
-    return (f"'{rig.name}' is linked from '{rig.library.filepath}', so keys written on it would be lost on "
-            "save; make a library override (Object > Library Override > Make) and run again")
+    fix = "make it local (Object > Relations > Make Local) and run again"
+    if rig.library is not None:
+        return (f"'{rig.name}' is linked from '{rig.library.filepath}', so keys written on it would be lost on "
+                f"save; {fix}")
+    if rig.override_library is not None:
+        return (f"'{rig.name}' is a library override: Blender does not save new properties on an override, so "
+                f"what leapwright writes could not be taken back after reloading the file; {fix}")
+    return None
 
 
 def resolve(rig, body_bone, feet):

@@ -1,5 +1,6 @@
 """Read a file's animation back: byte-exact snapshots and evaluated world positions."""
 
+import os
 import sys
 
 import bpy
@@ -130,6 +131,12 @@ def _all_fcurve_sets(action):
     return out
 
 
+def library_path(idblock):
+    """The absolute library file of a linked ID, or None (saving makes library paths relative)."""
+    lib = idblock.library
+    return None if lib is None else os.path.normpath(bpy.path.abspath(lib.filepath, library=lib.parent))
+
+
 def _action_record(action):
     sets = []
     for label, fcs, grps in _all_fcurve_sets(action):
@@ -138,7 +145,7 @@ def _action_record(action):
     slots = ()
     if addon().blender_compat.LAYERED:
         slots = tuple((s.handle, s.identifier) for s in action.slots)
-    return (action.name, action.library.filepath if action.library else None, action.use_fake_user,
+    return (action.name, library_path(action), action.use_fake_user,
             _props(action), slots, tuple(sets))
 
 
@@ -170,7 +177,7 @@ def file_state():
     """
     compat = addon().blender_compat
     objects = []
-    for obj in sorted(bpy.data.objects, key=lambda o: (o.name, o.library.filepath if o.library else "")):
+    for obj in sorted(bpy.data.objects, key=lambda o: (o.name, library_path(o) or "")):
         ad = obj.animation_data
         anim = None
         if ad is not None:
@@ -179,7 +186,7 @@ def file_state():
             anim = (ad.action.name if ad.action else None, compat.active_slot_handle(obj), ad.action_blend_type,
                     ad.action_influence, ad.action_extrapolation, ad.use_tweak_mode, tracks,
                     len(ad.drivers))
-        objects.append((obj.name, obj.library.filepath if obj.library else None, obj.mode if obj.library is None
+        objects.append((obj.name, library_path(obj), obj.mode if obj.library is None
                         else None, _props(obj), anim, tuple(obj.location), tuple(obj.rotation_euler),
                         tuple(obj.scale), _pose_record(obj)))
     armatures = tuple((a.name, _props(a), tuple((b.name, _props(b)) for b in a.bones))
@@ -230,3 +237,111 @@ def first_difference(a, b, path="state"):
     sa, sb = str(a), str(b)
     i = next((k for k, (x, y) in enumerate(zip(sa, sb)) if x != y), min(len(sa), len(sb)))
     return f"{path} at char {i}: ...{sa[max(0, i - 120):i + 80]} != ...{sb[max(0, i - 120):i + 80]}"
+
+
+# --- Bad input: a clear refusal and nothing changed; unusual input: the planned jump ---------------
+
+
+def refused(match, run=None):
+    """Run the write (or ``run``), expect an ERROR naming the problem, and the file unchanged.
+
+    A refusal reaches Python as the RuntimeError ``bpy.ops`` raises with the
+    operator's ERROR report; :func:`file_state` before and after must be equal.
+    """
+    import pytest
+
+    run = run or (lambda: run_write(bpy.context.scene.leapwright.rig))
+    before = file_state()
+    with pytest.raises(RuntimeError, match=match):
+        run()
+    assert file_state() == before, first_difference(file_state(), before)
+
+
+def scene_plan():
+    """The plan the panel's settings give for the current scene."""
+    return addon().plan_link.plan_for(bpy.context.scene)[0]
+
+
+def flight_error(rig, bone="hips"):
+    """Largest gap [m] between Blender's evaluated rise and the plan's, across the first flight.
+
+    Frames come from the scene's true rate (fps / fps_base); in flight the
+    spline keys are exact (Hermite through a parabola), so what is left is
+    float32 key rounding, far below the 2e-4 m :func:`works` allows.
+    """
+    scene = bpy.context.scene
+    plan = scene_plan()
+    m = scene.unit_settings.scale_length
+    fps = scene.render.fps / scene.render.fps_base
+    start = float(scene.leapwright.start_frame)
+    hop = plan.hops[0]
+    t = np.linspace(hop.takeoff_time_s, hop.touchdown_time_s, 9)
+    rest = world_head(rig, bone, start)[2]
+    got = np.array([(world_head(rig, bone, start + ti * fps)[2] - rest) * m for ti in t])
+    want = plan.height(t) - plan.height(0.0)
+    return float(np.max(np.abs(got - want)))
+
+
+def apex_rise_m(plan):
+    """Apex rise above take-off [m] from the take-off speed: v0^2 / (2 g) (projectile motion)."""
+    hop = plan.hops[0]
+    return hop.takeoff_speed_m_s ** 2 / (2.0 * plan.gravity)
+
+
+def works(rig, height=0.4, **props):
+    """The write succeeds, the plan reaches ``height`` [m] and Blender plays the planned flight."""
+    assert run_write(rig, **props) == {"FINISHED"}
+    # Panel values are float32: the goal comes back to ~1e-7 of itself.
+    assert abs(apex_rise_m(scene_plan()) - height) < 1e-6 * height
+    assert flight_error(rig) < 2e-4
+
+
+# --- A stand-in for the panel layout ---------------------------------------------------------------
+
+
+class PanelLayout:
+    """Stands in for bpy.types.UILayout (headless Blender draws no panels): records, checks names.
+
+    Every label, property and operator is logged as ``(kind, text or name)``,
+    or ``(kind, text, icon)`` with ``icons``; property names are checked
+    against the data's RNA (or its custom properties for ``'["name"]'``) and
+    operators against ``bpy.ops``, which is what a real layout rejects.
+    """
+
+    def __init__(self, log, icons=False):
+        self.log, self.icons = log, icons
+        self.use_property_split = self.use_property_decorate = self.alert = False
+        self.enabled = self.active = True
+        self.scale_y = 1.0
+
+    def _child(self, *args, **kw):
+        return PanelLayout(self.log, self.icons)
+
+    box = column = row = split = _child
+
+    def _record(self, kind, text, icon=None):
+        self.log.append((kind, text, icon) if self.icons else (kind, text))
+
+    def label(self, text="", icon="NONE"):
+        self._record("label", text, icon)
+
+    def prop(self, data, name, **kw):
+        assert (name[2:-2] in data) if name.startswith('["') else (name in data.bl_rna.properties), name
+        self._record("prop", name)
+
+    def prop_search(self, data, name, search_data, search_name, **kw):
+        assert name in data.bl_rna.properties and search_name in search_data.bl_rna.properties
+        self._record("prop", name)
+
+    def operator(self, idname, **kw):
+        module, name = idname.split(".")
+        assert name in dir(getattr(bpy.ops, module)), idname
+        self._record("operator", idname)
+
+
+def draw_panel(panel_name, icons=False):
+    """The log of :class:`PanelLayout` after the registered panel ``panel_name`` draws."""
+    log = []
+    holder = type("PanelStandIn", (), {"layout": PanelLayout(log, icons)})()
+    getattr(bpy.types, panel_name).draw(holder, bpy.context)
+    return log
