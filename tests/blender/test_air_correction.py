@@ -22,7 +22,7 @@ import numpy as np
 import pytest
 from mathutils import Quaternion
 
-from scene_probe import MODULE, addon, key_count, snapshot
+from scene_probe import MODULE, addon, draw_panel, key_count, snapshot
 
 sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "..", "blend_examples"))
 import mannequin  # noqa: E402  (the demo's own rig, not edited here)
@@ -295,43 +295,10 @@ def test_flights_found_from_free_fall_without_markers():
     assert _ballistic_residual(after, scene.render.fps / scene.render.fps_base) < 1e-3
 
 
-class _Layout:
-    """Stands in for bpy.types.UILayout headless: records labels, checks every property and operator."""
-
-    def __init__(self, log):
-        self.log, self.use_property_split, self.use_property_decorate, self.scale_y = log, False, False, 1.0
-
-    def _child(self, *args, **kw):
-        return _Layout(self.log)
-
-    box = column = row = _child
-
-    def label(self, text="", icon="NONE"):
-        self.log.append(("label", text))
-
-    def prop(self, data, name, **kw):
-        assert (name[2:-2] in data) if name.startswith('["') else (name in data.bl_rna.properties), name
-        self.log.append(("prop", name))
-
-    def prop_search(self, data, name, search_data, search_name, **kw):
-        assert name in data.bl_rna.properties and search_name in search_data.bl_rna.properties
-        self.log.append(("prop", name))
-
-    def operator(self, idname, **kw):
-        assert idname.split(".")[1] in dir(bpy.ops.leapwright), idname
-        self.log.append(("operator", idname))
-
-
-def _panel_log():
-    log = []
-    bpy.types.LEAPWRIGHT_PT_air.draw(type("Stand", (), {"layout": _Layout(log)})(), bpy.context)
-    return log
-
-
 def test_panel_shows_the_map_the_buttons_and_the_warning_with_frames_and_torso_drop():
     assert bpy.types.LEAPWRIGHT_PT_air.bl_parent_id == "LEAPWRIGHT_PT_jump"
     rig, scene = _jump()
-    log = _panel_log()
+    log = draw_panel("LEAPWRIGHT_PT_air")
     labels = " | ".join(t for k, t in log if k == "label")
     assert "14 segments, found from the bone tree" in labels
     assert "shoulder.L: upper_arm.L@head" in labels
@@ -339,10 +306,10 @@ def test_panel_shows_the_map_the_buttons_and_the_warning_with_frames_and_torso_d
             ("operator", "leapwright.edit_body_map")} <= set(log)
     bpy.context.view_layer.objects.active = rig
     assert bpy.ops.leapwright.check_body_arc() == {"FINISHED"}
-    labels = " ".join(t for k, t in _panel_log() if k == "label")
+    labels = " ".join(t for k, t in draw_panel("LEAPWRIGHT_PT_air") if k == "label")
     assert "torso must move -" in labels and "Frames " in labels
     assert bpy.ops.leapwright.edit_body_map() == {"FINISHED"}
-    assert ("prop", '["lw_body_map"]') in _panel_log()
+    assert ("prop", '["lw_body_map"]') in draw_panel("LEAPWRIGHT_PT_air")
 
 
 def test_easing_out_is_refused_when_it_would_slide_the_planted_feet():

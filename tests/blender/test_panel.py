@@ -1,7 +1,7 @@
 """The sidebar panel: every control names a real setting, and the readout follows the values.
 
 Headless Blender has no window to draw in, so the panel's ``draw`` runs
-against a recorder standing in for ``UILayout`` that checks each property name
+against :class:`scene_probe.PanelLayout`, standing in for ``UILayout``, which checks each property name
 against the settings' RNA (what a real layout would reject).
 References: projectile motion, flight time T = 2 sqrt(2 h / g) for a jump that
 lands at take-off height (physics law).
@@ -11,52 +11,13 @@ import bpy
 import pytest
 
 from rig_builder import add_user_keys, build_rig, configure
-from scene_probe import addon, snapshot
-
-
-
-class Recorder:
-    """Stands in for bpy.types.UILayout; records labels, checks property names."""
-
-    def __init__(self, log):
-        self.log = log
-        self.use_property_split = self.use_property_decorate = self.enabled = False
-        self.scale_y = 1.0
-
-    def _child(self, *args, **kw):
-        return Recorder(self.log)
-
-    box = column = row = split = _child
-
-    def label(self, text="", icon="NONE"):
-        self.log.append(("label", text))
-
-    def prop(self, data, name, **kw):
-        assert name in data.bl_rna.properties, name
-        self.log.append(("prop", name))
-
-    def prop_search(self, data, name, search_data, search_name, **kw):
-        assert name in data.bl_rna.properties and search_name in search_data.bl_rna.properties
-        self.log.append(("prop", name))
-
-    def operator(self, idname, **kw):
-        module, name = idname.split(".")
-        assert name in dir(getattr(bpy.ops, module)), idname
-        self.log.append(("operator", idname))
-
-
-def _draw():
-    log = []
-    panel = bpy.types.LEAPWRIGHT_PT_jump
-    holder = type("PanelStandIn", (), {"layout": Recorder(log)})()
-    panel.draw(holder, bpy.context)
-    return log
+from scene_probe import addon, draw_panel, snapshot
 
 
 def test_panel_draws_goals_timing_character_keys_and_readout():
     rig = build_rig()
     configure(rig, height=0.5)
-    log = _draw()
+    log = draw_panel("LEAPWRIGHT_PT_jump")
     props = {n for kind, n in log if kind == "prop"}
     assert {"goal", "height", "distance", "rig", "com_bone", "foot_left", "foot_right", "key_style",
             "start_frame", "dip_duration", "push_duration"} <= props
@@ -90,7 +51,7 @@ def test_readout_shows_the_cores_refusal_in_its_own_words():
     s.height, s.landing_height = 0.2, 0.5
     plan, readout = addon().plan_link.plan_for(bpy.context.scene)
     assert plan is None and "0.5" in readout["error"]
-    labels = [t for kind, t in _draw() if kind == "label"]
+    labels = [t for kind, t in draw_panel("LEAPWRIGHT_PT_jump") if kind == "label"]
     assert any("apex" in t or "ledge" in t for t in labels)
 
 
