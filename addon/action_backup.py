@@ -35,7 +35,7 @@ def keep(obj, capability, action, paths):
     """
     state = ownership.load_state(obj)
     record = next((r for r in backups(state, capability) if r["action"] == action.name), None)
-    if record is None or bpy.data.actions.get(record["copy"]) is None:
+    if record is None or bpy.data.actions.get((record["copy"], None)) is None:
         copy = action.copy()
         copy.name = NAME_PREFIX + action.name
         copy.use_fake_user = True
@@ -55,7 +55,8 @@ def restore(obj, capability, state):
         if rec["capability"] != capability:
             kept.append(rec)
             continue
-        action, copy = bpy.data.actions.get(rec["action"]), bpy.data.actions.get(rec["copy"])
+        # (name, None): the local datablock of that name, never a linked one that shares it.
+        action, copy = bpy.data.actions.get((rec["action"], None)), bpy.data.actions.get((rec["copy"], None))
         if action is not None and copy is not None:
             for path, index in rec["curves"]:
                 src = compat.find_fcurve(copy, obj, path, index)

@@ -208,6 +208,9 @@ def prepare_retime(scene, rig, settings):
     if rig.animation_data is not None and rig.animation_data.use_tweak_mode:
         raise SwingError(f"'{rig.name}' is in NLA tweak mode; leave it (Tab in the NLA editor) and run again")
     action, curves = user_curves(rig, arms)
+    if action is not None and action.library is not None:
+        raise SwingError(f"the action '{action.name}' is linked from '{action.library.filepath}', so re-timed keys "
+                         "would be lost on save; make it local (Object > Relations > Make Local) and run again")
     if not curves:
         names = ", ".join(b for a in arms for b in a.bones)
         raise SwingError(f"no keys of yours on {names} in '{rig.name}''s action: key the arm swing first "

@@ -132,3 +132,24 @@ def test_a_swing_wholly_in_the_air_is_called_outside_contact_and_retimed_into_th
     assert abs(_peak(frames, elev) - takeoff) <= 1.0
     before = frames <= takeoff
     assert push - 1.0 <= float(frames[before][np.argmin(elev[before])]) < takeoff
+
+
+def test_retiming_a_linked_action_is_refused_and_changes_nothing(tmp_path):
+    # Blender does not save edits of linked data: re-timed keys would vanish on save (common practice:
+    # linked data is read-only, the user makes it local first).
+    rig, scene = _jump()
+    _late_swing(rig, scene)
+    mine = rig.animation_data.action
+    library = str(tmp_path / "arm_library.blend")
+    bpy.data.libraries.write(library, {mine}, fake_user=True)
+    with bpy.data.libraries.load(library, link=True) as (src, dst):
+        dst.actions = [mine.name]
+    linked = next(a for a in bpy.data.actions if a.library is not None)
+    addon().blender_compat.assign_action(rig, linked)
+    s = scene.leapwright_swing
+    s.upper_arm_left, s.upper_arm_right = ARMS
+    bpy.context.view_layer.objects.active = rig
+    before = file_state()
+    with pytest.raises(RuntimeError, match="is linked from"):
+        bpy.ops.leapwright.retime_arm_swing()
+    assert file_state() == before, first_difference(file_state(), before)
