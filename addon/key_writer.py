@@ -36,15 +36,16 @@ def handle_positions(frames, values, slopes):
     f = np.asarray(frames, dtype=float)
     v = np.asarray(values, dtype=float)
     s = np.asarray(slopes, dtype=float)
-    if f.size == 1:
-        gaps = np.ones(1)
-        prev_gap = next_gap = gaps
-    else:
-        gaps = np.diff(f)
-        prev_gap = np.concatenate([gaps[:1], gaps])
-        next_gap = np.concatenate([gaps, gaps[-1:]])
-    left = np.column_stack([f - prev_gap / 3.0, v - s * prev_gap / 3.0])
-    right = np.column_stack([f + next_gap / 3.0, v + s * next_gap / 3.0])
+    gaps = np.diff(f) if f.size > 1 else np.ones(1)
+    prev_gap = np.empty(f.size)
+    prev_gap[0], prev_gap[1:] = gaps[0], gaps
+    next_gap = np.empty(f.size)
+    next_gap[-1], next_gap[:-1] = gaps[-1], gaps
+    prev_gap /= 3.0
+    next_gap /= 3.0
+    left, right = np.empty((f.size, 2)), np.empty((f.size, 2))
+    left[:, 0], left[:, 1] = f - prev_gap, v - s * prev_gap
+    right[:, 0], right[:, 1] = f + next_gap, v + s * next_gap
     return left, right
 
 
@@ -66,13 +67,10 @@ def write_curve(fcurve, frames, values, slopes=None, interpolation="BEZIER"):
     f = np.asarray(frames, dtype=float)
     v = np.asarray(values, dtype=float)
     n = f.size
-    if slopes is None:
-        slopes = np.zeros(n)
-    left, right = handle_positions(f, v, slopes)
     # (frame, value) pairs and both handles in one float32 block: three views, one cast
     block = np.empty((3, n, 2), dtype=np.float32)
     block[0, :, 0], block[0, :, 1] = f, v
-    block[1], block[2] = left, right
+    block[1], block[2] = handle_positions(f, v, np.zeros(n) if slopes is None else slopes)
     codes = np.empty((3, n), dtype=np.int32)
     codes[0] = INTERPOLATION[interpolation]
     codes[1:] = _FREE

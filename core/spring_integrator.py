@@ -243,14 +243,14 @@ def _chain_maps(phi, beta, k, c, mu, h, slots):
     mo[:, :, pos, :, pos, :] = phi.reshape(steps, trees, n, 2, 2).transpose(2, 0, 1, 3, 4)
     shape = (steps, trees, 2 * n, 2 * n)
     e1 = e1.reshape(shape)
-    inv = np.broadcast_to(np.eye(2 * n), shape).copy()
-    term = inv
-    for _ in range(slots.depth):
-        term = term @ e1
-        inv += term
     push = np.zeros((steps, trees, n, 2, 3, n))
     push[:, :, pos, :, :, pos] = beta.reshape(steps, trees, n, 3, 2).transpose(2, 0, 1, 4, 3)
-    return inv @ (mo + e0).reshape(shape), inv @ push.reshape(steps, trees, 2 * n, 3 * n)
+    # (I - E1) X = [Phi + E0 | push] by forward substitution: E1 reaches one level down
+    rhs = np.concatenate([(mo + e0).reshape(shape), push.reshape(steps, trees, 2 * n, 3 * n)], axis=-1)
+    x = rhs
+    for _ in range(slots.depth):
+        x = rhs + e1 @ x
+    return x[..., :2 * n], x[..., 2 * n:]
 
 
 def _compose_pairs(m, levels):
