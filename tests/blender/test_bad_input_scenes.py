@@ -124,20 +124,43 @@ def test_user_nla_stack_with_strip_offsets_is_kept():
     assert file_state() == before, first_difference(file_state(), before)
 
 
-def test_keys_in_a_user_nla_strip_only_are_not_overridden_silently(capfd):
+def _keys_in_a_strip_only(muted=False):
+    """A rig whose body keys live only in an NLA strip of the animator's (no active action)."""
     rig = build_rig()
     add_user_keys(rig)
     ad = rig.animation_data
     compat = addon().blender_compat
     track = ad.nla_tracks.new()
+    track.name = "my take"
     compat.new_nla_strip(rig, track, "take 1", 1, ad.action, compat.active_slot_handle(rig))
+    track.mute = muted
     ad.action = None
     configure(rig, height=0.4)
+    return rig
+
+
+@pytest.mark.parametrize("muted", [False, True])
+def test_keys_in_a_user_nla_strip_only_are_not_overridden_silently(capfd, muted):
+    rig = _keys_in_a_strip_only(muted)
     before = file_state()
     capfd.readouterr()
     assert run_write(rig, on_conflict="ASK") == {"CANCELLED"}
     out = capfd.readouterr()
     assert any(lvl == "WARNING" and "hips" in msg for lvl, msg in reports(out.out + out.err))
+    assert file_state() == before, first_difference(file_state(), before)
+
+
+@pytest.mark.parametrize("mode", ["REPLACE", "LAYER"])
+def test_keys_in_a_user_nla_strip_only_replaced_or_layered_then_removed(mode):
+    rig = _keys_in_a_strip_only()
+    before = file_state()
+    take = [t for t in before["objects"][0][4][6] if t[0] == "my take"]
+    assert run_write(rig, on_conflict=mode) == {"FINISHED"}
+    assert [t for t in file_state()["objects"][0][4][6] if t[0] == "my take"] == take
+    if mode == "REPLACE":  # the active action plays over the strip (REPLACE blend, influence 1)
+        assert flight_error(rig) < 2e-4
+    bpy.context.scene.frame_set(1)  # where `before` was taken
+    assert run_remove(rig) == {"FINISHED"}
     assert file_state() == before, first_difference(file_state(), before)
 
 
