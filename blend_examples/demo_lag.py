@@ -8,8 +8,9 @@ readout (largest swing per bone). Run as a script::
     .venv/bin/python blend_examples/demo_lag.py --strip blend_examples/out/jump_demo.blend --out docs
 
 renders ``follow_through_strip.png`` from a saved demo file (Cycles on the CPU,
-small and few samples): the moments around the flight with the baked layer,
-and the same moments with it muted, one row each. ``--probe FILE.blend`` prints
+small and few samples, close-ups cropped around the mannequin): the moments
+around the flight with the baked layer, and the same moments with it muted, one
+row each. ``--probe FILE.blend`` prints
 ``LAG {json}``: the ponytail tip's and a skirt flap's angle from straight down
 per frame, with the layer and with it muted, the phase markers and the preset's
 sag (for tests/blender_demo). Blender is imported inside the functions:
@@ -36,7 +37,7 @@ STATE_PROPERTY = "lw_state"
 #: The bones that trail, as the mannequin names them: the ponytail, then each skirt flap.
 SKIRT_FLAPS = ("front", "back", "left", "right")
 #: Size of each rendered moment in the strip [px].
-TILE = (240, 270)
+TILE = (200, 225)
 
 
 def lag_bones():
@@ -121,37 +122,59 @@ def probe(blend):
 
 
 def strip_moments(marks):
-    """(frame, label) of the strip: standing, take-off, in the air, touchdown and just after."""
+    """(frame, label) of the strip: crouch, take-off, in the air, touchdown and just after."""
     up, down = marks["flight"], marks["landing"]
     return [(marks["propulsion"] - 2, "crouch"), (up, "take-off"), ((up + down) // 2, "in the air"),
-            (down - 1, "touching down"), (down + 2, "landed +2 fr")]
+            (down - 1, "touch-down"), (down + 2, "landed +2")]
 
 
-def render_strip(blend, out_dir, samples=12):
-    """Render the moments with the layer, then muted, and lay them out in two rows."""
+def _render_close_up(scene, rig, frame, path, zoom):
+    """Render ``frame`` cropped to a box ``1/zoom`` of the picture around the mannequin."""
+    import bpy
+    from bpy_extras.object_utils import world_to_camera_view
+
+    scene.frame_set(frame)
+    middle = (rig.matrix_world @ rig.pose.bones["hips"].head + rig.matrix_world @ rig.pose.bones["head"].head) / 2
+    at = world_to_camera_view(scene, scene.camera, middle)
+    half = 0.5 / zoom
+    x0 = min(max(at.x - half, 0.0), 1.0 - 2 * half)
+    y0 = min(max(at.y - half, 0.0), 1.0 - 2 * half)
+    r = scene.render
+    r.use_border, r.use_crop_to_border = True, True
+    r.border_min_x, r.border_max_x, r.border_min_y, r.border_max_y = x0, x0 + 2 * half, y0, y0 + 2 * half
+    r.filepath = path
+    bpy.ops.render.render(write_still=True)
+    return path
+
+
+def render_strip(blend, out_dir, samples=16, zoom=1.6):
+    """Render close-ups of the moments with the layer, then with it muted: two rows."""
     import bpy
 
     sys.path.insert(0, HERE)
     import demo_pictures as pics
 
     scene, rig, track = _open(blend)
-    scene.render.resolution_x, scene.render.resolution_y = TILE
+    pics.render_moments(scene, [], "", samples=samples)  # the strip's Cycles settings
+    scene.render.resolution_x, scene.render.resolution_y = (round(v * zoom) for v in TILE)
     scene.render.resolution_percentage = 100
     moments = strip_moments(_markers(scene))
     frames_dir = tempfile.mkdtemp(prefix="lw-lag-strip-")
-    rows = []
-    for muted, tag in ((False, "baked"), (True, "without")):
+    paths, labels = [], []
+    for muted in (False, True):
         if muted:
             _without_layer(rig, track)
-        shots = pics.render_moments(scene, moments, frames_dir, samples=samples)
-        for k, path in enumerate(shots):
-            os.replace(path, os.path.join(frames_dir, f"{tag}_{k}.png"))
-        rows.append([(f, f"{label}{' (no layer)' if muted else ''}") for f, label in moments])
-    paths = [os.path.join(frames_dir, f"{tag}_{k}.png") for tag in ("baked", "without")
-             for k in range(len(moments))]
+        for k, (frame, label) in enumerate(moments):
+            paths.append(_render_close_up(scene, rig, frame, os.path.join(frames_dir, f"{int(muted)}_{k}.png"),
+                                          zoom))
+            labels.append((frame, "no layer" if muted else label))
     os.makedirs(out_dir, exist_ok=True)
-    out = pics.compose_strip(paths, rows[0] + rows[1], os.path.join(out_dir, "follow_through_strip.png"),
-                             TILE, columns=len(moments))
+    out = pics.compose_strip(paths, labels, os.path.join(out_dir, "follow_through_strip.png"), TILE,
+                             columns=len(moments))
+    from PIL import Image  # matplotlib's own dependency
+
+    # a 256-colour palette keeps the README picture small (the renders are smooth shades)
+    Image.open(out).convert("RGB").quantize(256).save(out, optimize=True)
     bpy.ops.wm.read_factory_settings(use_empty=True)
     return out
 

@@ -198,12 +198,16 @@ def test_strip_moments_follow_the_jump(outputs):
 @pytest.fixture(scope="module")
 def swing_probe(outputs):
     """The demo file's evaluated shoulders and wrists, read by Blender in a fresh process."""
-    cmd = [sys.executable, os.path.join(REPO, "blend_examples", "demo_swing.py"), "--probe",
-           outputs["jump_demo.blend"]]
+    return _script_probe("demo_swing.py", "SWING", outputs["jump_demo.blend"])
+
+
+def _script_probe(script, tag, blend):
+    """Run ``blend_examples/<script> --probe BLEND`` and return the JSON it prints after ``tag``."""
+    cmd = [sys.executable, os.path.join(REPO, "blend_examples", script), "--probe", blend]
     res = subprocess.run(cmd, capture_output=True, text=True)
-    line = next((ln for ln in res.stdout.splitlines() if ln.startswith("SWING ")), None)
-    assert res.returncode == 0 and line is not None, f"the swing probe failed:\n{res.stderr[-3000:]}"
-    return json.loads(line[len("SWING "):])
+    line = next((ln for ln in res.stdout.splitlines() if ln.startswith(tag + " ")), None)
+    assert res.returncode == 0 and line is not None, f"the {script} probe failed:\n{res.stderr[-3000:]}"
+    return json.loads(line[len(tag) + 1:])
 
 
 def test_arm_swing_peaks_at_takeoff_and_rises_in_the_push(swing_probe):
@@ -226,12 +230,7 @@ def test_arm_swing_peaks_at_takeoff_and_rises_in_the_push(swing_probe):
 @pytest.fixture(scope="module")
 def lag_probe(outputs):
     """The demo file's ponytail tip and skirt hem, with the follow-through layer and without it."""
-    cmd = [sys.executable, os.path.join(REPO, "blend_examples", "demo_lag.py"), "--probe",
-           outputs["jump_demo.blend"]]
-    res = subprocess.run(cmd, capture_output=True, text=True)
-    line = next((ln for ln in res.stdout.splitlines() if ln.startswith("LAG ")), None)
-    assert res.returncode == 0 and line is not None, f"the follow-through probe failed:\n{res.stderr[-3000:]}"
-    return json.loads(line[len("LAG "):])
+    return _script_probe("demo_lag.py", "LAG", outputs["jump_demo.blend"])
 
 
 @pytest.mark.parametrize("bone, droop_within", [(0, 0.1), (1, 0.2)])
