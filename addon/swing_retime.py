@@ -5,23 +5,25 @@ Flow: sample the chosen arms' world matrices once per frame in scene time
 torso's sagittal frame (the rest facing of :func:`swing_keys.rest_facing` carried by
 the upper arm's parent bone), find the contact window (the ``lw:`` markers, the body
 bone's free fall or the foot heights), let :mod:`core.swing_timing` detect the swing
-and warp every key time of the arm bones' own curves. Values stay as they were; only
-times and handle times move. Nothing here writes: :func:`write` does, after
-:mod:`action_backup` has kept the original action.
+and warp every key time of the arm bones' own curves, wherever they play: the active
+action, or an NLA strip whose offset, scale and repeat :mod:`swing_strip_time` maps
+back to the action's frames. Values stay as they were; only times and handle times
+move. Nothing here writes: :func:`write` does, after :mod:`action_backup` has kept
+the original action.
 """
 
 from dataclasses import dataclass
 
 import numpy as np
 
-from . import action_backup, blender_compat as compat, blocking_pass as bp, ownership, plan_link, rig_sampling
+from . import action_backup, blocking_pass as bp, plan_link, rig_sampling, swing_strip_time
 from .core.arm_swing import arm_com_distance
 from .core.errors import LeapwrightError
 from .core.keys import BezierKeys
 from .core.swing_timing import (ContactWindow, detect_swing, elevation_angles, retime_swing, swing_warnings,
                                 window_from_com, window_from_feet, window_from_plan)
 from .key_writer import read_keys, restore_keys
-from .swing_keys import SwingError, bone_path, chosen_arms, rest_facing
+from .swing_keys import SwingError, chosen_arms, rest_facing
 
 CAPABILITY = "swing_timing"
 #: Markers the checker adds for what it measured; not the plan's phases.
@@ -128,13 +130,17 @@ def contact_window(scene, rig, contact_from, hop, frames, fps):
     raise SwingError("no contact window found: " + "; ".join(reasons))
 
 
-def bezier_of(fc, fps):
-    """An F-curve's keys as :class:`core.keys.BezierKeys` in seconds (frame / fps)."""
+def bezier_of(fc, fps, timing=swing_strip_time.SCENE_TIME):
+    """An F-curve's keys as :class:`core.keys.BezierKeys` in scene seconds (scene frame / fps).
+
+    ``timing`` maps the curve's action frames to scene frames (an NLA strip's offset and scale).
+    """
     k = read_keys(fc)
     co = k["co"].reshape(-1, 2).astype(float)
-    scale = np.array([1.0 / fps, 1.0])
-    return BezierKeys(co[:, 0] / fps, co[:, 1], k["handle_left"].reshape(-1, 2) * scale,
-                      k["handle_right"].reshape(-1, 2) * scale)
+    left, right = k["handle_left"].reshape(-1, 2).astype(float), k["handle_right"].reshape(-1, 2).astype(float)
+    for a in (co, left, right):
+        a[:, 0] = timing.to_scene(a[:, 0]) / fps
+    return BezierKeys(co[:, 0], co[:, 1], left, right)
 
 
 @dataclass(frozen=True, eq=False)
@@ -182,15 +188,6 @@ def read_swing(scene, rig, settings):
     return SwingReading(rig, arms, frames, fps, elevation, swing, window, source, warnings)
 
 
-def user_curves(rig, arms):
-    """The animator's F-curves (not leapwright's) on the arms' bones that hold at least two keys."""
-    action = ownership.user_action(rig)
-    prefixes = tuple(bone_path(b) + "." for a in arms for b in a.bones)
-    return action, [fc for fc in compat.fcurves(action, rig) if fc.data_path.startswith(prefixes)
-                    and not (fc.group is not None and fc.group.name.startswith(ownership.PREFIX))
-                    and len(fc.keyframe_points) >= 2]
-
-
 @dataclass(frozen=True, eq=False)
 class RetimeWork:
     """What the re-timing writes: the curves and their new keys (seconds), and the report."""
@@ -200,6 +197,7 @@ class RetimeWork:
     curves: list
     new_keys: tuple
     report: object
+    timing: object = swing_strip_time.SCENE_TIME
 
 
 def prepare_retime(scene, rig, settings):
@@ -207,35 +205,46 @@ def prepare_retime(scene, rig, settings):
     arms = chosen_arms(rig, settings)
     if rig.animation_data is not None and rig.animation_data.use_tweak_mode:
         raise SwingError(f"'{rig.name}' is in NLA tweak mode; leave it (Tab in the NLA editor) and run again")
-    action, curves = user_curves(rig, arms)
-    if action is not None and action.library is not None:
+    sources = swing_strip_time.key_sources(rig, arms)
+    if not sources:
+        names = ", ".join(b for a in arms for b in a.bones)
+        raise SwingError(f"no keys of yours on {names} in '{rig.name}''s action or NLA strips: key the arm swing "
+                         "first (a placed swing is already timed to the plan)")
+    if len(sources) > 1:
+        raise SwingError(f"the arm keys of '{rig.name}' play from {len(sources)} places: "
+                         + "; ".join(x.where() for x in sources) + ". Re-timing one would leave the others off "
+                         "the swing: mute the ones to leave alone (or move the keys into one action) and run again")
+    source = sources[0]
+    swing_strip_time.check_mapping(source)
+    action, curves = source.action, source.curves
+    if action.library is not None:
         raise SwingError(f"the action '{action.name}' is linked from '{action.library.filepath}', so re-timed keys "
                          "would be lost on save; make it local (Object > Relations > Make Local) and run again")
-    if not curves:
-        names = ", ".join(b for a in arms for b in a.bones)
-        raise SwingError(f"no keys of yours on {names} in '{rig.name}''s action: key the arm swing first "
-                         "(a placed swing is already timed to the plan)")
     reading = read_swing(scene, rig, settings)
+    sw, w = reading.swing, reading.window
+    timing = swing_strip_time.strip_time(source, [reading.frame(x) for x in
+                                                  (sw.upswing_start_s, sw.peak_s, w.push_start_s, w.takeoff_s)])
     try:
-        new, report = retime_swing([bezier_of(fc, reading.fps) for fc in curves], reading.swing, reading.window,
-                                   reading.fps)
+        new, report = retime_swing([bezier_of(fc, reading.fps, timing) for fc in curves], reading.swing,
+                                   reading.window, reading.fps)
     except LeapwrightError as exc:
         raise SwingError(f"'{rig.name}': {exc}") from None
-    return RetimeWork(reading, action, curves, new, report)
+    return RetimeWork(reading, action, curves, new, report, timing)
 
 
 def write(work):
     """Keep the original action, then move the keys (values untouched); returns the backup's name."""
     paths = [(fc.data_path, fc.array_index) for fc in work.curves]
     backup = action_backup.keep(work.reading.rig, CAPABILITY, work.action, paths)
-    fps = work.reading.fps
-    scale = np.array([fps, 1.0])
+    fps, timing = work.reading.fps, work.timing
     for fc, k in zip(work.curves, work.new_keys):
         keys = read_keys(fc)
         co = keys["co"].reshape(-1, 2).copy()
-        co[:, 0] = k.times * fps
+        co[:, 0] = timing.to_action(k.times * fps)
         keys["co"] = co.ravel()
-        keys["handle_left"] = (k.left_handles * scale).ravel()
-        keys["handle_right"] = (k.right_handles * scale).ravel()
+        for name, handles in (("handle_left", k.left_handles), ("handle_right", k.right_handles)):
+            h = np.array(handles, dtype=float)
+            h[:, 0] = timing.to_action(h[:, 0] * fps)
+            keys[name] = h.ravel()
         restore_keys(fc, keys)
     return backup
