@@ -231,22 +231,23 @@ def _chain_maps(phi, beta, k, c, mu, h, slots):
     b0, bm, b1 = beta[..., 0, :], beta[..., 1, :], beta[..., 2, :]
     g0 = b0[..., :, None] * kc[..., None, :] + bm[..., :, None] * mid_start[..., None, :]
     g1 = b1[..., :, None] * kc[..., None, :] + bm[..., :, None] * mid_end[..., None, :]
-    tree, child, parent = np.nonzero(slots.parent_matrix)
-    flat = tree * n + child
-    e0 = np.zeros((steps, trees, n, 2, n, 2))
-    e1 = np.zeros_like(e0)
-    mo = np.zeros_like(e0)
-    # separated index arrays put their axis first
-    e0[:, tree, child, :, parent, :] = g0[:, flat].transpose(1, 0, 2, 3)
-    e1[:, tree, child, :, parent, :] = g1[:, flat].transpose(1, 0, 2, 3)
-    pos = np.arange(n)
-    mo[:, :, pos, :, pos, :] = phi.reshape(steps, trees, n, 2, 2).transpose(2, 0, 1, 3, 4)
+    # laid out (step, tree, row bone, row state, column bone, column ...); filled by plain
+    # slices, a bone or a child-parent pair at a time (mixed fancy indexing is far slower)
+    lower = np.zeros((steps, trees, n, 2, n, 2))
+    e1 = np.zeros_like(lower)
+    push = np.zeros((steps, trees, n, 2, 3, n))
+    phi_t = phi.reshape(steps, trees, n, 2, 2)
+    beta_t = beta.reshape(steps, trees, n, 3, 2)
+    for i in range(n):
+        lower[:, :, i, :, i, :] = phi_t[:, :, i]
+        push[:, :, i, :, :, i] = beta_t[:, :, i].transpose(0, 1, 3, 2)
+    for t, i, j in zip(*np.nonzero(slots.parent_matrix)):
+        lower[:, t, i, :, j, :] = g0[:, t * n + i]
+        e1[:, t, i, :, j, :] = g1[:, t * n + i]
     shape = (steps, trees, 2 * n, 2 * n)
     e1 = e1.reshape(shape)
-    push = np.zeros((steps, trees, n, 2, 3, n))
-    push[:, :, pos, :, :, pos] = beta.reshape(steps, trees, n, 3, 2).transpose(2, 0, 1, 4, 3)
     # (I - E1) X = [Phi + E0 | push] by forward substitution: E1 reaches one level down
-    rhs = np.concatenate([(mo + e0).reshape(shape), push.reshape(steps, trees, 2 * n, 3 * n)], axis=-1)
+    rhs = np.concatenate([lower.reshape(shape), push.reshape(steps, trees, 2 * n, 3 * n)], axis=-1)
     x = rhs
     for _ in range(slots.depth):
         x = rhs + e1 @ x
