@@ -415,3 +415,30 @@ ENTRY_POINTS += [
     ("cli check", check_argv(), _cli),
     ("cli bake", bake_argv(), _cli),
 ]
+
+
+# --- the path overlay ------------------------------------------------------------------
+
+
+@st.composite
+def overlay_inputs(draw):
+    """A track (see :func:`trajectories`) and a tick length [m] for the viewport's path overlay."""
+    frames, xyz, fps = draw(trajectories())
+    return frames, xyz, fps, draw(st.sampled_from([0.03, 0.0, 1.0]))
+
+
+def _overlay(example):
+    from core.analysis import analyse_trajectory
+    from core.path_overlay import implied_flight_arc, spacing_ticks
+
+    frames, xyz, fps, length = example
+    out = [spacing_ticks(xyz, length=length)] if len(xyz) else []
+    a = analyse_trajectory(frames, xyz, fps)
+    for flight in a.flights:
+        out.append(implied_flight_arc(frames, xyz, flight, fps))
+    return out
+
+
+ENTRY_POINTS += [
+    ("path overlay", overlay_inputs(), _overlay),
+]
