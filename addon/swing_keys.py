@@ -10,7 +10,9 @@ armature space: the character's left is the line from the right shoulder to the 
 one (the heads of the two upper-arm bones, or of the bones the bone tree maps to the
 shoulders), up is the armature's Z made square to it (Blender's armature convention,
 as :mod:`core.rig_landmarks` reads rigs), and forward is left x up. So a rig turned in
-the world, or built facing another way, swings towards its own front.
+the world, or built facing another way, swings towards its own front. With a forearm
+both pieces are laid in that plane and the elbow bends on the swing's timing
+(:mod:`core.elbow_bend`), the shoulder-to-hand line keeping the planned elevation.
 """
 
 import dataclasses
@@ -23,6 +25,7 @@ from mathutils import Quaternion
 from . import body_com
 from .blocking_pass import CurveSpec, Timeline
 from .core.arm_swing import SwingAmplitudes, place_swing
+from .core.elbow_bend import BentArmSwing, elbow_bend_keys, elbow_rotations
 from .core.errors import LeapwrightError
 from .core.rig_landmarks import map_by_topology
 from .core.swing_plane import bone_local_rotations, quaternion_keys, swing_plane, swing_rotations
@@ -32,6 +35,9 @@ SIDES = ("left", "right")
 _ARMATURE_UP = np.array([0.0, 0.0, 1.0])
 #: Half step of the central differences that give Euler slopes [s] (well below a frame).
 _EULER_STEP = 1e-4
+#: Largest change of the elbow bend between two forearm keys [rad] (so the component-wise
+#: Bezier between them stays within a fraction of a degree of the exact bend).
+_BEND_STEP = math.radians(5.0)
 
 
 class SwingError(Exception):
@@ -256,8 +262,9 @@ def _euler_curves(path, mode, timeline, t, q_of):
     return [CurveSpec(path, i, timeline.frames(t), values[:, i], slopes[:, i], "BEZIER") for i in range(3)]
 
 
-def _upper_arm_curves(rig, arm, forward, up, placed, timeline):
-    plane = swing_plane(forward, up, arm.shoulder, arm.hand)
+def _upper_arm_curves(rig, arm, forward, up, placed, timeline, end):
+    """The upper arm's rotation curves: its rest line from the shoulder to ``end`` swung to ``placed``."""
+    plane = swing_plane(forward, up, arm.shoulder, end)
     rest = np.array(rig.data.bones[arm.upper].matrix_local.to_3x3())
     mode, path = _rotation_channel(rig, arm.upper)
     quat_keys = quaternion_keys(placed, plane, rest)
@@ -274,13 +281,39 @@ def _upper_arm_curves(rig, arm, forward, up, placed, timeline):
     return _euler_curves(path, mode, timeline, quat_keys[0].times, q_of), plane
 
 
-def _forearm_curves(rig, arm, placed, timeline):
-    """The forearm held as at rest on the swing's key frames, so its bend can be edited on the swing's timing."""
+def _bend_times(bend):
+    """The bend's key times [s] with even subdivisions, so no span bends more than ``_BEND_STEP``."""
+    times = [bend.times[:1]]
+    for t0, t1, v0, v1 in zip(bend.times[:-1], bend.times[1:], bend.values[:-1], bend.values[1:]):
+        times.append(np.linspace(t0, t1, max(1, int(math.ceil(abs(v1 - v0) / _BEND_STEP))) + 1)[1:])
+    return np.concatenate(times)
+
+
+def _forearm_curves(rig, arm, planes, bent, timeline):
+    """The forearm laid in the swing plane, bent on the swing's timing (:mod:`core.elbow_bend`)."""
     mode, path = _rotation_channel(rig, arm.forearm)
-    t = placed.keys.times
-    rest = (1.0, 0.0, 0.0, 0.0) if mode == "QUATERNION" else (0.0, 0.0, 0.0)
-    return [CurveSpec(path, i, timeline.frames(t), np.full(len(t), v), np.zeros(len(t)), "BEZIER")
-            for i, v in enumerate(rest)]
+    rest = np.array(rig.data.bones[arm.forearm].matrix_local.to_3x3())
+
+    def q_of(t):
+        return bone_local_rotations(elbow_rotations(*planes, bent.bend_at(t)), rest)
+
+    t = _bend_times(bent.bend)
+    if mode != "QUATERNION":
+        return _euler_curves(path, mode, timeline, t, q_of)
+    values = q_of(t)
+    slopes = (q_of(t + _EULER_STEP) - q_of(t - _EULER_STEP)) / (2.0 * _EULER_STEP) / timeline.fps
+    return [CurveSpec(path, i, timeline.frames(t), values[:, i], slopes[:, i], "BEZIER") for i in range(4)]
+
+
+def _elbow(rig, arm):
+    return np.array(rig.data.bones[arm.forearm].head_local)
+
+
+def _bent_swing(rig, arm, placed, amplitude_deg):
+    """:class:`core.elbow_bend.BentArmSwing` of an arm with a forearm (straight for 0 deg)."""
+    elbow = _elbow(rig, arm)
+    return BentArmSwing(placed, elbow_bend_keys(placed, amplitude_deg), float(np.linalg.norm(elbow - arm.shoulder)),
+                        float(np.linalg.norm(arm.hand - elbow)))
 
 
 @dataclass(frozen=True, eq=False)
@@ -289,7 +322,7 @@ class PlacedWork:
 
     specs : list of CurveSpec  rotation curves of every chosen bone
     placed : core.arm_swing.PlacedSwing  the elevation curve (plan time [s])
-    planes : dict side -> core.swing_plane.SwingPlane
+    planes : dict side -> core.swing_plane.SwingPlane  of the upper arm (shoulder to elbow, or to hand)
     forward, up : (3,) armature-space facing
     timeline : blocking_pass.Timeline
     """
@@ -308,15 +341,21 @@ def place(rig, settings, plan, start_frame, fps):
     arms = chosen_arms(rig, settings)
     forward, up = rest_facing(rig, arms)
     amplitudes = amplitudes_from(settings)
+    amplitudes_bend = round(math.degrees(settings.forearm_bend), 4)
     timeline = Timeline(float(start_frame), float(fps))
     try:
         placed = place_swing(plan, amplitudes)
         specs, planes = [], {}
         for arm in arms:
-            curves, planes[arm.side] = _upper_arm_curves(rig, arm, forward, up, placed, timeline)
-            specs += curves
-            if arm.forearm:
-                specs += _forearm_curves(rig, arm, placed, timeline)
+            if not arm.forearm:
+                curves, planes[arm.side] = _upper_arm_curves(rig, arm, forward, up, placed, timeline, arm.hand)
+                specs += curves
+                continue
+            bent = _bent_swing(rig, arm, placed, amplitudes_bend)
+            elbow = _elbow(rig, arm)
+            curves, planes[arm.side] = _upper_arm_curves(rig, arm, forward, up, bent, timeline, elbow)
+            forearm_plane = swing_plane(forward, up, elbow, arm.hand)
+            specs += curves + _forearm_curves(rig, arm, (planes[arm.side], forearm_plane), bent, timeline)
     except LeapwrightError as exc:
         raise SwingError(str(exc)) from None
     return PlacedWork(arms, specs, placed, planes, forward, up, timeline)

@@ -34,8 +34,12 @@ class LEAPWRIGHT_PT_swing(SubPanel, bpy.types.Panel):
 
         box = layout.box()
         box.label(text="Swing", icon="CON_ROTLIKE")
-        for name in ("backswing", "upswing", "landing_reach", "use_flight_pose"):
+        for name in ("backswing", "upswing", "landing_reach"):
             box.prop(s, name)
+        row = box.row()
+        row.enabled = bool(s.forearm_left or s.forearm_right)
+        row.prop(s, "forearm_bend")
+        box.prop(s, "use_flight_pose")
         row = box.row()
         row.enabled = s.use_flight_pose
         row.prop(s, "flight")

@@ -31,7 +31,7 @@ class LeapwrightSwingSettings(bpy.types.PropertyGroup):
     upper_arm_left: StringProperty(name="Upper arm, left", description="The character's left upper-arm bone")
     upper_arm_right: StringProperty(name="Upper arm, right", description="The character's right upper-arm bone")
     forearm_left: StringProperty(name="Forearm, left",
-                                 description="Optional: keyed with the swing (held as at rest) and its tail "
+                                 description="Optional: keyed with the swing (bent by Elbow bend) and its tail "
                                              "is the hand end of the arm")
     forearm_right: StringProperty(name="Forearm, right", description="Optional, as the left forearm")
     backswing: FloatProperty(name="Backswing", subtype="ANGLE", default=math.radians(45.0), min=0.0,
@@ -42,6 +42,10 @@ class LeapwrightSwingSettings(bpy.types.PropertyGroup):
     landing_reach: FloatProperty(name="Reach at landing", subtype="ANGLE", default=math.radians(45.0),
                                  min=-math.pi, max=2.0 * math.pi,
                                  description="Elevation at touchdown: the arms reach forward for balance")
+    forearm_bend: FloatProperty(name="Elbow bend", subtype="ANGLE", default=math.radians(15.0), min=0.0,
+                                max=math.radians(90.0),
+                                description="How far the elbows bend at the bottom of the backswing; they "
+                                            "straighten by take-off (0 = straight arms). Needs the forearms")
     use_flight_pose: BoolProperty(name="Pose at the top", default=False,
                                   description="Key an elevation at the apex; off eases from take-off "
                                               "straight to the landing reach")

@@ -16,6 +16,7 @@ import pytest
 
 from scene_probe import addon, file_state, first_difference
 from test_arm_swing import ARMS, LATE, _elevation, _events, _facing, _jump, _late_swing, _peak
+from test_arm_swing_retime import rerun_changes_nothing_and_removal_restores
 
 ACTION_START = 100.0  # the arm action's own first frame (its manual frame range)
 
@@ -85,13 +86,7 @@ def test_a_late_swing_in_an_offset_strip_is_retimed_in_scene_time(start, scale):
     assert shift == pytest.approx(-LATE / scale, abs=1.0 / scale)
     assert (strip.frame_start, strip.frame_end, strip.scale, strip.action_frame_start,
             strip.action_frame_end) == placed
-    once = file_state()
-    assert bpy.ops.leapwright.retime_arm_swing() == {"FINISHED"}  # on time now: nothing moves
-    assert file_state() == once, first_difference(file_state(), once)
-
-    assert bpy.ops.leapwright.remove_arm_swing() == {"FINISHED"}
-    scene.frame_set(1)
-    assert file_state() == before, first_difference(file_state(), before)
+    rerun_changes_nothing_and_removal_restores(scene, before)
 
 
 @pytest.mark.parametrize("case", ["reversed", "animated strip time", "keys in two places"])

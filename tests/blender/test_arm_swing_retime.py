@@ -20,6 +20,16 @@ from test_arm_swing import (ARMS, LATE, _arm_curves, _elevation, _events, _facin
                             _place)
 
 
+def rerun_changes_nothing_and_removal_restores(scene, before):
+    """A second re-timing finds the swing on time and moves nothing; removal gives back ``before``."""
+    once = file_state()
+    assert bpy.ops.leapwright.retime_arm_swing() == {"FINISHED"}
+    assert file_state() == once, first_difference(file_state(), once)
+    assert bpy.ops.leapwright.remove_arm_swing() == {"FINISHED"}
+    scene.frame_set(1)
+    assert file_state() == before, first_difference(file_state(), before)
+
+
 @pytest.mark.parametrize("handles", ["AUTO_CLAMPED", "FREE"])
 def test_late_swing_is_retimed_to_peak_at_takeoff_keeping_its_values_and_removal_restores_it(handles):
     rig, scene = _jump()
@@ -60,13 +70,7 @@ def test_late_swing_is_retimed_to_peak_at_takeoff_keeping_its_values_and_removal
     shift = keys_after[peak_key]["co"][4] - keys_before[peak_key]["co"][4]  # the third key: the peak
     assert shift == pytest.approx(-LATE, abs=1.0)
     assert any(a.name.startswith("lw:before ") for a in bpy.data.actions)
-    once = file_state()
-    assert bpy.ops.leapwright.retime_arm_swing() == {"FINISHED"}  # on time now: nothing moves
-    assert file_state() == once, first_difference(file_state(), once)
-
-    assert bpy.ops.leapwright.remove_arm_swing() == {"FINISHED"}
-    scene.frame_set(1)
-    assert file_state() == before, first_difference(file_state(), before)
+    rerun_changes_nothing_and_removal_restores(scene, before)
 
 
 def test_remove_written_restores_retimed_keys_byte_for_byte():
