@@ -3,8 +3,9 @@
 The late swing of test_arm_swing_retime.py is keyed into an action of its own and
 moved into an NLA strip that starts elsewhere and plays at another speed, so the
 action's frames are not scene frames: Blender plays action frame ``a`` at scene frame
-``frame_start + scale (a - action_frame_start)`` (Blender manual, NLA strip
-properties: Action Clip frame start/end, Playback Scale). The swing is measured in
+``frame_start + k L scale + scale (a - action_frame_start)`` in its ``k``-th play
+(``L`` the action clip's length; Blender manual, NLA strip properties: Action Clip
+frame start/end, Playback Scale, Repeat). The swing is measured in
 scene time from the evaluated pose, as in test_arm_swing.py, against the plan's
 take-off (Lees, Vanrenterghem & De Clercq 2004, J Biomech 37: the elevation peaks at
 take-off). Strips Blender maps otherwise are refused with nothing changed.
@@ -21,8 +22,9 @@ from test_arm_swing_retime import rerun_changes_nothing_and_removal_restores
 ACTION_START = 100.0  # the arm action's own first frame (its manual frame range)
 
 
-def _arms_in_a_strip(rig, scene, start, scale):
-    """The late swing keyed into 'my arms', played by an NLA strip at scene frame ``start`` and ``scale``."""
+def _arms_in_a_strip(rig, scene, start, scale, repeat=1.0):
+    """The late swing keyed into 'my arms', played by an NLA strip from scene frame ``start`` at
+    ``scale``; with ``repeat`` plays the swing falls in the last one, where it was keyed."""
     compat = addon().blender_compat
     ad = rig.animation_data
     blocking, handle = ad.action, compat.active_slot_handle(rig)
@@ -30,19 +32,23 @@ def _arms_in_a_strip(rig, scene, start, scale):
     compat.assign_action(rig, arms)
     _late_swing(rig, scene)  # keyed at scene frames, as if the strip played them in place
     arm_slot = compat.active_slot_handle(rig)
+    play = (scene.frame_end + 20 - start) / repeat  # one play [scene frames]
+    earlier = (repeat - 1.0) * play
     for fc in compat.fcurves(arms, rig):
         for k in fc.keyframe_points:
             for attr in ("co", "handle_left", "handle_right"):
                 v = getattr(k, attr)
-                v.x = ACTION_START + (v.x - start) / scale
+                v.x = ACTION_START + (v.x - start - earlier) / scale
         fc.update()
     arms.use_frame_range = True
-    arms.frame_start, arms.frame_end = ACTION_START, ACTION_START + (scene.frame_end + 20 - start) / scale
+    arms.frame_start, arms.frame_end = ACTION_START, ACTION_START + play / scale
     compat.assign_action(rig, blocking, handle)
     track = ad.nla_tracks.new()
     track.name = "my arm layer"
     strip = compat.new_nla_strip(rig, track, "my arms", start, arms, arm_slot)
     strip.scale = scale
+    strip.repeat = repeat
+    assert strip.frame_start == start and strip.frame_end == pytest.approx(start + repeat * play, abs=1e-3)
     scene.frame_set(1)
     return arms, strip
 
@@ -58,10 +64,11 @@ def _choose_arms(rig, scene):
     bpy.context.view_layer.objects.active = rig
 
 
-@pytest.mark.parametrize("start, scale", [(-50, 1.0), (-40, 1.5)], ids=["offset", "offset and scale"])
-def test_a_late_swing_in_an_offset_strip_is_retimed_in_scene_time(start, scale):
+@pytest.mark.parametrize("start, scale, repeat", [(-50, 1.0, 1.0), (-40, 1.5, 1.0), (-150, 1.25, 2.0)],
+                         ids=["offset", "offset and scale", "second of two plays"])
+def test_a_late_swing_in_an_offset_strip_is_retimed_in_scene_time(start, scale, repeat):
     rig, scene = _jump()
-    arms, strip = _arms_in_a_strip(rig, scene, start, scale)
+    arms, strip = _arms_in_a_strip(rig, scene, start, scale, repeat)
     _, takeoff, _ = _events(scene)
     forward, up = _facing(rig, 0.0)
     frames = np.arange(takeoff - 14.0, takeoff + 14.0, 0.25)
