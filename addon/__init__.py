@@ -122,27 +122,31 @@ segments by the bone tree, or by the rig's ``lw_body_map`` text
 
 Arm swing (settings ``scene.leapwright_swing``: ``upper_arm_left``/``_right``,
 ``forearm_left``/``_right`` bone names; ``backswing``, ``upswing`` (elevation at
-take-off), ``landing_reach``, ``flight`` (with ``use_flight_pose``) [rad];
+take-off), ``landing_reach``, ``flight`` (with ``use_flight_pose``), ``forearm_bend`` [rad];
 ``upswing_start_share``; ``on_conflict`` 'ASK' | 'REPLACE'; ``contact_from``
 'AUTO' | 'MARKERS' | 'BODY' | 'FEET'; ``hop``). Elevation is the shoulder-to-hand
 line's angle in the character's side view (0 hanging, 90° level forward); the
 side view comes from the rest shoulders (left) and the armature's Z (up):
 
 ``find_arm_bones()``
-    Fills in the arm bones from the bone tree (names are not read).
+    Fills in the arm bones from the bone tree and the rest pose (names and the
+    armature's axes are not read: left and right come from the mirror plane, the
+    shoulders and the feet).
 ``place_arm_swing()``
     Keys the upper arms (their own rotation mode; axis-angle is refused) with a
     swing timed to the plan: back in the dip, up through the push to peak at
-    take-off, reach at touchdown; chosen forearms are keyed as at rest on the
-    same frames. Group ``lw:swing`` in the active action; re-running replaces it.
+    take-off, reach at touchdown; chosen forearms are laid in the swing plane,
+    bent by ``forearm_bend`` at the bottom of the backswing and straight at
+    take-off. Group ``lw:swing`` in the active action; re-running replaces it.
 ``check_arm_swing()``
     Reads the arms' evaluated motion and the contact (``lw:`` markers, the body
     bone's free fall, or the foot heights) and warns of a swing peaking after
     take-off (frames, implied torso drop) or outside contact. Writes nothing.
 ``retime_arm_swing()``
     Moves the times of your own keys on the arm bones (every channel; values
-    kept) with a monotone time warp so the upswing fills the push and peaks at
-    take-off; first keeps the action as ``lw:before <action>``, which
+    kept; in the active action or your own NLA strip, whose offset, scale and
+    repeat are mapped) with a monotone time warp so the upswing fills the push
+    and peaks at take-off; first keeps the action as ``lw:before <action>``, which
     ``remove_written`` / ``remove_arm_swing()`` write back byte for byte.
 
 Bookkeeping for removal is kept in the rig's ``lw_state`` custom property.
