@@ -81,8 +81,9 @@ def _playing_strips(strips, track):
 def key_sources(rig, arms):
     """Every playing action holding the animator's keys (two or more) on the arms' bones.
 
-    Muted tracks and strips do not play, so they are left out; so are leapwright's own
-    tracks other than the one holding the animator's pushed action.
+    Muted tracks and strips do not play, nor do the others when one track is solo, so
+    they are left out; so are leapwright's own tracks other than the one holding the
+    animator's pushed action.
     """
     ad = rig.animation_data
     if ad is None:
@@ -92,8 +93,10 @@ def key_sources(rig, arms):
         curves = _arm_curves(ad.action, rig, arms)
         if curves:
             out.append(KeySource(ad.action, curves))
+    solo = any(t.is_solo for t in ad.nla_tracks)  # a solo track is the only one that plays
     for track in ad.nla_tracks:
-        if track.mute or (track.name.startswith(ownership.PREFIX) and track.name != ownership.USER_TRACK):
+        if track.mute or (solo and not track.is_solo) or (track.name.startswith(ownership.PREFIX)
+                                                           and track.name != ownership.USER_TRACK):
             continue
         for strip, tr in _playing_strips(track.strips, track):
             curves = _arm_curves(strip.action, rig, arms)

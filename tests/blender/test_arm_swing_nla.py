@@ -114,3 +114,26 @@ def test_strips_that_do_not_map_by_one_line_are_refused_and_nothing_changes(case
         bpy.ops.leapwright.retime_arm_swing()
     assert file_state() == before, first_difference(file_state(), before)
     assert not any(a.name.startswith("lw:before ") for a in bpy.data.actions)
+
+
+@pytest.mark.parametrize("how", ["strip muted", "track muted"])
+def test_arm_keys_in_a_strip_that_does_not_play_are_left_alone(how):
+    # A muted strip or track plays nothing (Blender manual, NLA: Mute), so only the active action's
+    # late swing is seen and re-timed; the silent strip's keys stay as they were, bit for bit.
+    rig, scene = _jump()
+    arms, strip = _arms_in_a_strip(rig, scene, -50, 1.0)
+    if how == "strip muted":
+        strip.mute = True
+    else:
+        rig.animation_data.nla_tracks["my arm layer"].mute = True
+    _late_swing(rig, scene)  # the animator's own swing, in the active action
+    silent = _keys(arms, rig)
+    _choose_arms(rig, scene)
+    assert bpy.ops.leapwright.retime_arm_swing() == {"FINISHED"}
+    _, takeoff, _ = _events(scene)
+    forward, up = _facing(rig, 0.0)
+    frames = np.arange(takeoff - 14.0, takeoff + 14.0, 0.25)
+    assert abs(_peak(frames, _elevation(rig, frames, forward, up)) - takeoff) <= 1.0
+    after = _keys(arms, rig)
+    assert after.keys() == silent.keys()
+    assert all(after[k][f].tobytes() == silent[k][f].tobytes() for k in silent for f in silent[k])
