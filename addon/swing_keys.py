@@ -84,7 +84,7 @@ def _mirror_normal(rest):
     mirrored bone end to the nearest bone end [BU].
     """
     up = np.asarray(rest.up)
-    pts = np.vstack([rest.heads, rest.tails])
+    pts = np.unique(np.vstack([rest.heads, rest.tails]), axis=0)  # a child's head is its parent's tail
     e1 = np.cross(up, [1.0, 0.0, 0.0] if abs(up[0]) < 0.9 else [0.0, 1.0, 0.0])
     e1 /= np.linalg.norm(e1)
     e2 = np.cross(up, e1)
