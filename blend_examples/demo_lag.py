@@ -24,7 +24,6 @@ import math
 import os
 import sys
 import tempfile
-import traceback
 
 import numpy as np
 
@@ -187,8 +186,9 @@ def main(argv=None):
     args = ap.parse_args(argv)
     sys.path.insert(0, HERE)
     sys.path.insert(0, os.path.dirname(HERE))
-    status = 1
-    try:
+    from script_exit import run_and_exit
+
+    def body():
         if args.probe:
             probe(args.probe)
         elif args.strip:
@@ -196,15 +196,8 @@ def main(argv=None):
             print(f"wrote {path} ({os.path.getsize(path) // 1024} kB)")
         else:
             raise SystemExit("give --probe FILE.blend or --strip FILE.blend")
-        status = 0
-    except SystemExit as exc:
-        print(f"demo_lag failed: {exc}", file=sys.stderr)
-    except Exception:
-        traceback.print_exc()
-    finally:
-        sys.stdout.flush()
-        sys.stderr.flush()
-        os._exit(status)
+
+    run_and_exit("demo_lag", body)
 
 
 if __name__ == "__main__":

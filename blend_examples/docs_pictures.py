@@ -26,7 +26,6 @@ import shutil
 import sys
 import tempfile
 import time
-import traceback
 
 import numpy as np
 
@@ -170,8 +169,11 @@ def main(argv=None):
     docs = os.path.abspath(args.docs)
     os.makedirs(docs, exist_ok=True)
     sys.path.insert(0, HERE)
-    started, status, log, outputs = time.monotonic(), 1, [], []
-    try:
+    started, log, outputs = time.monotonic(), [], []
+    from script_exit import run_and_exit
+
+    def body():
+        nonlocal outputs
         with extension_installed(os.path.abspath(args.zip)) as addon, tempfile.TemporaryDirectory() as work_dir:
             if args.only in (None, "check"):
                 outputs += check_pictures(addon, docs, work_dir, log)
@@ -181,15 +183,8 @@ def main(argv=None):
                 outputs += docs_arc.arc_pictures(addon, docs, log)
         print("\n".join(log + [f"wrote {p} ({os.path.getsize(p) // 1024} kB)" for p in outputs]))
         print(f"docs pictures done in {time.monotonic() - started:.0f} s")
-        status = 0
-    except SystemExit as exc:
-        print(f"docs pictures failed: {exc}", file=sys.stderr)
-    except Exception:
-        traceback.print_exc()
-    finally:
-        sys.stdout.flush()
-        sys.stderr.flush()
-        os._exit(status)
+
+    run_and_exit("docs pictures", body)
 
 
 if __name__ == "__main__":

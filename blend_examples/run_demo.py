@@ -22,7 +22,6 @@ import shutil
 import sys
 import tempfile
 import time
-import traceback
 from dataclasses import dataclass, field
 
 HERE = os.path.dirname(os.path.abspath(__file__))
@@ -181,8 +180,9 @@ def main(argv=None):
 
     import mannequin
 
-    status = 1
-    try:
+    from script_exit import run_and_exit
+
+    def body():
         objects = mannequin.build_demo_scene(fps=FPS)
         install_extension(zip_path)  # after the scene reset: read_factory_settings disables add-ons
         demo = Demo(bpy.context.scene, objects)
@@ -192,19 +192,13 @@ def main(argv=None):
         for path in write_outputs(demo, out_dir, args.docs):
             print(f"wrote {path} ({os.path.getsize(path) // 1024} kB)", flush=True)
         print(f"demo done in {time.monotonic() - started:.0f} s", flush=True)
-        status = 0
-    except SystemExit as exc:
-        print(f"demo failed: {exc}", file=sys.stderr)
-    except Exception:
-        traceback.print_exc()
-    finally:
-        # A process that exits with add-on classes registered can crash or hang.
+
+    def cleanup():
         if MODULE in bpy.context.preferences.addons:
             addon_utils.disable(MODULE, default_set=False)
         shutil.rmtree(user_root, ignore_errors=True)
-        sys.stdout.flush()
-        sys.stderr.flush()
-        os._exit(status)
+
+    run_and_exit("demo", body, cleanup)
 
 
 if __name__ == "__main__":
