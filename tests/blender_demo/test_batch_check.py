@@ -64,7 +64,7 @@ def test_batch_pool_and_dask_match_one_by_one(copies, tmp_path):
     assert dask == pool
 
 
-PONYTAIL = ",".join(f"ponytail_{i}" for i in range(1, 6))  # blend_examples/mannequin.py
+PONYTAIL = ",".join(f"ponytail_{i}" for i in range(1, 4))  # blend_examples/mannequin.py PONYTAIL
 # Reads the baked layer's keys from a .blend, as plain Blender data (the add-on not enabled).
 KEYS_PROBE = """
 import json, sys, bpy
@@ -116,7 +116,7 @@ def test_bake_batch_pool_and_dask_match_one_by_one(copies, tmp_path):
     alone = json.loads(r.stdout)
     assert alone["keys"] > 0 and alone["largest_swing_deg"] > 1.0  # the jump does swing the ponytail
     alone_keys = _baked_keys(alone_path, rig)
-    assert len(alone_keys) >= 5  # at least one channel per ponytail bone
+    assert len(alone_keys) >= len(PONYTAIL.split(","))  # at least one channel per ponytail bone
     pool_files, pool = _bake_copies(copies, tmp_path / "pool", ["--jobs", "2"])
     assert pool == [alone] * 4
     assert all(_baked_keys(p, rig) == alone_keys for p in pool_files)  # the files themselves, key for key
