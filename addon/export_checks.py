@@ -24,7 +24,7 @@ def _actions(rig):
         out.append((user, False))
     ad = rig.animation_data
     for track in (ad.nla_tracks if ad else ()):
-        if track.name.startswith(ownership.PREFIX) and track.name != ownership.USER_TRACK:
+        if ownership.is_our_layer(track):
             out += [(s.action, True) for s in track.strips if s.action is not None]
     return out
 
@@ -79,7 +79,7 @@ def snap_written_keys(rig):
     moved = 0
     for action, ours in _actions(rig):
         for fc in compat.fcurves(action, rig):
-            if not (ours or (fc.group is not None and fc.group.name.startswith(ownership.PREFIX))):
+            if not (ours or ownership.is_our_curve(fc)):
                 continue
             keys = read_keys(fc)
             co = keys["co"].reshape(-1, 2).astype(float)

@@ -21,9 +21,7 @@ class LEAPWRIGHT_PT_game_export(SubPanel, bpy.types.Panel):
         layout = self.layout
         row = layout.row(align=True)
         row.operator("leapwright.check_export", icon="CHECKMARK")
-        snap = row.operator("leapwright.check_export", text="Snap and Check", icon="SNAP_ON")
-        if snap is not None:  # None only under a stand-in layout
-            snap.snap_keys = True
+        row.operator("leapwright.check_export", text="Snap and Check", icon="SNAP_ON").snap_keys = True
         layout.operator("leapwright.split_clips", icon="NLA")
         last = game_operators.LAST_CHECK.get(context.scene.as_pointer())
         col = layout.column(align=True)

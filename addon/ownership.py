@@ -75,8 +75,14 @@ def user_action(obj, state=None):
     return ad.action if ad is not None else None
 
 
-def _is_ours(fc):
+def is_our_curve(fc):
+    """Whether ``fc`` is in one of leapwright's F-curve groups (``lw:<capability>``)."""
     return fc.group is not None and fc.group.name.startswith(PREFIX)
+
+
+def is_our_layer(track):
+    """Whether ``track`` is one of leapwright's NLA layers (not the one holding the animator's action)."""
+    return track.name.startswith(PREFIX) and track.name != USER_TRACK
 
 
 def _strip_actions(strips, out):
@@ -110,7 +116,7 @@ def conflicts(obj, specs):
     for spec in specs:
         for action in actions:
             fc = compat.find_fcurve(action, obj, spec.data_path, spec.index)
-            if fc is not None and len(fc.keyframe_points) and not _is_ours(fc):
+            if fc is not None and len(fc.keyframe_points) and not is_our_curve(fc):
                 out.append((spec.data_path, spec.index))
                 break
     return out
@@ -276,7 +282,7 @@ def _return_linked(obj, state):
     copy = find_action(adopted["copy"])
     linked = linked_actions.original_of(copy, adopted["original"])
     if copy is not None and linked is not None:
-        if any(_is_ours(fc) for fc in compat.fcurves(copy, obj)) or any(
+        if any(is_our_curve(fc) for fc in compat.fcurves(copy, obj)) or any(
                 r["action"] == adopted["copy"] for r in state["replaced"]):
             return  # another capability still has keys in the copy
         if not linked_actions.same_keys(obj, copy, linked):
@@ -303,7 +309,7 @@ def write_into_action(obj, capability, specs, replace):
     action = _target_action(obj, state)
     for spec in specs:
         fc = compat.find_fcurve(action, obj, spec.data_path, spec.index)
-        if fc is not None and not _is_ours(fc):
+        if fc is not None and not is_our_curve(fc):
             if not replace and len(fc.keyframe_points):
                 raise RuntimeError(f"{spec.data_path}[{spec.index}] has the animator's keys")
             keys = {k: v.tolist() for k, v in read_keys(fc).items()}

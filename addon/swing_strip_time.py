@@ -64,8 +64,7 @@ class KeySource:
 def _arm_curves(action, rig, arms):
     prefixes = tuple(bone_path(b) + "." for a in arms for b in a.bones)
     return [fc for fc in compat.fcurves(action, rig) if fc.data_path.startswith(prefixes)
-            and not (fc.group is not None and fc.group.name.startswith(ownership.PREFIX))
-            and len(fc.keyframe_points) >= 2]
+            and not ownership.is_our_curve(fc) and len(fc.keyframe_points) >= 2]
 
 
 def _playing_strips(strips, track):
@@ -95,8 +94,7 @@ def key_sources(rig, arms):
             out.append(KeySource(ad.action, curves))
     solo = any(t.is_solo for t in ad.nla_tracks)  # a solo track is the only one that plays
     for track in ad.nla_tracks:
-        if track.mute or (solo and not track.is_solo) or (track.name.startswith(ownership.PREFIX)
-                                                           and track.name != ownership.USER_TRACK):
+        if track.mute or (solo and not track.is_solo) or ownership.is_our_layer(track):
             continue
         for strip, tr in _playing_strips(track.strips, track):
             curves = _arm_curves(strip.action, rig, arms)

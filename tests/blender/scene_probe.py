@@ -337,6 +337,18 @@ class PanelLayout:
         module, name = idname.split(".")
         assert name in dir(getattr(bpy.ops, module)), idname
         self._record("operator", idname)
+        return OperatorProperties(getattr(getattr(bpy.ops, module), name).get_rna_type())
+
+
+class OperatorProperties:
+    """What ``UILayout.operator`` returns: the button's operator properties; only real ones can be set."""
+
+    def __init__(self, rna):
+        object.__setattr__(self, "_rna", rna)
+
+    def __setattr__(self, name, value):
+        assert name in self._rna.properties, f"{self._rna.identifier} has no property {name!r}"
+        object.__setattr__(self, name, value)
 
 
 def draw_panel(panel_name, icons=False):

@@ -15,7 +15,7 @@ import pytest
 import bpy
 
 from rig_builder import build_rig, configure
-from scene_probe import addon, run_write, world_path, written_fcurves
+from scene_probe import addon, draw_panel, run_write, world_path, written_fcurves
 
 G = 9.80665
 MODES = (("IN_PLACE", False), ("ROOT_BONE", False), ("ROOT_BONE", True), ("OBJECT", False), ("OBJECT", True))
@@ -402,48 +402,10 @@ def test_every_hop_gets_its_clips_and_they_chain_in_the_gltf_read_back(tmp_path,
     assert left == sorted(names[0])
 
 
-class _Layout:
-    """Stands in for bpy.types.UILayout (headless Blender draws no panels): records labels, checks names."""
-
-    def __init__(self, log):
-        self.log = log
-        self.use_property_split = self.use_property_decorate = self.enabled = False
-        self.scale_y = 1.0
-
-    def _child(self, *args, **kw):
-        return _Layout(self.log)
-
-    box = column = row = _child
-
-    def label(self, text="", icon="NONE"):
-        self.log.append(("label", text))
-
-    def prop(self, data, name, **kw):
-        assert name in data.bl_rna.properties, name
-        self.log.append(("prop", name))
-
-    def prop_search(self, data, name, search_data, search_name, **kw):
-        assert name in data.bl_rna.properties and search_name in search_data.bl_rna.properties
-        self.log.append(("prop", name))
-
-    def operator(self, idname, **kw):
-        module, name = idname.split(".")
-        assert name in dir(getattr(bpy.ops, module)), idname
-        self.log.append(("operator", idname))
-        return None
-
-
-def _draw(panel_name):
-    log = []
-    holder = type("PanelStandIn", (), {"layout": _Layout(log)})()
-    getattr(bpy.types, panel_name).draw(holder, bpy.context)
-    return log
-
-
 def test_panels_show_root_motion_stylisations_and_the_export_findings():
     rig = build_rig()
     configure(rig, height=0.4, fall_gravity_scale=2.0, root_motion="ROOT_BONE", key_style="TWOS")
-    log = _draw("LEAPWRIGHT_PT_jump")
+    log = draw_panel("LEAPWRIGHT_PT_jump")
     props = {n for kind, n in log if kind == "prop"}
     assert {"fall_gravity_scale", "apex_hang", "root_motion", "root_bone", "root_vertical", "key_style"} <= props
     labels = " ".join(t for kind, t in log if kind == "label")
@@ -451,7 +413,7 @@ def test_panels_show_root_motion_stylisations_and_the_export_findings():
     bpy.context.scene.unit_settings.scale_length = 0.01
     bpy.context.view_layer.objects.active = rig
     assert bpy.ops.leapwright.check_export() == {"FINISHED"}
-    log = _draw("LEAPWRIGHT_PT_game_export")
+    log = draw_panel("LEAPWRIGHT_PT_game_export")
     assert {"leapwright.check_export", "leapwright.split_clips"} <= {n for kind, n in log if kind == "operator"}
     labels = " ".join(t for kind, t in log if kind == "label")
     assert "unit scale is 0.01" in labels
