@@ -15,7 +15,7 @@ import sys
 
 from core.errors import InvalidGoalError
 
-from .batch import add_batch_arguments, blend_command_ready, is_batch, report_batch, run_files
+from .batch import add_batch_arguments, blend_command_ready, file_error, is_batch, report_batch, run_files
 from .blend_tracks import addon_module
 
 PRESETS = ("hair", "cloth", "tail", "heavy prop")
@@ -103,8 +103,7 @@ def bake_file(path, options):
     except Exception as exc:  # noqa: BLE001 - sorted just below: the input's fault, or a bug
         if not _expected(exc, lag_bake):
             raise
-        text = str(exc)
-        return {"file": path, "exit_code": 2, "error": text if text.startswith(path) else f"{path}: {text}"}
+        return file_error(path, exc)
     save_blend(path)
     return {"file": path, "exit_code": 0, "report": {**report, "message": message}}
 

@@ -16,6 +16,13 @@ from concurrent.futures import ProcessPoolExecutor
 from core.errors import InvalidGoalError, LeapwrightError
 
 
+def file_error(path, exc):
+    """A batch result for a file that was bad input: ``{"file", "exit_code": 2, "error"}``,
+    the message naming the file once."""
+    path, text = str(path), str(exc)
+    return {"file": path, "exit_code": 2, "error": text if text.startswith(path) else f"{path}: {text}"}
+
+
 def check_file(path, options):
     """Check one file; returns ``{"file", "exit_code", "report" or "error"}`` (never raises)."""
     from .check_command import check_path, has_problems, report_dict

@@ -53,6 +53,15 @@ def addon_module(name):
     return importlib.import_module(f"addon.{name}")
 
 
+def named_object(bpy, name, path):
+    """The object ``name`` of the open file; bad input naming the file's objects when there is none."""
+    obj = bpy.data.objects.get(name)
+    if obj is None:
+        names = ", ".join(sorted(o.name for o in bpy.data.objects)[:12])
+        raise InvalidTrajectoryError(f"{path}: no object {name!r}; objects are: {names}")
+    return obj
+
+
 def input_errors():
     """The error classes that mean bad input: the core's, and the same classes as the
     add-on's vendored copy of the core defines them (``addon.core.errors``)."""
@@ -114,10 +123,7 @@ def sample_blend_track(path, object_name, bone_name=None):
     """
     bpy = open_blend(path)
     scene = bpy.context.scene
-    obj = bpy.data.objects.get(object_name)
-    if obj is None:
-        names = ", ".join(sorted(o.name for o in bpy.data.objects)[:12])
-        raise InvalidTrajectoryError(f"{path}: no object {object_name!r}; objects are: {names}")
+    obj = named_object(bpy, object_name, path)
     bone = None
     if bone_name:
         if obj.type != "ARMATURE" or bone_name not in obj.pose.bones:

@@ -13,9 +13,7 @@ Exit codes: 0 ready to export, 1 export issues found, 2 bad input (one line on s
 
 import sys
 
-from core.errors import InvalidGoalError
-
-from .batch import add_batch_arguments, blend_command_ready, is_batch, report_batch, run_files
+from .batch import add_batch_arguments, blend_command_ready, file_error, is_batch, report_batch, run_files
 from .blend_tracks import addon_module
 
 ROOT_DEFAULT = "root"  # the jump panel's default root bone (addon/settings.py)
@@ -49,15 +47,12 @@ def _saved_root_bone(scene):
 def check_export_file(path, options):
     """The export checks of one .blend: ``{"file", "exit_code", "report" or "error"}`` (never raises
     for the input's faults: a worker of a batch)."""
-    from .blend_tracks import input_errors, open_blend, save_blend
+    from .blend_tracks import input_errors, named_object, open_blend, save_blend
 
     path = str(path)
     try:
         bpy = open_blend(path)
-        rig = bpy.data.objects.get(options["object"])
-        if rig is None:
-            names = ", ".join(sorted(o.name for o in bpy.data.objects)[:12])
-            raise InvalidGoalError(f"no object {options['object']!r}; objects are: {names}")
+        rig = named_object(bpy, options["object"], path)
         checks = addon_module("export_checks")
         moved = checks.snap_written_keys(rig) if options["snap_keys"] else 0
         bpy.context.view_layer.update()
@@ -66,8 +61,7 @@ def check_export_file(path, options):
     except Exception as exc:  # noqa: BLE001 - the input's fault (either copy of the core's errors), or a bug
         if not isinstance(exc, input_errors()):
             raise
-        text = str(exc)
-        return {"file": path, "exit_code": 2, "error": text if text.startswith(path) else f"{path}: {text}"}
+        return file_error(path, exc)
     if moved:
         save_blend(path)
     has_root = rig.type == "ARMATURE" and root in rig.data.bones
