@@ -85,3 +85,55 @@ def test_snap_moves_each_key_at_most_half_a_frame_and_keeps_the_moved_one():
     assert np.array_equal(kept, np.unique(np.rint(frames)))  # one key per whole frame, none lost
     # the moved (event) key wins over the whole-frame key it lands on
     assert keep[2] and not keep[1] and keep[4] and not keep[5]
+
+
+# Non-finite numbers. IEEE 754: NaN compares false with every number, so a NaN key would pass
+# every tolerance unseen; numpy.rint(inf) is inf, which no whole frame is. Each must be refused
+# with the core's InvalidGoalError, its message repeating the value.
+
+@pytest.mark.parametrize("bad", [float("inf"), float("-inf"), float("nan")])
+def test_snap_refuses_a_key_time_that_is_not_a_finite_number(bad):
+    with pytest.raises(InvalidGoalError, match=rf"value {bad!r} \(number 2 of 3\).*delete that key"):
+        snap_to_whole_frames([1.0, bad, 3.0])
+
+
+@pytest.mark.parametrize("tolerance", [float("nan"), float("inf"), -0.1])
+def test_snap_refuses_a_tolerance_that_is_not_a_frame_count(tolerance):
+    with pytest.raises(InvalidGoalError, match=f"snap tolerance .*{tolerance:g}"):
+        snap_to_whole_frames([1.0, 2.4], tolerance=tolerance)
+
+
+@pytest.mark.parametrize("bad", [float("inf"), float("nan")])
+def test_export_issues_refuse_non_finite_key_times_and_scale_keys(bad):
+    with pytest.raises(InvalidGoalError, match=rf"key times of hips: value {bad!r}"):
+        export_issues(1.0, (1, 1, 1), {"hips": [1.0, 2.0, bad]})
+    with pytest.raises(InvalidGoalError, match=rf"scale keys of bone 'tail': value {bad!r}"):
+        export_issues(1.0, (1, 1, 1), scale_keys={"tail": [1.0, bad]})
+
+
+def test_export_issues_refuse_non_finite_root_axes_and_an_up_axis_without_length():
+    m = np.eye(3)
+    m[2, 2] = float("nan")
+    with pytest.raises(InvalidGoalError, match=r"root bone 'root' axes: value nan \(number 9 of 9\)"):
+        export_issues(1.0, (1, 1, 1), root_axes=m)
+    with pytest.raises(InvalidGoalError, match=r"up axis has no length, got \(0, 0, 0\)"):
+        export_issues(1.0, (1, 1, 1), root_axes=np.eye(3), up_axis=(0, 0, 0))
+    with pytest.raises(InvalidGoalError, match="up axis: value inf"):
+        export_issues(1.0, (1, 1, 1), root_axes=np.eye(3), up_axis=(0, 0, float("inf")))
+    with pytest.raises(InvalidGoalError, match="3 x 3 matrix, got 4"):
+        export_issues(1.0, (1, 1, 1), root_axes=np.eye(2))
+
+
+def test_a_rig_scaled_to_zero_is_reported_not_passed():
+    # The root's Z axis has no length left: reported as a root_axes issue (it was skipped before).
+    found = export_issues(1.0, (0, 0, 0), root_axes=np.zeros((3, 3)))
+    assert kinds(found) == ["object_scale", "root_axes"]
+    assert "(0, 0, 0) is 0 along an axis" in found[0].message and "has no Z axis" in found[1].message
+
+
+@pytest.mark.parametrize("size", [1e300, 1e-300, 1e-310])
+def test_huge_and_tiny_root_axes_give_the_angle_scipy_gives(size):
+    # A uniform scale does not change which way the axes point; 1e-310 is subnormal (IEEE 754).
+    m = Rotation.from_euler("x", 20.0, degrees=True).as_matrix()
+    (issue,) = export_issues(1.0, (1, 1, 1), root_axes=m * size)
+    assert issue.kind == "root_axes" and "20.0°" in issue.message
