@@ -49,7 +49,7 @@ def handle_positions(frames, values, slopes):
     return left, right
 
 
-def write_curve(fcurve, frames, values, slopes=None, interpolation="BEZIER"):
+def write_curve(fcurve, frames, values, slopes=None, interpolation="BEZIER", in_place=False):
     """Replace every key of ``fcurve`` by the given keys, in one bulk write.
 
     Parameters
@@ -60,30 +60,35 @@ def write_curve(fcurve, frames, values, slopes=None, interpolation="BEZIER"):
     values : array (n,)
         Key values [channel units].
     slopes : array (n,) or None
-        Tangents [channel units / frame] for ``'BEZIER'``; None gives flat
-        handles (what ``'CONSTANT'`` and ``'LINEAR'`` keys ignore anyway).
+        Tangents [channel units / frame] for ``'BEZIER'``; None gives flat FREE
+        handles there, and Blender's automatic handles (which they ignore) on
+        ``'CONSTANT'`` and ``'LINEAR'`` keys.
     interpolation : {'BEZIER', 'LINEAR', 'CONSTANT'}
+    in_place : bool
+        When the curve already has ``n`` keys, overwrite their times, values and
+        interpolation where they are instead of making new keys (for curves that
+        only this add-on writes: other key settings are kept).
     """
     f = np.asarray(frames, dtype=float)
     v = np.asarray(values, dtype=float)
     n = f.size
-    # (frame, value) pairs and both handles in one float32 block: three views, one cast
-    block = np.empty((3, n, 2), dtype=np.float32)
-    block[0, :, 0], block[0, :, 1] = f, v
-    block[1], block[2] = handle_positions(f, v, np.zeros(n) if slopes is None else slopes)
-    codes = np.empty((3, n), dtype=np.int32)
-    codes[0] = INTERPOLATION[interpolation]
-    codes[1:] = _FREE
     points = fcurve.keyframe_points
-    if len(points):
-        points.clear()
-    points.add(n)
-    points.foreach_set("co", block[0].ravel())
-    points.foreach_set("handle_left", block[1].ravel())
-    points.foreach_set("handle_right", block[2].ravel())
-    points.foreach_set("interpolation", codes[0])
-    points.foreach_set("handle_left_type", codes[1])
-    points.foreach_set("handle_right_type", codes[2])
+    if not in_place or len(points) != n:
+        if len(points):
+            points.clear()
+        points.add(n)
+    co = np.empty((n, 2), dtype=np.float32)
+    co[:, 0], co[:, 1] = f, v
+    points.foreach_set("co", co.ravel())
+    points.foreach_set("interpolation", np.full(n, INTERPOLATION[interpolation], dtype=np.int32))
+    if slopes is not None or interpolation == "BEZIER":
+        # handles only shape Bezier segments; others keep Blender's automatic ones
+        left, right = handle_positions(f, v, np.zeros(n) if slopes is None else slopes)
+        points.foreach_set("handle_left", left.astype(np.float32).ravel())
+        points.foreach_set("handle_right", right.astype(np.float32).ravel())
+        free = np.full(n, _FREE, dtype=np.int32)
+        points.foreach_set("handle_left_type", free)
+        points.foreach_set("handle_right_type", free)
     fcurve.update()
 
 

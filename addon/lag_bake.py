@@ -20,7 +20,7 @@ from dataclasses import dataclass
 import numpy as np
 from mathutils import Euler, Quaternion
 
-from . import ownership, rig_sampling, rig_space
+from . import layer_rewrite, ownership, rig_sampling, rig_space
 from .blocking_pass import CurveSpec
 from .core.chains import BakeOptions, ChainParameters, bake_chains
 from .core.chain_presets import chain_preset
@@ -236,6 +236,8 @@ def _euler_deltas(animated, deltas, order):
 
 def apply(rig, work):
     """Replace the previous bake (if any) by ``work`` on the track ``lw:lag``."""
+    if layer_rewrite.rewrite_in_place(rig, CAPABILITY, work.specs):
+        return
     if CAPABILITY in ownership.capabilities_written(rig):
         ownership.clear(rig, CAPABILITY)
     ownership.write_layer(rig, CAPABILITY, list(work.specs))

@@ -315,3 +315,35 @@ def test_loop_bake_agrees_at_its_ends_and_a_camera_cut_restarts_from_rest():
         np.testing.assert_allclose(q, [1.0, 0.0, 0.0, 0.0], atol=1e-6)
         q = [curves[(f'pose.bones["{name}"].rotation_quaternion', i)].evaluate(12) for i in range(4)]
         assert abs(q[0]) < 1.0 - 1e-6  # swinging just before the cut
+
+
+def test_rebake_with_other_values_rewrites_the_layer_in_place_and_a_new_range_rebuilds_it():
+    # Tuning loop: bake, change the preset, bake again. The same channels over the same
+    # frames are re-written into the layer's own curves (the same F-curves, new values, the
+    # same as a first bake of that preset); another range builds the layer again. Either
+    # way un-bake gives the file back.
+    rig, _ = _jumping_rig()
+    scene = bpy.context.scene
+    before = snapshot()
+    assert _bake(rig, bones=",".join(PONY), preset="cloth") == {"FINISHED"}
+    assert _remove(rig) == {"FINISHED"}
+    assert _bake(rig, bones=",".join(PONY), preset="hair") == {"FINISHED"}
+    hair = {(fc.data_path, fc.array_index): _key_values(fc) for fc in _lag_curves(rig)}
+    assert _remove(rig) == {"FINISHED"}
+    assert _bake(rig, bones=",".join(PONY), preset="cloth") == {"FINISHED"}
+    curves = {(fc.data_path, fc.array_index): fc for fc in _lag_curves(rig)}
+    pointers = {key: fc.as_pointer() for key, fc in curves.items()}
+    cloth = {key: _key_values(fc) for key, fc in curves.items()}
+    assert _bake(rig, bones=",".join(PONY), preset="hair") == {"FINISHED"}
+    rewritten = {(fc.data_path, fc.array_index): fc for fc in _lag_curves(rig)}
+    assert {key: fc.as_pointer() for key, fc in rewritten.items()} == pointers  # written in place
+    for key, fc in rewritten.items():
+        np.testing.assert_allclose(_key_values(fc), hair[key], atol=1e-6, err_msg=str(key))
+    assert any(np.abs(cloth[key] - hair[key]).max() > 1e-3 for key in hair)  # the values did change
+    scene.frame_end -= 5
+    assert _bake(rig, bones=",".join(PONY), preset="hair") == {"FINISHED"}
+    shorter = _lag_curves(rig)
+    assert all(len(fc.keyframe_points) == scene.frame_end - scene.frame_start + 1 for fc in shorter)
+    assert _remove(rig) == {"FINISHED"}
+    scene.frame_end += 5
+    assert snapshot() == before
