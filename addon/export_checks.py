@@ -64,19 +64,24 @@ def issues(scene, rig, root_bone):
     return export_issues(**gather(scene, rig, root_bone))
 
 
-def snap_written_keys(rig):
-    """Move leapwright's keys between frames to whole frames (at most half a frame each).
+def check(scene, view_layer, rig, root_bone, snap_keys=False):
+    """Check Export (and Snap and Check): ``(keys moved, tuple of ExportIssue)``.
 
-    Only curves leapwright wrote (its groups and layers) are moved; the
-    animator's keys are theirs to move. Where a moved key lands on a key
-    already there, the moved one (the exact contact event) is kept.
-
-    Returns
-    -------
-    int
-        Keys moved.
+    Every number is checked before any key moves, so a refusal (the core's
+    ``LeapwrightError``: a NaN or inf key time, scale or axis) leaves the file
+    as it was.
     """
-    moved = 0
+    view_layer.update()  # world matrices after any change made from a script
+    found = issues(scene, rig, root_bone)
+    if not snap_keys:
+        return 0, found
+    moved = snap_written_keys(rig)
+    return moved, (issues(scene, rig, root_bone) if moved else found)
+
+
+def _planned_snaps(rig):
+    """``(fcurve, keys, new frames, keep)`` of each curve of ours with a key to move; writes nothing."""
+    out = []
     for action, ours in _actions(rig):
         for fc in compat.fcurves(action, rig):
             if not (ours or ownership.is_our_curve(fc)):
@@ -84,16 +89,36 @@ def snap_written_keys(rig):
             keys = read_keys(fc)
             co = keys["co"].reshape(-1, 2).astype(float)
             new, keep = snap_to_whole_frames(co[:, 0])
-            shift = new - co[:, 0]
-            if not np.any(np.abs(shift) > 0):
-                continue
-            moved += int(np.count_nonzero(np.abs(shift[keep]) > 0))
-            out = {}
-            for name, arr in keys.items():
-                width = arr.size // len(co)
-                a = arr.reshape(len(co), width).copy()
-                if name in ("co", "handle_left", "handle_right"):
-                    a[:, 0] += shift.astype(a.dtype)
-                out[name] = a[keep].ravel()
-            restore_keys(fc, out)
+            if np.any(np.abs(new - co[:, 0]) > 0):
+                out.append((fc, keys, new, keep))
+    return out
+
+
+def snap_written_keys(rig):
+    """Move leapwright's keys between frames to whole frames (at most half a frame each).
+
+    Only curves leapwright wrote (its groups and layers) are moved; the
+    animator's keys are theirs to move. Where a moved key lands on a key
+    already there, the moved one (the exact contact event) is kept. Every
+    curve is planned before the first is written, so a key time the core
+    refuses (NaN, inf) changes no curve at all.
+
+    Returns
+    -------
+    int
+        Keys moved.
+    """
+    moved = 0
+    for fc, keys, new, keep in _planned_snaps(rig):
+        co = keys["co"].reshape(-1, 2).astype(float)
+        shift = new - co[:, 0]
+        moved += int(np.count_nonzero(np.abs(shift[keep]) > 0))
+        out = {}
+        for name, arr in keys.items():
+            width = arr.size // len(co)
+            a = arr.reshape(len(co), width).copy()
+            if name in ("co", "handle_left", "handle_right"):
+                a[:, 0] += shift.astype(a.dtype)
+            out[name] = a[keep].ravel()
+        restore_keys(fc, out)
     return moved

@@ -8,7 +8,8 @@
 (see ``core.export_checks``) as warnings and in the panel; with ``snap_keys``
 it first moves leapwright's own keys between frames onto whole frames (each by
 at most half a frame, so take-off and touchdown stay within half a frame of
-the plan). It never changes the animator's keys.
+the plan). It never changes the animator's keys. A number the checks refuse
+(a NaN or inf key time, scale or axis) is reported as an error and moves no key.
 """
 
 import bpy
@@ -16,6 +17,7 @@ from bpy.props import BoolProperty
 
 from . import blocking_pass as bp
 from . import export_checks, jump_clips, ownership, plan_link, rig_space, root_motion
+from .core.errors import LeapwrightError
 
 #: Last check per scene pointer: (rig name, tuple of ExportIssue), for the panel.
 LAST_CHECK = {}
@@ -39,11 +41,14 @@ class LEAPWRIGHT_OT_check_export(bpy.types.Operator):
     def execute(self, context):
         rig = rig_space.chosen_rig(context)
         s = context.scene.leapwright
-        moved = export_checks.snap_written_keys(rig) if self.snap_keys else 0
-        context.view_layer.update()  # world matrices after any change made from a script
-        found = export_checks.issues(context.scene, rig, s.root_bone if s.root_motion == "ROOT_BONE" else
-                                     (s.root_bone if rig.type == "ARMATURE" and s.root_bone in rig.data.bones
-                                      else ""))
+        root = s.root_bone if s.root_motion == "ROOT_BONE" else (
+            s.root_bone if rig.type == "ARMATURE" and s.root_bone in rig.data.bones else "")
+        try:
+            moved, found = export_checks.check(context.scene, context.view_layer, rig, root, self.snap_keys)
+        except LeapwrightError as exc:  # refused before any key moved
+            LAST_CHECK.pop(context.scene.as_pointer(), None)  # an older finding no longer holds
+            self.report({"ERROR"}, f"'{rig.name}': {exc}")
+            return {"CANCELLED"}
         LAST_CHECK[context.scene.as_pointer()] = (rig.name, found)
         for issue in found:
             self.report({"WARNING"}, issue.message)

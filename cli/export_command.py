@@ -54,10 +54,8 @@ def check_export_file(path, options):
         bpy = open_blend(path)
         rig = named_object(bpy, options["object"], path)
         checks = addon_module("export_checks")
-        moved = checks.snap_written_keys(rig) if options["snap_keys"] else 0
-        bpy.context.view_layer.update()
         root = options["root_bone"] if options["root_bone"] is not None else _saved_root_bone(bpy.context.scene)
-        found = checks.issues(bpy.context.scene, rig, root)
+        moved, found = checks.check(bpy.context.scene, bpy.context.view_layer, rig, root, options["snap_keys"])
     except Exception as exc:  # noqa: BLE001 - the input's fault (either copy of the core's errors), or a bug
         if not isinstance(exc, input_errors()):
             raise
