@@ -78,14 +78,24 @@ def arm_directions(plane, angles):
     return np.cos(th) * (-plane.up) + np.sin(th) * plane.forward
 
 
+def _shortest_arc(a, b):
+    """Quaternion (w, x, y, z) turning unit ``a`` onto unit ``b`` the shortest way (not for a = -b)."""
+    q = np.concatenate([[1.0 + float(a @ b)], np.cross(a, b)])
+    return q / np.linalg.norm(q)
+
+
 def _drop_rotation(plane):
     """Quaternion (w, x, y, z) turning the rest arm onto hanging straight down (shortest arc)."""
     down = -plane.up
-    c = float(plane.rest_arm @ down)
-    if c < -1.0 + 1e-9:  # arm rests straight up: turn back down over the front, about the swing axis
-        return np.concatenate([[0.0], -plane.axis])
-    q = np.concatenate([[1.0 + c], np.cross(plane.rest_arm, down)])
-    return q / np.linalg.norm(q)
+    if float(plane.rest_arm @ down) < -1.0 + 1e-9:
+        # The arm rests (nearly) straight up, where the shortest arc has no axis: turn back down over
+        # the front, a half turn about the swing axis, then the small arc left from there to down
+        # (the half turn alone misses down by the arm's tilt, up to ~4e-5 rad inside this branch).
+        half = np.concatenate([[0.0], -plane.axis])
+        u = -plane.axis
+        turned = 2.0 * float(u @ plane.rest_arm) * u - plane.rest_arm  # a half turn about u
+        return quaternion_multiply(_shortest_arc(turned / np.linalg.norm(turned), down), half)
+    return _shortest_arc(plane.rest_arm, down)
 
 
 def swing_rotations(plane, angles, rates=None):
