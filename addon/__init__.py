@@ -104,10 +104,13 @@ segments by the bone tree, or by the rig's ``lw_body_map`` text
     Copies the map found from the bone tree into ``lw_body_map`` to edit it.
 
 ``check_jump()``
-    Samples the body bone (or the object) once per frame over the scene range,
-    in scene time, and runs the core's analysis: findings on
+    Samples what ``scene.leapwright_check.follow`` chooses (``AUTO``: the
+    whole-body COM of a rig with ``lw_body_map``, ``lw_bone_masses`` or the
+    ``lw:air`` layer, else the body bone; ``BONE``; ``BODY``) once per frame over
+    the scene range, in scene time, and runs the core's analysis: findings on
     ``scene.leapwright_check.findings`` (kind, first_frame, last_frame,
-    message, suggestion), ``implied_gravity`` and ``summary``; the measured
+    message, suggestion), ``implied_gravity`` and ``summary`` (it begins with
+    what was checked, e.g. "checked the body bone 'hips'"); the measured
     apparent weight as the animated property ``lw_weight_measured_bw`` (group
     ``lw:check``); ``lw:measured <phase>`` markers when ``add_markers`` is on.
     ``show_overlay`` draws the path with a tick per frame, the arc its timing

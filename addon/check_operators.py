@@ -1,7 +1,9 @@
 """Checking the jump on the rig: sample it in scene time, ask the core, show the findings.
 
-The check reads the body bone (or the object) once per frame over the scene's range,
-through scene time, so actions in NLA strips with offsets play as they do in the shot.
+The check reads what ``scene.leapwright_check.follow`` chooses (:mod:`checked_path`:
+the whole-body centre of mass, the body bone or the object) once per frame over the
+scene's range, through scene time, so actions in NLA strips with offsets play as they
+do in the shot.
 It writes only its own results: the findings on ``scene.leapwright_check``, the
 measured apparent weight as the animated property ``lw_weight_measured_bw`` (F-curve
 group ``lw:check``), and ``lw:measured`` markers on request.
@@ -12,7 +14,8 @@ import numpy as np
 import bpy
 from bpy.props import IntProperty
 
-from . import ownership, path_overlay, plan_link, rig_sampling, rig_space
+from . import checked_path, ownership, path_overlay, plan_link, rig_space
+from .body_com import BodyError
 from .blocking_pass import CurveSpec
 from .core.analysis import analyse_trajectory
 from .core.errors import LeapwrightError
@@ -22,19 +25,9 @@ MEASURED_PROPERTY = "lw_weight_measured_bw"
 MARKER_PREFIX = "lw:measured "
 
 
-def sample_body_path(scene, rig, bone):
-    """``(frames, points [m])`` of the body bone's head (or the object) over the scene range."""
-    frames = np.arange(scene.frame_start, scene.frame_end + 1, dtype=float)
-    m = plan_link.metres_per_unit(scene)
-    if bone:
-        matrices, _ = rig_sampling.sample_pose_world(scene, rig, frames, [bone])
-        return frames, matrices[:, 0, :3, 3] * m
-    points = np.empty((len(frames), 3))
-    with rig_sampling.quiet_evaluation(scene, rig):
-        for i, f in enumerate(frames):
-            scene.frame_set(int(f))
-            points[i] = tuple(rig.matrix_world.translation)
-    return frames, points * m
+def _table(scene):
+    air = getattr(scene, "leapwright_air", None)
+    return air.table if air is not None else "de_leva_male"
 
 
 def clear_check(scene, rig):
@@ -78,8 +71,12 @@ class LEAPWRIGHT_OT_check_jump(bpy.types.Operator):
         fps = plan_link.scene_fps(scene)
         gravity = float(np.linalg.norm(tuple(scene.gravity))) or 9.81
         try:
-            frames, points = sample_body_path(scene, rig, bone)
+            path = checked_path.checked_path(scene, rig, bone, scene.leapwright_check.follow, _table(scene))
+            frames, points = path.frames, path.points
             result = analyse_trajectory(frames, points, fps, gravity=gravity)
+        except BodyError as exc:
+            self.report({"ERROR"}, f"cannot check the whole-body COM: {exc}; or set Follow to Body bone")
+            return {"CANCELLED"}
         except LeapwrightError as exc:
             self.report({"ERROR"}, str(exc))
             return {"CANCELLED"}
@@ -103,7 +100,7 @@ class LEAPWRIGHT_OT_check_jump(bpy.types.Operator):
                 scene.timeline_markers.new(MARKER_PREFIX + p.name, frame=int(p.first_frame))
         g = result.implied_gravity_m_s2
         settings.implied_gravity = float("nan") if g is None else g
-        settings.summary = (f"{len(result.flights)} flight(s), implied g "
+        settings.summary = (f"{path.text}: {len(result.flights)} flight(s), implied g "
                             + (f"{g:.3f} m/s²" if g is not None else "none (nothing ballistic)")
                             + f", {len(result.findings)} finding(s)")
         path_overlay.remember_check(frames, points, result, fps, plan_link.metres_per_unit(scene))

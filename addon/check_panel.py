@@ -21,6 +21,7 @@ class LEAPWRIGHT_PT_check(SubPanel, bpy.types.Panel):
         row = layout.row(align=True)
         row.operator("leapwright.check_jump", icon="VIEWZOOM")
         row.operator("leapwright.clear_check", text="", icon="X")
+        layout.prop(c, "follow")
         layout.prop(c, "add_markers")
         row = layout.row(align=True)
         row.prop(c, "show_overlay")

@@ -1,14 +1,16 @@
 """What the checker keeps on the scene: ``scene.leapwright_check``.
 
-``findings`` is the list the panel shows (one row a finding, clicking goes to its
+``follow`` chooses what the check samples (:mod:`checked_path`); ``findings`` is the list the panel shows (one row a finding, clicking goes to its
 frame); ``summary`` one line on the last check; ``show_overlay`` draws the path
 overlay in every 3D viewport.
 """
 
 import bpy
-from bpy.props import BoolProperty, CollectionProperty, FloatProperty, IntProperty, PointerProperty, StringProperty
+from bpy.props import (BoolProperty, CollectionProperty, EnumProperty, FloatProperty, IntProperty, PointerProperty,
+                       StringProperty)
 
 from . import path_overlay
+from .checked_path import FOLLOW_ITEMS
 
 
 class LeapwrightFinding(bpy.types.PropertyGroup):
@@ -31,6 +33,9 @@ def _toggle_overlay(self, context):
 class LeapwrightCheckSettings(bpy.types.PropertyGroup):
     """The last check of a jump on this scene."""
 
+    follow: EnumProperty(name="Follow", items=FOLLOW_ITEMS, default="AUTO",
+                         description="What the check follows in the air: in flight only the whole-body centre of "
+                                     "mass must fall on one parabola; a bone does only while the limbs keep still")
     findings: CollectionProperty(type=LeapwrightFinding)
     active_finding: IntProperty(name="Finding", default=0)
     summary: StringProperty(name="Summary")
