@@ -28,10 +28,11 @@ def check_file(path, options):
     from .check_command import check_path, has_problems, report_dict
 
     try:
-        result, arc = check_path(path, **options)
+        result, arc, checked = check_path(path, **options)
     except LeapwrightError as exc:
         return {"file": str(path), "exit_code": 2, "error": str(exc)}
-    return {"file": str(path), "exit_code": 1 if has_problems(result, arc) else 0, "report": report_dict(result, arc)}
+    return {"file": str(path), "exit_code": 1 if has_problems(result, arc) else 0,
+            "report": report_dict(result, arc, checked)}
 
 
 def add_batch_arguments(p):

@@ -47,9 +47,14 @@ def addon_module(name):
     import importlib
 
     import core
+    import core.errors
 
     _bpy()
     sys.modules.setdefault("addon.core", core)
+    # One error module for both names: ``from .core.errors import X`` in the add-on would
+    # otherwise load a second copy whose classes miss the core's own raises (an unmappable
+    # rig's LeapwrightError then escapes body_com's BodyError wrapping).
+    sys.modules.setdefault("addon.core.errors", core.errors)
     return importlib.import_module(f"addon.{name}")
 
 
@@ -99,8 +104,16 @@ def jump_gravity(scene):
     return addon_module("plan_link").exact_gravity(value) if value is not None else STANDARD_GRAVITY
 
 
-def sample_blend_track(path, object_name, bone_name=None):
-    """World path of an object (or one of its pose bones) over the scene's frame range.
+#: ``--follow`` values of ``leapwright check`` and the add-on's Follow setting they stand for.
+FOLLOW_OPTIONS = {"auto": "AUTO", "bone": "BONE", "body": "BODY"}
+
+
+def sample_blend_track(path, object_name, bone_name=None, follow="auto", table="de_leva_male"):
+    """The path the check follows, over the scene's frame range, as the panel's Check Jump samples it.
+
+    The choice is the add-on's (``addon.checked_path``): ``auto`` follows the whole-body
+    centre of mass of a rig with a bone map, bone masses or the in-air correction layer,
+    else the bone (or the object); ``bone`` and ``body`` force one.
 
     Parameters
     ----------
@@ -108,7 +121,11 @@ def sample_blend_track(path, object_name, bone_name=None):
         The .blend file; opened read-only in this process (never saved).
     object_name : str
     bone_name : str, optional
-        A pose bone of ``object_name``; its head is sampled.
+        A pose bone of ``object_name``; its head is the body bone's path.
+    follow : str
+        ``auto``, ``bone`` or ``body`` (:data:`FOLLOW_OPTIONS`).
+    table : str
+        Segment table of the whole-body COM (``core.segment_tables.TABLES``).
 
     Returns
     -------
@@ -120,22 +137,31 @@ def sample_blend_track(path, object_name, bone_name=None):
         The scene's true rate ``fps / fps_base`` [frames/s].
     gravity : float
         |scene gravity| [m/s^2].
+    checked : dict
+        ``follows`` ("body", "bone" or "object"), ``text`` ("checked the whole-body COM
+        (map found from the bone tree)") and ``note`` (why Automatic fell back, or "").
+
+    Raises
+    ------
+    InvalidTrajectoryError
+        No such object or bone, an unknown ``follow``, or ``body`` on a rig that cannot
+        be read as a body (the add-on's message).
     """
+    if follow not in FOLLOW_OPTIONS:
+        raise InvalidTrajectoryError(f"--follow {follow!r}: choose one of {', '.join(FOLLOW_OPTIONS)}")
     bpy = open_blend(path)
     scene = bpy.context.scene
     obj = named_object(bpy, object_name, path)
-    bone = None
-    if bone_name:
-        if obj.type != "ARMATURE" or bone_name not in obj.pose.bones:
-            raise InvalidTrajectoryError(f"{path}: {object_name!r} has no pose bone {bone_name!r}; "
-                                         "give --bone with the body (COM) bone's name")
-        bone = obj.pose.bones[bone_name]
-    frames = np.arange(scene.frame_start, scene.frame_end + 1, dtype=float)
-    out = np.empty((len(frames), 3))
-    for i, f in enumerate(frames):
-        scene.frame_set(int(f))
-        m = obj.matrix_world @ bone.matrix if bone is not None else obj.matrix_world
-        out[i] = tuple(m.translation)
+    if bone_name and (obj.type != "ARMATURE" or bone_name not in obj.pose.bones):
+        raise InvalidTrajectoryError(f"{path}: {object_name!r} has no pose bone {bone_name!r}; "
+                                     "give --bone with the body (COM) bone's name")
+    choose = addon_module("checked_path")
+    try:
+        found = choose.checked_path(scene, obj, bone_name or "", FOLLOW_OPTIONS[follow], table)
+    except addon_module("body_com").BodyError as exc:
+        raise InvalidTrajectoryError(f"{path}: cannot check the whole-body COM: {exc}; "
+                                     "or give --follow bone") from None
     fps = scene.render.fps / scene.render.fps_base
     gravity = float(np.linalg.norm(tuple(scene.gravity)))
-    return frames, out * scene.unit_settings.scale_length, fps, gravity
+    checked = {"follows": found.follows, "text": found.text, "note": found.note}
+    return found.frames, found.points, fps, gravity, checked

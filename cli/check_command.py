@@ -7,6 +7,11 @@ named after body landmarks (``vertex``, ``shoulder.L``, ... see :mod:`body_arc`)
 body's joints instead: with them the whole-body centre of mass is checked in the air,
 as it is for a rig in a .blend (the panel's Check Body Arc).
 
+For a .blend the path checked is chosen as the panel's Check Jump chooses it
+(``--follow``, default ``auto``): the whole-body centre of mass of a rig with a bone
+map, bone masses or the in-air correction layer (after Keep Body on Its Arc the hips
+are rightly off a parabola while the limbs swing), else the ``--bone`` (or the object).
+
 Exit codes: 0 no problem found (stylisations may still be listed), 1 problems found,
 2 bad input (one line on stderr).
 """
@@ -48,6 +53,11 @@ def add_parser(subparsers):
                         "9.81 for a CSV as Blender's default); sign ignored")
     p.add_argument("--object", help=".blend: the object (rig) to check")
     p.add_argument("--bone", help=".blend: the body (COM) bone of --object; its head is sampled")
+    p.add_argument("--follow", choices=("auto", "bone", "body"), default="auto",
+                   help=".blend: what is checked. body: the whole-body centre of mass (in the air only it "
+                        "must fall on one parabola); bone: --bone's head, or the object without --bone; "
+                        "auto (default): body when the rig has a bone map (lw_body_map), bone masses "
+                        "(lw_bone_masses) or the in-air correction layer lw:air, else bone")
     add_batch_arguments(p)
     p.add_argument("--leg-length", action="append", default=[], metavar="NAME=METRES",
                    help="rest length of the leg ending at foot columns NAME_x,NAME_y,NAME_z")
@@ -255,24 +265,27 @@ def analyse_file(path, fps=None, gravity=None, leg_lengths=(), object_name=None,
 
 
 def check_path(path, fps=None, gravity=None, leg_lengths=(), object_name=None, bone_name=None,
-               arc_tolerance_cm=100 * ARC_TOLERANCE, body_table="de_leva_male"):
-    """Analyse one CSV or .blend: ``(analysis, body arc dict or None)``.
+               arc_tolerance_cm=100 * ARC_TOLERANCE, body_table="de_leva_male", follow="auto"):
+    """Analyse one CSV or .blend: ``(analysis, body arc dict or None, checked dict or None)``.
 
     The body arc (:mod:`body_arc`) is checked for a rig in a .blend and for a CSV with
-    landmark columns; None when there is nothing to check it on.
+    landmark columns; None when there is nothing to check it on. ``checked`` says which
+    path of a .blend was analysed (``follows``, ``text``, ``note``; see
+    :func:`blend_tracks.sample_blend_track`); None for a CSV (its own path).
     """
     path = str(path)
     if not (math.isfinite(arc_tolerance_cm) and arc_tolerance_cm >= 0):
         raise InvalidTrajectoryError(f"--arc-tolerance must be 0 cm or more, got {arc_tolerance_cm:g}")
     tolerance = arc_tolerance_cm / 100.0
-    arc = None
+    arc = checked = None
     try:
         if path.lower().endswith(".blend"):
             from .blend_tracks import sample_blend_track
 
             if not object_name:
                 raise InvalidTrajectoryError("give --object (and --bone for a rig's body bone)")
-            frames, positions, scene_fps, scene_g = sample_blend_track(path, object_name, bone_name)
+            frames, positions, scene_fps, scene_g, checked = sample_blend_track(path, object_name, bone_name,
+                                                                                follow, body_table)
             feet = []
             fps = parse_fps(fps) if fps is not None else scene_fps
             given = gravity_from(str(gravity).strip().lstrip("-")) if gravity is not None else None
@@ -290,7 +303,7 @@ def check_path(path, fps=None, gravity=None, leg_lengths=(), object_name=None, b
             landmarks = body_arc.landmark_tracks(tracks)
             if landmarks:
                 arc = body_arc.csv_body_arc(frames, landmarks, fps, gravity, tolerance, body_table)
-        return analyse_trajectory(frames, positions, fps, gravity=gravity, feet=feet), arc
+        return analyse_trajectory(frames, positions, fps, gravity=gravity, feet=feet), arc, checked
     except LeapwrightError as exc:
         text = str(exc)
         raise type(exc)(text if text.startswith(path) else f"{path}: {text}") from None
@@ -301,9 +314,12 @@ def has_problems(result, arc):
     return bool(result.has_problems or (arc is not None and arc["departures"]))
 
 
-def report_dict(result, arc):
-    """The JSON report of one file: the analysis, and ``body_arc`` when it was checked."""
+def report_dict(result, arc, checked=None):
+    """The JSON report of one file: the analysis, ``checked_path`` for a .blend, and
+    ``body_arc`` when it was checked."""
     out = to_json_dict(result)
+    if checked is not None:
+        out["checked_path"] = dict(checked)
     if arc is not None:
         out["body_arc"] = _clean(arc)
     return out
@@ -327,7 +343,7 @@ def arc_text(arc):
 def _options(args):
     return dict(fps=args.fps, gravity=args.gravity, leg_lengths=tuple(args.leg_length),
                 object_name=args.object, bone_name=args.bone, arc_tolerance_cm=args.arc_tolerance,
-                body_table=args.body_table)
+                body_table=args.body_table, follow=args.follow)
 
 
 def _run_batch(args):
@@ -345,14 +361,16 @@ def run(args):
         if is_batch(args):
             return _run_batch(args)
         path = args.files[0]
-        result, arc = check_path(path, **_options(args))
+        result, arc, checked = check_path(path, **_options(args))
         if args.chart:
             write_chart(result, args.chart, f"{path} at {result.fps:g} fps")
     except LeapwrightError as exc:
         print(f"leapwright check: {exc}", file=sys.stderr)
         return 2
     if args.json:
-        print(json.dumps(report_dict(result, arc), indent=2))
+        print(json.dumps(report_dict(result, arc, checked), indent=2))
     else:
-        print("\n".join([report_text(result, path)] + arc_text(arc)))
+        head = [f"  {checked['text']}"] if checked is not None else []
+        text = report_text(result, path).split("\n")
+        print("\n".join(text[:1] + head + text[1:] + arc_text(arc)))
     return 1 if has_problems(result, arc) else 0
