@@ -2,7 +2,8 @@
 
 A rig's rest layout (armature space) goes to the core as :class:`core.body_mass.RigData`.
 The segment map is found from the tree (``map_by_topology``: bone names are never read,
-so renamed bones map the same) unless the rig carries a map of its own in the custom
+so renamed bones map the same, and the rig's facing comes from its rest pose, so a rig
+built facing +Y or turned inside its armature maps the same) unless the rig carries a map of its own in the custom
 property :data:`MAP_PROPERTY`, or a mass per bone for creatures in
 :data:`MASS_PROPERTY`. Both are plain text the animator can edit in the panel:
 
@@ -22,6 +23,7 @@ import numpy as np
 from . import plan_link, rig_sampling
 from .core import body_mass as bm
 from .core.errors import LeapwrightError
+from .core.rig_facing import faced_rig
 from .core.segment_tables import TABLES
 
 MAP_PROPERTY = "lw_body_map"
@@ -35,8 +37,8 @@ class BodyError(Exception):
 def rig_data(rig):
     """:class:`core.body_mass.RigData` of an armature's rest pose [BU, armature space].
 
-    Armature space keeps Blender's character convention (Z up, facing -Y, left on +X),
-    whatever the object's own turn in the world.
+    Up is the armature's Z (Blender's convention); which way the character faces is
+    read from the rest pose where it matters (:func:`core.rig_facing.faced_rig`).
     """
     if rig is None or rig.type != "ARMATURE":
         what = "nothing" if rig is None else f"'{rig.name}' (a {rig.type.lower()})"
@@ -90,6 +92,21 @@ def _masses(rig_rest, text):
     return masses, groups
 
 
+def _found_landmarks(rest):
+    """Landmarks from the bone tree, the rig's facing read from its rest pose.
+
+    A rig whose symmetry or feet do not tell its facing is read in Blender's
+    convention (left on +X, facing -Y) before giving up.
+    """
+    try:
+        return faced_rig(rest)[1]
+    except LeapwrightError as facing_problem:
+        try:
+            return bm.map_by_topology(rest)
+        except LeapwrightError:
+            raise facing_problem from None
+
+
 def body_model(rig, table="de_leva_male"):
     """The rig's mass model and how it was found.
 
@@ -122,7 +139,7 @@ def body_model(rig, table="de_leva_male"):
         if isinstance(manual, str) and manual.strip():
             marks, how = bm.map_by_hand(rest, _pairs(manual)), "set by hand"
         else:
-            marks, how = bm.map_by_topology(rest), "found from the bone tree"
+            marks, how = _found_landmarks(rest), "found from the bone tree"
         return bm.mass_model(marks, table), marks, how
     except LeapwrightError as exc:
         raise BodyError(f"'{rig.name}': {exc}") from None

@@ -15,7 +15,6 @@ both pieces are laid in that plane and the elbow bends on the swing's timing
 (:mod:`core.elbow_bend`), the shoulder-to-hand line keeping the planned elevation.
 """
 
-import dataclasses
 from dataclasses import dataclass
 import math
 
@@ -27,7 +26,7 @@ from .blocking_pass import CurveSpec, Timeline
 from .core.arm_swing import SwingAmplitudes, place_swing
 from .core.elbow_bend import BentArmSwing, elbow_bend_keys, elbow_rotations
 from .core.errors import LeapwrightError
-from .core.rig_landmarks import map_by_topology
+from .core.rig_facing import faced_rig
 from .core.swing_plane import bone_local_rotations, quaternion_keys, swing_plane, swing_rotations
 
 CAPABILITY = "swing"
@@ -69,61 +68,11 @@ def bone_path(name):
     return 'pose.bones["' + name.replace("\\", "\\\\").replace('"', '\\"') + '"]'
 
 
-#: Directions tried for the character's mirror plane: every degree of a half turn (the rest
-#: shoulders then fix the line exactly).
-_MIRROR_STEPS = 180
-
-
-def _mirror_normal(rest):
-    """Unit horizontal normal (3,) of the plane the rest pose is most nearly mirrored in.
-
-    A humanoid rig is built left-right symmetric (its sagittal plane; common
-    practice for rigs), and not front-back symmetric (feet, knee targets and face
-    point forward), so the best mirror across the up axis is the character's
-    side-to-side line, one way or the other. Score: the mean distance from each
-    mirrored bone end to the nearest bone end [BU].
-    """
-    up = np.asarray(rest.up)
-    pts = np.unique(np.vstack([rest.heads, rest.tails]), axis=0)  # a child's head is its parent's tail
-    e1 = np.cross(up, [1.0, 0.0, 0.0] if abs(up[0]) < 0.9 else [0.0, 1.0, 0.0])
-    e1 /= np.linalg.norm(e1)
-    e2 = np.cross(up, e1)
-    sq = np.einsum("ij,ij->i", pts, pts)
-    best, normal = math.inf, e1
-    for a in np.linspace(0.0, math.pi, _MIRROR_STEPS, endpoint=False):
-        n = math.cos(a) * e1 + math.sin(a) * e2
-        d = pts @ n
-        mirrored = pts - 2.0 * np.outer(d - d.mean(), n)
-        gap2 = (mirrored * mirrored).sum(axis=1)[:, None] + sq[None, :] - 2.0 * mirrored @ pts.T
-        score = float(np.sqrt(np.maximum(gap2.min(axis=1), 0.0)).mean())
-        if score < best - 1e-12:
-            best, normal = score, n
-    return normal
-
-
-def _horizontal_unit(v, up):
-    h = v - (v @ up) * up
-    n = np.linalg.norm(h)
-    return h / n if n > 1e-12 else None
-
-
-def _toe_forward(rest, marks):
-    """Mean horizontal ankle-to-toe-tip direction (3,) of both feet, not normalised [BU]."""
-    up = np.asarray(rest.up)
-    out = np.zeros(3)
-    for side in "LR":
-        (ankle, _), = marks.points[f"ankle.{side}"]
-        (toe, _), = marks.points[f"toe_tip.{side}"]
-        d = rest.tails[toe] - rest.heads[ankle]
-        out += d - (d @ up) * up
-    return out
-
-
 def suggested_arms(rig):
     """``{'left': (upper arm, forearm), 'right': (...)}`` from the bone tree (names never read).
 
     No armature axis is taken as the character's side: the side-to-side line is the
-    normal of the rest pose's mirror plane (:func:`_mirror_normal`), made exact by the
+    normal of the rest pose's mirror plane (:func:`core.rig_facing.faced_rig`), made exact by the
     rest shoulders the bone tree then gives, and which end is left comes from the
     feet, which point forward (left = up x forward, right-handed).
 
@@ -133,28 +82,7 @@ def suggested_arms(rig):
     """
     name = getattr(rig, "name", rig)
     try:
-        rest = body_com.rig_data(rig)
-        up = np.asarray(rest.up)
-        side = _mirror_normal(rest)
-        # Map once across the mirror normal, then again across the found shoulders (the rest
-        # shoulders fix the line exactly), then once more if the feet say left and right are swapped.
-        for step in range(3):
-            probe = dataclasses.replace(rest, left=tuple(side))
-            marks = map_by_topology(probe)
-            if step == 0:
-                across = _horizontal_unit(rest.heads[marks.points["shoulder.L"][0][0]]
-                                          - rest.heads[marks.points["shoulder.R"][0][0]], up)
-                side = side if across is None else across
-                continue
-            forward = _toe_forward(probe, marks)
-            if np.linalg.norm(forward) < 1e-9 or abs(forward @ side) > 0.7 * np.linalg.norm(forward):
-                raise LeapwrightError(f"the feet point along the shoulders' line (ankle to toe "
-                                      f"{np.round(forward, 3).tolist()}), so the rig's front cannot be told")
-            if np.cross(up, forward) @ side > 0:
-                break
-            side = -side
-        else:
-            raise LeapwrightError("the feet and the shoulders do not agree on the character's left")
+        rest, marks = faced_rig(body_com.rig_data(rig))
     except (body_com.BodyError, LeapwrightError) as exc:
         raise SwingError(f"no arms found from the bone tree of '{name}' ({exc}); "
                          "pick the upper-arm bones by hand") from None

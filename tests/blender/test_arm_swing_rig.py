@@ -14,7 +14,7 @@ import numpy as np
 import pytest
 from mathutils import Matrix, Vector
 
-from scene_probe import file_state, first_difference
+from scene_probe import addon, file_state, first_difference
 from test_arm_swing import ARMS, FOREARMS, _events, _facing, _jump, _place
 
 
@@ -37,6 +37,18 @@ def test_find_arm_bones_on_bones_turned_inside_the_armature(turn_deg, renamed):
     bones = rig.data.bones
     across = np.array(bones[s.upper_arm_left].head_local) - np.array(bones[s.upper_arm_right].head_local)
     assert across @ left > 0.9 * np.linalg.norm(across)
+
+
+@pytest.mark.parametrize("turn_deg", [180.0, 90.0])
+def test_the_body_map_reads_a_rig_turned_inside_its_armature(turn_deg):
+    # The whole-body COM's segment map comes from the same reading of the rig's facing:
+    # a mannequin whose bones face +Y (or sideways) in the armature maps to the same joints
+    # as the one built facing -Y, so its COM is weighed the same way (de Leva 1996).
+    plain = addon().body_com.body_model(_jump()[0])[1].as_text()
+    rig, _ = _jump(turn_deg=turn_deg, applied=True)
+    _model, marks, how = addon().body_com.body_model(rig)
+    assert how == "found from the bone tree"
+    assert marks.as_text() == plain
 
 
 def test_find_arm_bones_refuses_a_rig_without_a_body_and_changes_nothing():
