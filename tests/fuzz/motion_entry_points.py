@@ -1,5 +1,6 @@
-"""Fuzzed entry points that read motion: analysis, chain dynamics, segment COM, the in-air
-correction and the path overlay, driven by planned jumps, random walks and raw wild numbers.
+"""Fuzzed entry points that read motion: analysis, chain dynamics, segment COM, the rig's
+facing and body map, the in-air correction and the path overlay, driven by planned jumps,
+random walks and raw wild numbers.
 
 Each entry is ``(name, strategy, call)`` (see :mod:`tests.fuzz.entry_points`).
 """
@@ -159,6 +160,44 @@ def _body_mass(example):
 
 
 @st.composite
+def turned_mannequins(draw):
+    """The test mannequin turned any way about any up axis, its bones jittered, some dropped."""
+    from scipy.spatial.transform import Rotation
+
+    from tests.core.test_body_mass import _BONES
+
+    seed = draw(st.integers(0, 2**31 - 1))
+    rng = np.random.default_rng(seed)
+    turn = Rotation.random(random_state=seed).as_matrix() if draw(st.booleans()) else \
+        Rotation.from_euler("z", draw(st.floats(-360.0, 360.0, **FINITE)), degrees=True).as_matrix()
+    jitter = draw(st.sampled_from([0.0, 1e-9, 1e-3, 0.02, 0.2]))
+    drop = set(draw(st.lists(st.sampled_from([b[0] for b in _BONES]), max_size=3)))
+    scale = draw(st.sampled_from([1.0, 0.01, 100.0, 1e-6]))
+    bones = []
+    for name, parent, head, tail in _BONES:
+        if name in drop:
+            continue
+        while parent in drop:  # a dropped bone's children hang from its parent
+            parent = next(b[1] for b in _BONES if b[0] == parent)
+        h, t = (scale * (turn @ np.asarray(v, float) + rng.normal(0.0, jitter, 3)) for v in (head, tail))
+        bones.append((name, parent, h, t))
+    return bones, turn @ (0.0, 0.0, 1.0)
+
+
+def _faced_body(example):
+    from core.body_mass import RigData, mass_model, whole_body_com
+    from core.rig_facing import faced_rig
+
+    bones, up = example
+    names = [b[0] for b in bones]
+    rig = RigData(names, [names.index(b[1]) if b[1] else -1 for b in bones], [b[2] for b in bones],
+                  [b[3] for b in bones], up=tuple(up))
+    rest, marks = faced_rig(rig)
+    com = whole_body_com(mass_model(marks), rest.heads[None], rest.tails[None])
+    return [np.asarray(rest.left), com]
+
+
+@st.composite
 def com_tracks(draw):
     fps = draw(st.sampled_from([24.0, 30.0, 60.0, draw(st.floats())]))
     plan = _drive_plan(draw(_drive_index))
@@ -205,6 +244,7 @@ ENTRY_POINTS = [
     ("analysis", trajectories(), _analysis),
     ("chain dynamics", chain_drives(), _chains),
     ("segment COM", bone_clouds(), _body_mass),
+    ("rig facing", turned_mannequins(), _faced_body),
     ("in-air correction", com_tracks(), _flight_correction),
     ("path overlay", overlay_inputs(), _overlay),
 ]
