@@ -69,7 +69,9 @@ class LEAPWRIGHT_OT_check_jump(bpy.types.Operator):
                                    "check; give it at least 5 frames")
             return {"CANCELLED"}
         fps = plan_link.scene_fps(scene)
-        gravity = float(np.linalg.norm(tuple(scene.gravity))) or 9.81
+        # the jump's own gravity (the panel's, as planned and corrected), not Blender's physics
+        # setting: a moon jump is right for the moon
+        gravity = plan_link.exact_gravity(scene.leapwright.gravity)
         try:
             path = checked_path.checked_path(scene, rig, bone, scene.leapwright_check.follow, _table(scene))
             frames, points = path.frames, path.points
@@ -102,7 +104,7 @@ class LEAPWRIGHT_OT_check_jump(bpy.types.Operator):
         settings.implied_gravity = float("nan") if g is None else g
         settings.summary = (f"{path.text}: {len(result.flights)} flight(s), implied g "
                             + (f"{g:.3f} m/s²" if g is not None else "none (nothing ballistic)")
-                            + f", {len(result.findings)} finding(s)")
+                            + f" against the jump's {gravity:.4g} m/s², {len(result.findings)} finding(s)")
         path_overlay.remember_check(frames, points, result, fps, plan_link.metres_per_unit(scene))
         if path_overlay.is_drawing():
             path_overlay.refresh(scene)

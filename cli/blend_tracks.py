@@ -7,7 +7,6 @@ import contextlib
 import os
 import sys
 
-import numpy as np
 
 from core.constants import STANDARD_GRAVITY
 from core.errors import InvalidTrajectoryError
@@ -93,14 +92,23 @@ def save_blend(path):
         bpy.ops.wm.save_mainfile(filepath=os.path.abspath(str(path)))
 
 
-def jump_gravity(scene):
-    """The jump panel's gravity saved in the file [m/s^2]; the add-on's default when unset.
+def saved_setting(scene, name, group="leapwright"):
+    """A panel setting the file keeps for ``scene``, or None when it was never set.
 
     The add-on is not registered in the command line's Blender, so its settings are
-    read as the plain ID properties the file keeps.
+    read as the plain ID properties the file keeps: among the ID's custom properties
+    up to Blender 4.5, in the separate storage of add-on-defined properties from 5.0
+    (``bl_system_properties_get``; ``scene.get`` no longer sees them there).
     """
-    stored = scene.get("leapwright")
-    value = stored.get("gravity") if stored is not None and hasattr(stored, "get") else None
+    system = getattr(scene, "bl_system_properties_get", None)
+    holder = system() if system is not None else scene
+    stored = holder.get(group) if holder is not None else None
+    return stored.get(name) if stored is not None and hasattr(stored, "get") else None
+
+
+def jump_gravity(scene):
+    """The jump panel's gravity saved in the file [m/s^2]; the add-on's default when unset."""
+    value = saved_setting(scene, "gravity")
     return addon_module("plan_link").exact_gravity(value) if value is not None else STANDARD_GRAVITY
 
 
@@ -136,7 +144,8 @@ def sample_blend_track(path, object_name, bone_name=None, follow="auto", table="
     fps : float
         The scene's true rate ``fps / fps_base`` [frames/s].
     gravity : float
-        |scene gravity| [m/s^2].
+        The jump panel's gravity saved in the file [m/s^2] (:func:`jump_gravity`), the
+        one the jump was planned under; Blender's physics gravity is not read.
     checked : dict
         ``follows`` ("body", "bone" or "object"), ``text`` ("checked the whole-body COM
         (map found from the bone tree)") and ``note`` (why Automatic fell back, or "").
@@ -162,6 +171,6 @@ def sample_blend_track(path, object_name, bone_name=None, follow="auto", table="
         raise InvalidTrajectoryError(f"{path}: cannot check the whole-body COM: {exc}; "
                                      "or give --follow bone") from None
     fps = scene.render.fps / scene.render.fps_base
-    gravity = float(np.linalg.norm(tuple(scene.gravity)))
+    gravity = jump_gravity(scene)
     checked = {"follows": found.follows, "text": found.text, "note": found.note}
     return found.frames, found.points, fps, gravity, checked

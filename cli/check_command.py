@@ -49,8 +49,8 @@ def add_parser(subparsers):
                    help="CSV with header frame,x,y,z (metres, z up), or .blend files (with --object)")
     p.add_argument("--fps", help="frame rate: 24, 23.976 or 24000/1001 (CSV: required; .blend: the scene's)")
     p.add_argument("--gravity", default=None,
-                   help="scene gravity [m/s^2] or earth/moon/mars (default: the .blend scene's, "
-                        "9.81 for a CSV as Blender's default); sign ignored")
+                   help="the jump's gravity [m/s^2] or earth/moon/mars (default: for a .blend the jump "
+                        "panel's gravity saved in it, for a CSV 9.81 as Blender's default); sign ignored")
     p.add_argument("--object", help=".blend: the object (rig) to check")
     p.add_argument("--bone", help=".blend: the body (COM) bone of --object; its head is sampled")
     p.add_argument("--follow", choices=("auto", "bone", "body"), default="auto",

@@ -39,8 +39,9 @@ def add_parser(subparsers):
 
 
 def _saved_root_bone(scene):
-    stored = scene.get("leapwright")
-    value = stored.get("root_bone") if stored is not None and hasattr(stored, "get") else None
+    from .blend_tracks import saved_setting
+
+    value = saved_setting(scene, "root_bone")
     return str(value) if value is not None else ROOT_DEFAULT
 
 
