@@ -2,10 +2,11 @@
 
 Animators re-bake over and over while they tune a preset. Taking the old layer
 apart (its NLA track, its action, the pushed-down user action) and building it
-again costs more than the simulation; when the new curves are the same channels
-over the same frames, only the key values change, so they are written into the
-existing F-curves. Anything else (other channels, another range, a layer that
-was edited by hand into more strips) goes the long way: clear, then write.
+again costs more than writing the keys themselves; when the new curves are the
+same channels over the same frames, only the key values change, so they are
+written into the existing F-curves. Anything else (other channels, another range,
+a layer edited by hand into more strips, or its strip moved, scaled or repeated)
+goes the long way: clear, then write.
 """
 
 import numpy as np
@@ -23,7 +24,12 @@ def _layer_action(obj, capability):
     track = ad.nla_tracks.get(ownership.group_name(capability)) if ad is not None else None
     if track is None or len(track.strips) != 1:
         return None
-    return track.strips[0].action
+    strip = track.strips[0]
+    action = strip.action
+    if action is None or strip.scale != 1.0 or strip.repeat != 1.0 \
+            or abs(strip.frame_start - action.frame_range[0]) > 1e-6:
+        return None  # the strip no longer plays the action where it was written
+    return action
 
 
 def rewrite_in_place(obj, capability, specs):

@@ -340,6 +340,11 @@ def test_rebake_with_other_values_rewrites_the_layer_in_place_and_a_new_range_re
     for key, fc in rewritten.items():
         np.testing.assert_allclose(_key_values(fc), hair[key], atol=1e-6, err_msg=str(key))
     assert any(np.abs(cloth[key] - hair[key]).max() > 1e-3 for key in hair)  # the values did change
+    track = rig.animation_data.nla_tracks["lw:lag"]
+    track.strips[0].frame_start_ui += 3  # moved by hand: the re-bake puts it back where it belongs
+    assert _bake(rig, bones=",".join(PONY), preset="hair") == {"FINISHED"}
+    strip = rig.animation_data.nla_tracks["lw:lag"].strips[0]
+    assert abs(strip.frame_start - strip.action.frame_range[0]) < 1e-6
     scene.frame_end -= 5
     assert _bake(rig, bones=",".join(PONY), preset="hair") == {"FINISHED"}
     shorter = _lag_curves(rig)
