@@ -62,3 +62,22 @@ def test_feet_that_point_sideways_are_refused_with_what_was_found():
         bones.append((n, p, h, t))
     with pytest.raises(LeapwrightError, match="feet point along the shoulders"):
         faced_rig(_rig_from(bones))
+
+
+@pytest.mark.parametrize("yaw", [0.0, 37.0, 180.0, -120.0])
+def test_a_production_size_rig_finds_its_left_from_its_probe_ends(yaw):
+    # The mannequin with 250 mirrored helper bones (face, fingers, correctives: common
+    # practice in production rigs) on the chest: the plane is scored from the ends
+    # farthest from the up axis, and still lands on the character's own left.
+    rng = np.random.default_rng(7)
+    bones = list(_BONES)
+    for i in range(125):
+        head = np.abs(rng.normal(0.0, 0.3, 3)) * (1.0, 1.0, 0.0) + (0.0, rng.normal(0.0, 0.1), 1.2)
+        tail = head + rng.normal(0.0, 0.03, 3)
+        tail[0] = abs(tail[0])
+        for side, x in (("L", 1.0), ("R", -1.0)):
+            bones.append((f"helper{i}.{side}", "chest", (x * head[0], head[1], head[2]), (x * tail[0], tail[1], tail[2])))
+    turn = Rotation.from_euler("z", yaw, degrees=True).as_matrix()
+    rest, marks = faced_rig(_rig_from(_turned(bones, turn)))
+    np.testing.assert_allclose(rest.left, turn @ (1.0, 0.0, 0.0), atol=1e-9)
+    assert marks.as_text()["shoulder.L"] == "upper_arm.L@head"
