@@ -16,8 +16,8 @@ from . import ownership
 from .key_writer import write_curve
 
 
-def _layer_action(obj, capability):
-    """The action of the capability's one-strip track, or None."""
+def _layer_track(obj, capability):
+    """The capability's track when it has one strip playing its action where it was written, or None."""
     if capability not in ownership.load_state(obj).get("layers", []):
         return None
     ad = obj.animation_data
@@ -29,7 +29,7 @@ def _layer_action(obj, capability):
     if action is None or strip.scale != 1.0 or strip.repeat != 1.0 \
             or abs(strip.frame_start - action.frame_range[0]) > 1e-6:
         return None  # the strip no longer plays the action where it was written
-    return action
+    return track
 
 
 def rewrite_in_place(obj, capability, specs):
@@ -47,9 +47,10 @@ def rewrite_in_place(obj, capability, specs):
     bool
         True when every curve was re-written in place.
     """
-    action = _layer_action(obj, capability) if specs else None
-    if action is None:
+    track = _layer_track(obj, capability) if specs else None
+    if track is None:
         return False
+    action = track.strips[0].action
     curves = {(fc.data_path, fc.array_index): fc for fc in compat.fcurves(action, obj)}
     if set(curves) != {(s.data_path, s.index) for s in specs}:
         return False
@@ -60,4 +61,5 @@ def rewrite_in_place(obj, capability, specs):
     for spec in specs:
         write_curve(curves[(spec.data_path, spec.index)], spec.frames, spec.values, spec.slopes, spec.interpolation,
                     in_place=True)
+    track.mute = False  # a bake is shown, as a rebuilt layer is
     return True
