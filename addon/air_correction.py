@@ -103,8 +103,7 @@ def ballistic_stretches(frames, com, fps, gravity):
 
 
 def _layer_track(rig):
-    ad = rig.animation_data
-    return ad.nla_tracks.get(TRACK) if ad is not None else None
+    return ownership.layer_track(rig, CAPABILITY)
 
 
 class _WithoutLayer:

@@ -80,7 +80,7 @@ def check(scene, view_layer, rig, root_bone, snap_keys=False):
 
 
 def _planned_snaps(rig):
-    """``(fcurve, keys, new frames, keep)`` of each curve of ours with a key to move; writes nothing."""
+    """``(fcurve, keys, shift [frame], keep)`` of each curve of ours with a key to move; writes nothing."""
     out = []
     for action, ours in _actions(rig):
         for fc in compat.fcurves(action, rig):
@@ -89,8 +89,9 @@ def _planned_snaps(rig):
             keys = read_keys(fc)
             co = keys["co"].reshape(-1, 2).astype(float)
             new, keep = snap_to_whole_frames(co[:, 0])
-            if np.any(np.abs(new - co[:, 0]) > 0):
-                out.append((fc, keys, new, keep))
+            shift = new - co[:, 0]
+            if np.any(np.abs(shift) > 0):
+                out.append((fc, keys, shift, keep))
     return out
 
 
@@ -109,14 +110,12 @@ def snap_written_keys(rig):
         Keys moved.
     """
     moved = 0
-    for fc, keys, new, keep in _planned_snaps(rig):
-        co = keys["co"].reshape(-1, 2).astype(float)
-        shift = new - co[:, 0]
+    for fc, keys, shift, keep in _planned_snaps(rig):
         moved += int(np.count_nonzero(np.abs(shift[keep]) > 0))
         out = {}
         for name, arr in keys.items():
-            width = arr.size // len(co)
-            a = arr.reshape(len(co), width).copy()
+            width = arr.size // len(shift)
+            a = arr.reshape(len(shift), width).copy()
             if name in ("co", "handle_left", "handle_right"):
                 a[:, 0] += shift.astype(a.dtype)
             out[name] = a[keep].ravel()

@@ -149,8 +149,7 @@ def _muted_lag(rig):
     last value, which is the layer's: those channels get the values they had
     before the layer (what :mod:`ownership` remembered for removal).
     """
-    ad = rig.animation_data
-    track = ad.nla_tracks.get(TRACK) if ad is not None else None
+    track = ownership.layer_track(rig, CAPABILITY)
     was = track.mute if track is not None else None
     if track is not None:
         track.mute = True

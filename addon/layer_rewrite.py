@@ -20,8 +20,7 @@ def _layer_track(obj, capability):
     """The capability's track when it has one strip playing its action where it was written, or None."""
     if capability not in ownership.load_state(obj).get("layers", []):
         return None
-    ad = obj.animation_data
-    track = ad.nla_tracks.get(ownership.group_name(capability)) if ad is not None else None
+    track = ownership.layer_track(obj, capability)
     if track is None or len(track.strips) != 1:
         return None
     strip = track.strips[0]

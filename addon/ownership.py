@@ -167,9 +167,10 @@ def _restore_static(obj, capability, state):
     state["static"] = kept
 
 
-def _track(obj, name):
+def layer_track(obj, capability):
+    """The NLA track ``lw:<capability>`` of ``obj``, or None."""
     ad = obj.animation_data
-    return ad.nla_tracks.get(name) if ad is not None else None
+    return ad.nla_tracks.get(group_name(capability)) if ad is not None else None
 
 
 def clear(obj, capability):
@@ -204,7 +205,7 @@ def clear(obj, capability):
 
 def _remove_layer(obj, capability, state):
     ad = obj.animation_data
-    track = _track(obj, group_name(capability))
+    track = layer_track(obj, capability)
     if track is not None:
         actions = [s.action for s in track.strips if s.action is not None]
         ad.nla_tracks.remove(track)
