@@ -7,7 +7,6 @@ import contextlib
 import os
 import sys
 
-
 from core.constants import STANDARD_GRAVITY
 from core.errors import InvalidTrajectoryError
 

@@ -232,8 +232,8 @@ def _gravity_and_turn(psi, d0, ge, al, gain, loaded):
 def _map_layout(slots):
     """Where the entries of every bone's rows go in a tree's ``[Phi + E0 | push]`` block.
 
-    Returns flat indices into (trees, n, 2, 5n) and the matching columns of the
-    per-step source ``[phi | g0 | beta]`` (each flattened per slot).
+    Returns flat indices into (trees, n, 2, 5n), the matching columns of the per-step source
+    ``[phi | g0 | beta]``, and per tree position (trees, n) its parent's and whether it has one.
     """
     trees, n = slots.trees, slots.size
     cols = 5 * n
@@ -242,13 +242,14 @@ def _map_layout(slots):
     own = (row + 2 * i + s).ravel()
     own_src = (((t * n + i) * 2 + r) * 2 + s).ravel()
     parent_pos = slots.parent_matrix.argmax(axis=-1)  # (trees, n)
-    linked = (slots.parent_matrix.sum(axis=-1) > 0)[t, i].ravel()
+    has_parent = slots.parent_matrix.sum(axis=-1) > 0
+    linked = has_parent[t, i].ravel()
     link = (row + 2 * parent_pos[t, i] + s).ravel()[linked]
     link_src = (4 * trees * n + own_src)[linked]
     t, i, r, node = np.meshgrid(np.arange(trees), np.arange(n), np.arange(2), np.arange(3), indexing="ij")
     push = (((t * n + i) * 2 + r) * cols + 2 * n + node * n + i).ravel()
     push_src = (8 * trees * n + ((t * n + i) * 3 + node) * 2 + r).ravel()
-    return np.concatenate([own, link, push]), np.concatenate([own_src, link_src, push_src]), parent_pos
+    return np.concatenate([own, link, push]), np.concatenate([own_src, link_src, push_src]), parent_pos, has_parent
 
 
 def _chain_maps(phi, beta, k, c, mu, h, slots):
@@ -271,7 +272,7 @@ def _chain_maps(phi, beta, k, c, mu, h, slots):
     g1 = b1[..., :, None] * kc[..., None, :] + bm[..., :, None] * mid_end[..., None, :]
     # [Phi + E0 | push] for every step, by one scatter of flat entries (a bone's own
     # block, its link to its parent, the force nodes' columns)
-    where, source, parent_pos = _map_layout(slots)
+    where, source, parent_pos, has_parent = _map_layout(slots)
     entries = np.concatenate([phi.reshape(steps, -1), g0.reshape(steps, -1), beta.reshape(steps, -1)], axis=1)
     x = np.zeros((steps, trees * n * 2 * 5 * n))
     x[:, where] = entries[:, source]
@@ -279,7 +280,6 @@ def _chain_maps(phi, beta, k, c, mu, h, slots):
     # (I - E1) X = [Phi + E0 | push]: E1 links a bone to its parent's end state, and
     # parents come first within a tree, so each bone adds its finished parent's rows
     g1 = g1.reshape(steps, trees, n, 2, 2)
-    has_parent = slots.parent_matrix.sum(axis=-1) > 0
     for i in range(1, n):
         t = np.nonzero(has_parent[:, i])[0]
         if t.size == 0:
