@@ -64,6 +64,8 @@ def _try_merge(t, z, a, b, tol):
     # A short fall was too short to have its touchdown end trimmed on its own.
     first, rise = _trim_inner(t, z, a.first, p0, "start")
     last, fall = _trim_inner(t, z, p1, b.last, "end")
+    if rise.gravity <= 0 or fall.gravity <= 0:
+        return None  # a trim refitted one side flat or upward: not a flight after all
     n_r, n_f = p0 - first + 1, last - p1 + 1
     rms = float(np.sqrt((rise.rms ** 2 * n_r + fall.rms ** 2 * n_f) / (n_r + n_f)))
     return Stretch(first, last, rise, fall, rms, max(rise.max_abs, fall.max_abs))
