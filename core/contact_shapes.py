@@ -87,28 +87,37 @@ _POWERS = _GRID[None, :] ** np.arange(6)[:, None]
 # First and second derivatives in s of each basis function on the grid: (6, samples).
 _D1 = (_BASIS[:, 1:] * np.arange(1, 6)) @ _POWERS[:5]
 _D2 = (_BASIS[:, 2:] * np.arange(2, 6) * np.arange(1, 5)) @ _POWERS[:4]
+# Third derivative in s at the two ends (s = 0, 1): (6, 2).
+_D3_ENDS = (_BASIS[:, 3:] * np.array([6.0, 24.0, 60.0])) @ np.array([[1.0, 1.0], [0.0, 1.0], [0.0, 1.0]])
 
 
 def _piece_samples(p0, v0, a0, p1, v1, a1, duration):
     """Speed [m/s] and acceleration [m/s^2] of a quintic piece on the unit grid."""
+    speed, acc, _ = _piece_samples_and_jerk(p0, v0, a0, p1, v1, a1, duration)
+    return speed, acc
+
+
+def _piece_samples_and_jerk(p0, v0, a0, p1, v1, a1, duration):
+    """:func:`_piece_samples` plus the jerk [m/s^3] at the piece's two ends."""
     T = duration
     weights = np.array([p0, v0 * T, a0 * T * T, p1, v1 * T, a1 * T * T])
-    return weights @ _D1 / T, weights @ _D2 / (T * T)
+    return weights @ _D1 / T, weights @ _D2 / (T * T), weights @ _D3_ENDS / T ** 3
 
 
 def _affine_samples(spec, first_duration, second_duration):
-    """Acceleration and speed samples as ``alpha + beta * a_b`` for both pieces.
+    """Acceleration and speed samples, and the end jerks, as ``alpha + beta * a_b`` for both pieces.
 
-    Returns ``[((acc_alpha, acc_beta), (speed_alpha, speed_beta)), ...]``, one per piece.
+    Returns ``[((acc_alpha, acc_beta), (speed_alpha, speed_beta), (jerk_alpha, jerk_beta)), ...]``,
+    one per piece (jerks at the piece's start and end).
     """
     s, e = spec.start, spec.end
-    v1, acc1 = _piece_samples(s.height, s.speed, s.acceleration, spec.bottom_height, 0.0, 0.0,
-                              first_duration)
-    bv1, bacc1 = _piece_samples(0, 0, 0, 0, 0, 1.0, first_duration)
-    v2, acc2 = _piece_samples(spec.bottom_height, 0.0, 0.0, e.height, e.speed, e.acceleration,
-                              second_duration)
-    bv2, bacc2 = _piece_samples(0, 0, 1.0, 0, 0, 0, second_duration)
-    return [((acc1, bacc1), (v1, bv1)), ((acc2, bacc2), (v2, bv2))]
+    v1, acc1, j1 = _piece_samples_and_jerk(s.height, s.speed, s.acceleration, spec.bottom_height, 0.0, 0.0,
+                                           first_duration)
+    bv1, bacc1, bj1 = _piece_samples_and_jerk(0, 0, 0, 0, 0, 1.0, first_duration)
+    v2, acc2, j2 = _piece_samples_and_jerk(spec.bottom_height, 0.0, 0.0, e.height, e.speed, e.acceleration,
+                                           second_duration)
+    bv2, bacc2, bj2 = _piece_samples_and_jerk(0, 0, 1.0, 0, 0, 0, second_duration)
+    return [((acc1, bacc1), (v1, bv1), (j1, bj1)), ((acc2, bacc2), (v2, bv2), (j2, bj2))]
 
 
 def _minimise_peak(alpha, beta, lo, hi):
@@ -130,12 +139,17 @@ def _feasible_interval(spec, samples):
     """Interval of ``a_b`` meeting the linear limits, or ``None`` when empty."""
     lo, hi = -np.inf, np.inf
     g = spec.gravity
-    for (acc, speed), kind in zip(samples, (spec.first_kind, spec.second_kind)):
+    for (acc, speed, jerk), kind in zip(samples, (spec.first_kind, spec.second_kind)):
         # a >= -g: the ground cannot pull. Inside the piece a small margin keeps the
         # limit between samples too; the ends may sit exactly at -g (take-off, touchdown).
         margin = np.full(acc[0].shape, g * _FORCE_MARGIN)
         margin[[0, -1]] = 0.0
         constraints = [(acc[0] + g - margin, acc[1])]
+        # An end where the force is 0 (touchdown, take-off) must have the force growing into
+        # the piece, or it dips below 0 before the first inner sample can see it.
+        for end, into in ((0, 1.0), (-1, -1.0)):
+            if abs(acc[1][end]) <= 1e-12 and abs(acc[0][end] + g) <= 1e-9 * g:
+                constraints.append((np.array([into * jerk[0][end]]), np.array([into * jerk[1][end]])))
         sign = _SPEED_SIGN[kind]
         # Speed must keep its sign strictly inside the piece (ends are 0 or given).
         inner = slice(1, -1)
