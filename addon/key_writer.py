@@ -77,10 +77,18 @@ def write_curve(fcurve, frames, values, slopes=None, interpolation="BEZIER", in_
         if len(points):
             points.clear()
         points.add(n)
+        in_place = False
     co = np.empty((n, 2), dtype=np.float32)
     co[:, 0], co[:, 1] = f, v
     points.foreach_set("co", co.ravel())
-    points.foreach_set("interpolation", np.full(n, INTERPOLATION[interpolation], dtype=np.int32))
+    wanted = np.full(n, INTERPOLATION[interpolation], dtype=np.int32)
+    if in_place:
+        # reading is cheaper than writing: a re-bake usually keeps its interpolation
+        held = np.empty(n, dtype=np.int32)
+        points.foreach_get("interpolation", held)
+        in_place = np.array_equal(held, wanted)
+    if not in_place:
+        points.foreach_set("interpolation", wanted)
     if slopes is not None or interpolation == "BEZIER":
         # handles only shape Bezier segments; others keep Blender's automatic ones
         left, right = handle_positions(f, v, np.zeros(n) if slopes is None else slopes)

@@ -25,6 +25,9 @@ import tempfile
 import time
 
 FRAMES = 250
+#: The issue's targets: at most this many times the floor, at least this many times faster than nla.bake.
+FLOOR_TARGET = 1.5
+SPEEDUP_TARGET = 6.0
 MODULE = "bl_ext.user_default.leapwright"
 
 
@@ -183,6 +186,9 @@ def main(argv=None):
         "floor_ratio": round(t_ours / t_floor, 3),
         "builtin_floor_ratio": round(t_builtin / t_floor, 3),
         "speedup_vs_builtin_bake": round(t_builtin / t_ours, 3),
+        # what the simulation may take for each target, given what the rest of this run's bake took
+        "simulation_budget_floor_target_ms": round((FLOOR_TARGET * t_floor - (t_ours - t_core)) * 1e3, 2),
+        "simulation_budget_speedup_target_ms": round((t_builtin / SPEEDUP_TARGET - (t_ours - t_core)) * 1e3, 2),
     }
     print(f"floor (250 x frame_set): {out['floor_ms']:.1f} ms")
     print(f"leapwright.bake_lag:     {out['bake_ms']:.1f} ms = {out['floor_ratio']:.2f} x floor")
@@ -191,6 +197,9 @@ def main(argv=None):
           f"key writing and operator (undo step, checks) {out['writing_and_operator_ms']:.1f} ms")
     print(f"nla.bake (same bones):   {out['builtin_bake_ms']:.1f} ms = {out['builtin_floor_ratio']:.2f} x floor; "
           f"leapwright is {out['speedup_vs_builtin_bake']:.1f} x faster")
+    print(f"left for the simulation by the rest of this bake: {out['simulation_budget_floor_target_ms']:.1f} ms at "
+          f"{FLOOR_TARGET} x floor, {out['simulation_budget_speedup_target_ms']:.1f} ms at {SPEEDUP_TARGET} x faster "
+          f"than nla.bake (it took {out['simulation_ms']:.1f} ms)")
     addon_utils.disable(MODULE, default_set=False)
     print(json.dumps(out))
     sys.stdout.flush()

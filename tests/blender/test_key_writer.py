@@ -82,3 +82,20 @@ def test_bulk_write_of_many_keys_matches_every_value():
     fc.keyframe_points.foreach_get("co", co)
     assert np.array_equal(co[1::2], values.astype(np.float32))
     assert abs(fc.evaluate(100.5) - 0.5 * (values[100] + values[101])) < 1e-6
+
+
+def test_writing_in_place_sets_the_interpolation_asked_for():
+    # A re-bake writes into its own keys; a key whose interpolation differs (edited by
+    # hand, or a bake that switched to held keys) gets the one asked for, the others stay.
+    obj, action = _empty_with_action()
+    compat, kw = addon().blender_compat, addon().key_writer
+    fc = compat.new_fcurve(action, obj, "location", 0, "lw:test")
+    frames = np.arange(1.0, 11.0)
+    kw.write_curve(fc, frames, np.zeros(10), None, "LINEAR")
+    fc.keyframe_points[4].interpolation = "BEZIER"
+    kw.write_curve(fc, frames, frames * 0.1, None, "LINEAR", in_place=True)
+    assert [k.interpolation for k in fc.keyframe_points] == ["LINEAR"] * 10
+    kw.write_curve(fc, frames, frames * 0.2, None, "CONSTANT", in_place=True)
+    assert [k.interpolation for k in fc.keyframe_points] == ["CONSTANT"] * 10
+    bpy.context.scene.frame_set(5)
+    assert abs(obj.location.x - 1.0) < 1e-6  # the new values are the ones played
