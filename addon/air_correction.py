@@ -55,6 +55,8 @@ class AirWork:
     channels : rig_space.Channels  the carrier's location channels
     metres_per_unit : float  [m/BU]
     settle_frames : int
+    takeoff_motion : list of core.flight_correction.TakeoffMotion  flights whose launch speed,
+        read at the first frame in the air, takes in a limb's own change of motion
     """
 
     rig: object
@@ -68,6 +70,7 @@ class AirWork:
     channels: object
     metres_per_unit: float
     settle_frames: int
+    takeoff_motion: tuple = ()
 
 
 def marker_stretches(scene, first, last):
@@ -213,10 +216,14 @@ def prepare(scene, rig, settings, gravity, own_layer=False):
         fix, departures = fc.check_flight(model, heads, tails, index, fps, gravity, tolerance=settings.tolerance * m,
                                           first_frame=int(frames[0]), takeoff_velocities=velocities,
                                           settle_frames=settings.settle_frames)
+        # the speed is read at each arc start (velocities above): say when a limb's own
+        # motion changes right there, since that bends the arc
+        motion = fc.takeoff_motion(model, heads, tails, index, fps, tolerance=settings.tolerance * m,
+                                   first_frame=int(frames[0]))
     except LeapwrightError as exc:
         raise AirError(str(exc)) from None
     return AirWork(rig, model, how, frames, stretches, source, fix, departures, channels, m,
-                   int(settings.settle_frames))
+                   int(settings.settle_frames), tuple(motion))
 
 
 def _key_frames(work):

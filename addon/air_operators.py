@@ -25,6 +25,7 @@ def _ready(context):
 def _remember(rig, work):
     lines = [f"{len(work.stretches)} flight(s) from {work.source}; bones {work.how}"]
     lines += [d.message for d in work.departures] or ["the centre of mass stays on its arc in every flight"]
+    lines += [t.message for t in work.takeoff_motion]
     LAST_CHECK[rig.name] = lines
 
 
@@ -54,6 +55,8 @@ class LEAPWRIGHT_OT_check_body_arc(bpy.types.Operator):
         _remember(rig, work)
         for d in work.departures:
             self.report({"WARNING"}, d.message)
+        for t in work.takeoff_motion:
+            self.report({"WARNING"}, t.message)
         if not work.departures:
             self.report({"INFO"}, f"'{rig.name}': the centre of mass stays on its arc in "
                                   f"{len(work.stretches)} flight(s)")
@@ -88,6 +91,8 @@ class LEAPWRIGHT_OT_keep_body_on_arc(bpy.types.Operator):
                               f"(frame {frame}) in {len(work.stretches)} flight(s): {n_keys} keys on "
                               f"the layer '{ac.TRACK}'; the centre of mass is now within "
                               f"{1000 * left:.2f} mm of its arc")
+        for t in work.takeoff_motion:
+            self.report({"WARNING"}, t.message)
         if left > 1e-3:
             self.report({"WARNING"}, f"the centre of mass is still {1000 * left:.1f} mm off its arc: something "
                                      f"on the rig does not follow '{work.channels.label}' (a constraint to "

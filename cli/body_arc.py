@@ -41,12 +41,13 @@ _MIDPOINTS = {"hip_mid": ("hip.L", "hip.R"), "shoulder_mid": ("shoulder.L", "sho
 STAYS_ON_ARC = "the centre of mass stays on its arc in every flight"
 
 
-def summary_lines(n_flights, source, how, departures):
+def summary_lines(n_flights, source, how, departures, takeoff_motion=()):
     """The lines the panel shows after Check Body Arc."""
-    return [f"{n_flights} flight(s) from {source}; bones {how}"] + ([d.message for d in departures] or [STAYS_ON_ARC])
+    return ([f"{n_flights} flight(s) from {source}; bones {how}"] + ([d.message for d in departures] or [STAYS_ON_ARC])
+            + [t.message for t in takeoff_motion])
 
 
-def _report(stretches, source, how, departures, tolerance_m):
+def _report(stretches, source, how, departures, tolerance_m, takeoff_motion=(), first_frame=0):
     out = []
     for d in departures:
         worst = int(np.argmax(np.linalg.norm(d.deviation, axis=1)))
@@ -58,7 +59,10 @@ def _report(stretches, source, how, departures, tolerance_m):
                     "message": d.message, "suggestion": d.suggestion})
     return {"checked": True, "flights": [list(s) for s in stretches], "flights_from": source, "bones": how,
             "tolerance_cm": 100.0 * tolerance_m, "departures": out,
-            "lines": summary_lines(len(stretches), source, how, departures)}
+            "takeoff_motion": [{"flight": [t.stretch.first + first_frame, t.stretch.last + first_frame],
+                                "speed_error_m_s": [float(v) for v in t.speed_error],
+                                "arc_shift_cm": t.arc_shift_cm, "message": t.message} for t in takeoff_motion],
+            "lines": summary_lines(len(stretches), source, how, departures, takeoff_motion)}
 
 
 def not_checked(reason):
@@ -174,5 +178,6 @@ def blend_body_arc(object_name, gravity=None, tolerance_m=fc.ARC_TOLERANCE, tabl
         work = ac.prepare(scene, rig, settings, gravity, own_layer=True)
     except ac.AirError as exc:
         return not_checked(str(exc))
-    return _report(work.stretches, work.source, work.how, _with_frames(work.departures, int(work.frames[0])),
-                   tolerance_m)
+    first = int(work.frames[0])
+    return _report(work.stretches, work.source, work.how, _with_frames(work.departures, first), tolerance_m,
+                   work.takeoff_motion, first)

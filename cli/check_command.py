@@ -337,6 +337,8 @@ def arc_text(arc):
         lines.append(f"    fix: {d['suggestion']}")
     if not arc["departures"]:
         lines.append(f"  {body_arc.STAYS_ON_ARC} (within {arc['tolerance_cm']:g} cm)")
+    for t in arc.get("takeoff_motion", ()):
+        lines.append(f"[warning] takeoff_motion {t['message']}")
     return lines
 
 

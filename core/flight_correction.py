@@ -43,6 +43,12 @@ from .timebase import MAX_FPS, MIN_FPS
 #: COM departure from the arc above which a warning is given [m] (design choice: one
 #: centimetre, a clearly visible torso drift on a human-sized character).
 ARC_TOLERANCE = 0.01
+#: Body parts whose motion is the push itself (see :func:`takeoff_motion`).
+PUSHING_PARTS = ("legs",)
+#: A part whose speed relative to the torso over the frame before the take-off is under
+#: this share of its speed over the frame after it starts moving in the air (design
+#: choice: a quarter tells a start from rest apart from a swing slowing through the take-off).
+START_RATIO = 0.25
 #: Contact frames used to read the take-off velocity (3: the shortest window giving a
 #: second-order estimate).
 TAKEOFF_FIT_FRAMES = 3
@@ -249,6 +255,92 @@ def check_flight(model, heads, tails, stretches, fps, gravity=C.STANDARD_GRAVITY
                           f"unless the limbs come back or the correction eases out (settle frames)")
         found.append(dep)
     return fix, found
+
+
+@dataclass(frozen=True, eq=False)
+class TakeoffMotion:
+    """Body parts that start or stop moving just as a flight begins, where its take-off speed is read.
+
+    Attributes
+    ----------
+    stretch : FlightStretch  the flight (``first`` is its first frame surely in the air)
+    speed_error : ndarray, shape (3,)  what the parts' change of motion adds to the speed read [m/s]
+    arc_shift_cm : float  how far that moves the arc by the flight's last frame [cm]
+    parts : dict  body part -> length of its share of ``speed_error`` [m/s]
+    message : str  for the panel and the command line
+    """
+
+    stretch: FlightStretch
+    speed_error: np.ndarray
+    arc_shift_cm: float
+    parts: dict
+    message: str
+
+
+def takeoff_motion(model, heads, tails, stretches, fps, tolerance=ARC_TOLERANCE, first_frame=0):
+    """Flights whose take-off speed, read at their first frame in the air, takes in a limb starting to move.
+
+    The add-on reads a flight's launch speed just before its first frame surely in the
+    air (``first``, a frame after the take-off), clear of the push. In the air the body's
+    own motion cannot change the COM's speed (momentum), so a limb that starts (or stops)
+    moving relative to the torso between the take-off frame ``first - 1`` and ``first``
+    puts its share of that change into the speed read, and the arc bends with it. The
+    change is each part's velocity relative to the torso over ``first - 1 .. first`` minus
+    that over ``first - 2 .. first - 1`` (backward differences), weighted by its share of
+    the mass. Only parts that *start* moving there count (their speed before is under
+    :data:`START_RATIO` of the speed after): an arm swing that slows through the take-off,
+    as a swing timed to the push does, changes its speed there too, but it is part of the
+    launch and the arc read after it is the one the flight keeps. The legs are left out:
+    they do the pushing, and their extension stopping as the feet leave is the take-off
+    itself (a planned jump's legs add about 0.8 m/s there). A report is made when the
+    change moves the arc by more than ``tolerance`` [m] by the flight's last frame.
+
+    Parameters
+    ----------
+    model : body_mass.MassModel  (needs a ``trunk`` group; none is reported without one)
+    heads, tails : array_like, shape (n_frames, n_bones, 3)  posed bone positions [m]
+    stretches : sequence of FlightStretch or (first, last)  frame indices
+    fps : float  [1/s]
+    tolerance : float  [m]
+    first_frame : int  timeline frame number of index 0, used in messages
+
+    Returns
+    -------
+    list of TakeoffMotion
+    """
+    tol = require_finite("tolerance", tolerance, non_negative=True, unit=" m")
+    rate = require_finite("fps", fps, positive=True, unit=" frames/s")
+    parts = group_coms(model, heads, tails)
+    if "trunk" not in parts:
+        return []
+    trunk = parts["trunk"][1]
+    found = []
+    for s in _stretches(stretches, len(trunk), 1, False):
+        if s.first < 2:
+            continue  # no contact frames before it to compare with
+        shares = {}
+        for name, (share, track) in parts.items():
+            if name not in ("trunk",) + PUSHING_PARTS:
+                rel = track[s.first - 2:s.first + 1] - trunk[s.first - 2:s.first + 1]
+                before, after = rel[1] - rel[0], rel[2] - rel[1]
+                if np.linalg.norm(before) < START_RATIO * np.linalg.norm(after):
+                    shares[name] = share * rate * (after - before)
+        if not shares:
+            continue
+        error = sum(shares.values())
+        shift = float(np.linalg.norm(error)) * (s.last - s.first) / rate
+        if shift <= tol:
+            continue
+        names = sorted(shares, key=lambda n: -np.linalg.norm(shares[n]))
+        movers = [n for n in names if np.linalg.norm(shares[n]) >= 0.1 * np.linalg.norm(error)] or names[:1]
+        text = (f"the {', '.join(movers)} start moving relative to the torso between the take-off "
+                f"(frame {s.first - 1 + first_frame}) and the first frame in the air ({s.first + first_frame}), "
+                f"where the take-off speed is read: that adds {np.linalg.norm(error):.2f} m/s to it and can move "
+                f"the arc by {100 * shift:.1f} cm by frame {s.last + first_frame}; start the move during the push "
+                f"or a frame later in the air, or check the corrected arc")
+        found.append(TakeoffMotion(s, error, 100.0 * shift, {n: float(np.linalg.norm(v)) for n, v in shares.items()},
+                                   text[0].upper() + text[1:]))
+    return found
 
 
 def _departure(s, frames, dev, drop, rise, limb_drop, shares, first_frame):

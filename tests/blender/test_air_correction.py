@@ -48,7 +48,7 @@ def _enable():
         addon_utils.enable(MODULE, default_set=True)
 
 
-def _jump(arm_raise=True):
+def _jump(arm_raise=True, raise_keys=ARM_RAISE):
     """The demo mannequin with the written jump and (optionally) a late arm raise in the air."""
     objs = mannequin.build_demo_scene()  # starts a new file, which disables the add-on
     _enable()
@@ -63,7 +63,7 @@ def _jump(arm_raise=True):
     if arm_raise:
         for side in "LR":
             pb = rig.pose.bones[f"upper_arm.{side}"]
-            for frame, deg in ARM_RAISE:
+            for frame, deg in raise_keys:
                 pb.rotation_quaternion = Quaternion((1.0, 0.0, 0.0), math.radians(deg))
                 pb.keyframe_insert("rotation_quaternion", frame=frame)
             pb.rotation_quaternion = (1.0, 0.0, 0.0, 0.0)
@@ -166,6 +166,46 @@ def test_check_reports_the_flight_frames_and_the_torso_drop_then_nothing_after_t
     assert _keep(rig) == {"FINISHED"}
     assert bpy.ops.leapwright.check_body_arc() == {"FINISHED"}
     assert addon().air_operators.LAST_CHECK[rig.name][1:] == ["the centre of mass stays on its arc in every flight"]
+
+
+def raise_at_takeoff():
+    """The written jump with the arms, still until the take-off frame, raised from there."""
+    rig, scene = _jump(arm_raise=False)
+    takeoff = _flight(scene)[0] - 1
+    for side in "LR":
+        pb = rig.pose.bones[f"upper_arm.{side}"]
+        for frame, deg in ((takeoff, 0.0), (takeoff + 5, 150.0)):
+            pb.rotation_quaternion = Quaternion((1.0, 0.0, 0.0), math.radians(deg))
+            pb.keyframe_insert("rotation_quaternion", frame=frame)
+        pb.rotation_quaternion = (1.0, 0.0, 0.0, 0.0)
+    return rig, scene
+
+
+def test_an_arm_raise_started_at_the_take_off_is_named_with_the_speed_it_adds():
+    # The launch speed is read at the first frame surely in the air; arms that start
+    # rising at the take-off frame put their share of their change of speed into it
+    # (momentum: limbs cannot change the COM's speed in the air). Expected by hand from
+    # de Leva 1996 (Table 4, male) part COMs: sum of share * fps * (second difference of
+    # the part's COM relative to the trunk's) over the take-off frame and its neighbours.
+    rig, scene = raise_at_takeoff()
+    first, _ = _flight(scene)
+    fps = scene.render.fps / scene.render.fps_base
+    _, parts, _, _ = _coms(rig, np.arange(first - 2, first + 1))
+    trunk = parts["trunk"][1]
+    # the legs' own change at take-off (the push ending) is the take-off itself: left out
+    expected = sum(share * fps * ((c - trunk)[2] - 2 * (c - trunk)[1] + (c - trunk)[0])
+                   for g, (share, c) in parts.items() if g not in ("trunk", "legs"))
+    bpy.context.view_layer.objects.active = rig
+    assert bpy.ops.leapwright.check_body_arc() == {"FINISHED"}
+    lines = addon().air_operators.LAST_CHECK[rig.name]
+    (said,) = [line for line in lines if "where the take-off speed is read" in line]
+    assert said.startswith("The arms start moving") and f"first frame in the air ({first})" in said
+    work = addon().air_correction.prepare(scene, rig, scene.leapwright_air, G, own_layer=True)
+    (motion,) = work.takeoff_motion
+    np.testing.assert_allclose(motion.speed_error, expected, rtol=0.02, atol=1e-3)
+    assert np.linalg.norm(expected) > 0.1  # a real change, not noise
+    assert _keep(rig) == {"FINISHED"}
+    assert said in addon().air_operators.LAST_CHECK[rig.name]  # the correction says it too
 
 
 def test_renaming_every_bone_keeps_the_map_and_the_correction():

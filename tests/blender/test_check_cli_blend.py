@@ -19,7 +19,7 @@ import numpy as np
 import pytest
 
 from scene_probe import addon
-from test_air_correction import _coms, _jump
+from test_air_correction import _coms, _jump, raise_at_takeoff
 
 REPO = os.path.abspath(os.path.join(os.path.dirname(__file__), "..", ".."))
 
@@ -72,3 +72,17 @@ def test_without_the_raise_the_cli_finds_the_body_on_its_arc(tmp_path):
     arc = json.loads(out.stdout)["body_arc"]
     assert arc["checked"] and arc["departures"] == [], arc
     assert np.isclose(arc["tolerance_cm"], 1.0)
+
+
+def test_cli_names_arms_that_start_moving_at_the_take_off_as_the_panel_does(tmp_path):
+    rig, _scene = raise_at_takeoff()
+    bpy.context.view_layer.objects.active = rig
+    assert bpy.ops.leapwright.check_body_arc() == {"FINISHED"}
+    said = [line for line in addon().air_operators.LAST_CHECK[rig.name] if "take-off speed is read" in line]
+    path = str(tmp_path / "arms_at_takeoff.blend")
+    bpy.ops.wm.save_as_mainfile(filepath=path, copy=True)
+    arc = json.loads(_cli("check", path, "--object", rig.name, "--json").stdout)["body_arc"]
+    assert [t["message"] for t in arc["takeoff_motion"]] == said and len(said) == 1
+    assert np.linalg.norm(arc["takeoff_motion"][0]["speed_error_m_s"]) > 0.1  # a real change, not noise
+    text = _cli("check", path, "--object", rig.name).stdout
+    assert f"[warning] takeoff_motion {said[0]}" in text

@@ -10,7 +10,7 @@ from hypothesis import given, settings, strategies as st
 
 from core import body_mass as bm
 from core.errors import InvalidGoalError, InvalidTrajectoryError
-from core.flight_correction import FlightStretch, check_flight, correct_flight, takeoff_velocity
+from core.flight_correction import FlightStretch, check_flight, correct_flight, takeoff_motion, takeoff_velocity
 
 _spec = importlib.util.spec_from_file_location("mannequin_rig", pathlib.Path(__file__).with_name("test_body_mass.py"))
 rig = importlib.util.module_from_spec(_spec)
@@ -110,6 +110,43 @@ def test_hips_keyed_off_the_arc_are_told_apart_from_limbs():
     np.testing.assert_allclose(fix.offsets[TAKEOFF:LAST + 1, 2], -bump[TAKEOFF:LAST + 1], atol=1e-9)
     assert all(np.abs(v).max() < 1e-9 for v in dep.limb_drop_cm.values())
     assert "torso itself is keyed +3.0 cm off the arc" in dep.message
+
+
+def test_an_arm_swing_started_at_the_take_off_is_reported_with_its_share_of_the_speed():
+    # The add-on reads the launch speed at the first frame surely in the air (take-off + 1).
+    # Arms still through contact that start swinging at the take-off frame put their share
+    # of their own change of speed into that reading (momentum: in the air the limbs cannot
+    # change the COM's speed). By hand: the arms' COM sits d from the shoulder (de Leva
+    # 1996), each arm turns by ang, so its height relative to the torso is d sin(ang).
+    model = bm.mass_model(bm.map_by_topology(rig.mannequin()), "de_leva_male")
+    heads, tails = rig.pose(root_track(), arm_angles(start=TAKEOFF, end=TAKEOFF + 6))
+    first = TAKEOFF + 1
+    (found,) = takeoff_motion(model, heads, tails, [(first, LAST)], FPS, tolerance=0.01, first_frame=1)
+    d, m_arms = arm_com_from_shoulder()
+    z = d * np.sin(arm_angles(start=TAKEOFF, end=TAKEOFF + 6))
+    expected = m_arms * FPS * (z[first] - 2 * z[first - 1] + z[first - 2])
+    assert math.isclose(found.speed_error[2], expected, rel_tol=0.02)
+    assert abs(found.speed_error[0]) < 1e-9  # the two arms' sideways motions cancel
+    assert math.isclose(found.arc_shift_cm, 100 * abs(found.speed_error[2]) * (LAST - first) / FPS, rel_tol=1e-9)
+    assert found.message.startswith("The arms start moving") and f"frame {TAKEOFF + 1})" in found.message
+    assert found.stretch == FlightStretch(first, LAST)
+
+
+def test_limbs_moving_later_in_the_air_steadily_or_slowing_through_the_take_off_are_not_reported(take):
+    # The usual late raise starts 3 frames into the flight: the reading is clean.
+    model, heads, tails = take
+    assert takeoff_motion(model, heads, tails, [(TAKEOFF + 1, LAST)], FPS) == []
+    still = rig.pose(root_track(), np.full(N, -0.4))
+    assert takeoff_motion(model, *still, [(TAKEOFF + 1, LAST)], FPS) == []
+    # A swing already under way in contact that carries on at the same pace is part of the
+    # launch (no change of speed between the two frames).
+    steady = rig.pose(root_track(), 0.05 * (np.arange(N) - TAKEOFF))
+    assert takeoff_motion(model, *steady, [(TAKEOFF + 1, LAST)], FPS) == []
+    # A swing timed to the push peaks at the take-off and slows through it (common
+    # practice): its change of speed is part of the launch, so it is not reported, though
+    # it is as large as the start from rest above.
+    peaked = rig.pose(root_track(), 0.9 - 0.08 * (np.arange(N) - TAKEOFF) ** 2)
+    assert takeoff_motion(model, *peaked, [(TAKEOFF + 1, LAST)], FPS) == []
 
 
 def test_take_off_velocity_is_exact_for_constant_acceleration_and_has_the_taylor_error():
