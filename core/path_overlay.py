@@ -37,10 +37,16 @@ def spacing_ticks(points, up=(0.0, 0.0, 1.0), length=0.03):
     # Where the path stands still or runs along `up`, the tick lies level instead.
     level = np.cross(up, [1.0, 0.0, 0.0] if abs(up[0]) < 0.9 else [0.0, 1.0, 0.0])
     level /= np.linalg.norm(level)
-    tangent = np.gradient(p, axis=0)
+    # Only the direction of travel matters: scaled to the path's extent and then per
+    # sample, so no difference or cross product overflows or underflows, whatever the unit.
+    span = float(np.max(np.abs(p))) or 1.0
+    tangent = np.gradient(p / span, axis=0)
+    scale = np.max(np.abs(tangent), axis=1, keepdims=True)
+    moving = scale > 0.0
+    tangent = tangent / np.where(moving, scale, 1.0)
     across = np.cross(np.cross(tangent, up), tangent)
     size = np.linalg.norm(across, axis=1, keepdims=True)
-    ok = size > 1e-12 * np.maximum(np.linalg.norm(tangent, axis=1, keepdims=True) ** 2, 1e-300)
+    ok = moving & (size > 1e-12)  # |tangent| >= 1 where moving
     across = np.where(ok, across / np.where(ok, size, 1.0), level)
     half = 0.5 * length * across
     return np.stack([p - half, p + half], axis=1)
