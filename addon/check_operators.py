@@ -77,7 +77,7 @@ class LEAPWRIGHT_OT_check_jump(bpy.types.Operator):
             frames, points = path.frames, path.points
             result = analyse_trajectory(frames, points, fps, gravity=gravity)
         except BodyError as exc:
-            self.report({"ERROR"}, f"cannot check the whole-body COM: {exc}; or set Follow to Body bone")
+            self.report({"ERROR"}, checked_path.body_refusal(exc, "set Follow to Body bone"))
             return {"CANCELLED"}
         except LeapwrightError as exc:
             self.report({"ERROR"}, str(exc))

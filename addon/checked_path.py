@@ -110,6 +110,11 @@ def _label(how):
     return "the whole-body COM (" + (how if how == "per-bone masses" else f"map {how}") + ")"
 
 
+def body_refusal(exc, instead):
+    """The message for a whole-body COM that cannot be read: the reason, then ``instead`` (what to do)."""
+    return f"cannot check the whole-body COM: {exc}; or {instead}"
+
+
 def checked_path(scene, rig, bone, follow="AUTO", table="de_leva_male"):
     """Sample what the check follows over the scene range (writes nothing).
 

@@ -167,8 +167,7 @@ def sample_blend_track(path, object_name, bone_name=None, follow="auto", table="
     try:
         found = choose.checked_path(scene, obj, bone_name or "", FOLLOW_OPTIONS[follow], table)
     except addon_module("body_com").BodyError as exc:
-        raise InvalidTrajectoryError(f"{path}: cannot check the whole-body COM: {exc}; "
-                                     "or give --follow bone") from None
+        raise InvalidTrajectoryError(f"{path}: {choose.body_refusal(exc, 'give --follow bone')}") from None
     fps = scene.render.fps / scene.render.fps_base
     gravity = jump_gravity(scene)
     checked = {"follows": found.follows, "text": found.text, "note": found.note}
