@@ -1,5 +1,5 @@
 """Fuzzed entry points that read motion: analysis, chain dynamics, segment COM, the rig's
-facing and body map, the in-air correction and the path overlay, driven by planned jumps,
+facing and body map, the in-air correction, the body arc check and the path overlay, driven by planned jumps,
 random walks and raw wild numbers.
 
 Each entry is ``(name, strategy, call)`` (see :mod:`tests.fuzz.entry_points`).
@@ -221,6 +221,42 @@ def _flight_correction(example):
 
 
 @st.composite
+def posed_flights(draw):
+    """The test mannequin carried along a planned (or still) root track with its arms
+    swinging at random, and a flight stretch, frame rate and tolerance to check."""
+    from tests.core.test_body_mass import pose
+
+    plan = _drive_plan(draw(_drive_index))
+    root = _track_of(plan, 24.0)[1] if plan is not None else np.zeros((30, 3))
+    n = len(root)
+    rng = np.random.default_rng(draw(st.integers(0, 2**31 - 1)))
+    step = draw(st.sampled_from([0.0, 0.05, 0.5, 3.0]))
+    arms = np.cumsum(rng.normal(0.0, step, n)) if step else np.zeros(n)
+    heads, tails = pose(root, arms)
+    if n >= 4 and draw(st.integers(0, 3)):  # mostly a stretch inside the track, so the checks run
+        first = draw(st.integers(2, n - 2))
+        last = draw(st.integers(first + 1, n - 1))
+    else:
+        first, last = draw(st.integers(-2, n + 2)), draw(st.integers(-2, n + 2))
+    fps = draw(st.sampled_from([24.0, 30.0, 60.0, 24.0, draw(st.floats())]))
+    tolerance = draw(st.sampled_from([0.01, 0.0, 0.05, draw(st.floats())]))
+    return heads, tails, [(first, last)], fps, tolerance
+
+
+def _body_arc(example):
+    from core import body_mass as bm
+    from core.flight_correction import check_flight, takeoff_motion
+    from tests.core.test_body_mass import mannequin
+
+    heads, tails, stretches, fps, tolerance = example
+    model = bm.mass_model(bm.map_by_topology(mannequin()))
+    fix, found = check_flight(model, heads, tails, stretches, fps, tolerance=tolerance)
+    moving = takeoff_motion(model, heads, tails, stretches, fps, tolerance=tolerance)
+    return ([fix.offsets, fix.velocities] + [d.deviation for d in found]
+            + [m.speed_error for m in moving] + [m.arc_shift_cm for m in moving])
+
+
+@st.composite
 def overlay_inputs(draw):
     """A track (see :func:`trajectories`) and a tick length [m] for the viewport's path overlay."""
     frames, xyz, fps = draw(trajectories())
@@ -246,5 +282,6 @@ ENTRY_POINTS = [
     ("segment COM", bone_clouds(), _body_mass),
     ("rig facing", turned_mannequins(), _faced_body),
     ("in-air correction", com_tracks(), _flight_correction),
+    ("body arc check", posed_flights(), _body_arc),
     ("path overlay", overlay_inputs(), _overlay),
 ]
