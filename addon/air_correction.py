@@ -56,7 +56,7 @@ class AirWork:
     metres_per_unit : float  [m/BU]
     settle_frames : int
     takeoff_motion : list of core.flight_correction.TakeoffMotion  flights whose launch speed,
-        read at the first frame in the air, takes in a limb's own change of motion
+        read at the first frame in the air, takes in a limb starting to move
     """
 
     rig: object
@@ -216,8 +216,8 @@ def prepare(scene, rig, settings, gravity, own_layer=False):
         fix, departures = fc.check_flight(model, heads, tails, index, fps, gravity, tolerance=settings.tolerance * m,
                                           first_frame=int(frames[0]), takeoff_velocities=velocities,
                                           settle_frames=settings.settle_frames)
-        # the speed is read at each arc start (velocities above): say when a limb's own
-        # motion changes right there, since that bends the arc
+        # the speed is read at each arc start (velocities above): say when a limb starts
+        # moving right there, since that bends the arc
         motion = fc.takeoff_motion(model, heads, tails, index, fps, tolerance=settings.tolerance * m,
                                    first_frame=int(frames[0]))
     except LeapwrightError as exc:

@@ -82,12 +82,13 @@ def write_curve(fcurve, frames, values, slopes=None, interpolation="BEZIER", in_
     co[:, 0], co[:, 1] = f, v
     points.foreach_set("co", co.ravel())
     wanted = np.full(n, INTERPOLATION[interpolation], dtype=np.int32)
+    already = False
     if in_place:
         # reading is cheaper than writing: a re-bake usually keeps its interpolation
         held = np.empty(n, dtype=np.int32)
         points.foreach_get("interpolation", held)
-        in_place = np.array_equal(held, wanted)
-    if not in_place:
+        already = np.array_equal(held, wanted)
+    if not already:
         points.foreach_set("interpolation", wanted)
     if slopes is not None or interpolation == "BEZIER":
         # handles only shape Bezier segments; others keep Blender's automatic ones

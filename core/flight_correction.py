@@ -259,12 +259,12 @@ def check_flight(model, heads, tails, stretches, fps, gravity=C.STANDARD_GRAVITY
 
 @dataclass(frozen=True, eq=False)
 class TakeoffMotion:
-    """Body parts that start or stop moving just as a flight begins, where its take-off speed is read.
+    """Body parts that start moving just as a flight begins, where its take-off speed is read.
 
     Attributes
     ----------
     stretch : FlightStretch  the flight (``first`` is its first frame surely in the air)
-    speed_error : ndarray, shape (3,)  what the parts' change of motion adds to the speed read [m/s]
+    speed_error : ndarray, shape (3,)  what the parts' start adds to the speed read [m/s]
     arc_shift_cm : float  how far that moves the arc by the flight's last frame [cm]
     parts : dict  body part -> length of its share of ``speed_error`` [m/s]
     message : str  for the panel and the command line
@@ -282,8 +282,8 @@ def takeoff_motion(model, heads, tails, stretches, fps, tolerance=ARC_TOLERANCE,
 
     The add-on reads a flight's launch speed just before its first frame surely in the
     air (``first``, a frame after the take-off), clear of the push. In the air the body's
-    own motion cannot change the COM's speed (momentum), so a limb that starts (or stops)
-    moving relative to the torso between the take-off frame ``first - 1`` and ``first``
+    own motion cannot change the COM's speed (momentum), so a limb that starts moving
+    relative to the torso between the take-off frame ``first - 1`` and ``first``
     puts its share of that change into the speed read, and the arc bends with it. The
     change is each part's velocity relative to the torso over ``first - 1 .. first`` minus
     that over ``first - 2 .. first - 1`` (backward differences), weighted by its share of
@@ -328,18 +328,19 @@ def takeoff_motion(model, heads, tails, stretches, fps, tolerance=ARC_TOLERANCE,
         if not shares:
             continue
         error = sum(shares.values())
-        shift = float(np.linalg.norm(error)) * (s.last - s.first) / rate
+        speed = float(np.linalg.norm(error))
+        shift = speed * (s.last - s.first) / rate
         if shift <= tol:
             continue
-        names = sorted(shares, key=lambda n: -np.linalg.norm(shares[n]))
-        movers = [n for n in names if np.linalg.norm(shares[n]) >= 0.1 * np.linalg.norm(error)] or names[:1]
+        sizes = {n: float(np.linalg.norm(v)) for n, v in shares.items()}
+        names = sorted(sizes, key=lambda n: -sizes[n])
+        movers = [n for n in names if sizes[n] >= 0.1 * speed] or names[:1]
         text = (f"the {', '.join(movers)} start moving relative to the torso between the take-off "
                 f"(frame {s.first - 1 + first_frame}) and the first frame in the air ({s.first + first_frame}), "
-                f"where the take-off speed is read: that adds {np.linalg.norm(error):.2f} m/s to it and can move "
+                f"where the take-off speed is read: that adds {speed:.2f} m/s to it and can move "
                 f"the arc by {100 * shift:.1f} cm by frame {s.last + first_frame}; start the move during the push "
                 f"or a frame later in the air, or check the corrected arc")
-        found.append(TakeoffMotion(s, error, 100.0 * shift, {n: float(np.linalg.norm(v)) for n, v in shares.items()},
-                                   text[0].upper() + text[1:]))
+        found.append(TakeoffMotion(s, error, 100.0 * shift, sizes, text[0].upper() + text[1:]))
     return found
 
 
