@@ -48,7 +48,17 @@ def _enable():
         addon_utils.enable(MODULE, default_set=True)
 
 
-def _jump(arm_raise=True, raise_keys=ARM_RAISE):
+def _key_arm_raise(rig, keys):
+    """Both upper arms keyed through ``keys`` ((frame, degrees about the bone's X), ...)."""
+    for side in "LR":
+        pb = rig.pose.bones[f"upper_arm.{side}"]
+        for frame, deg in keys:
+            pb.rotation_quaternion = Quaternion((1.0, 0.0, 0.0), math.radians(deg))
+            pb.keyframe_insert("rotation_quaternion", frame=frame)
+        pb.rotation_quaternion = (1.0, 0.0, 0.0, 0.0)
+
+
+def _jump(arm_raise=True):
     """The demo mannequin with the written jump and (optionally) a late arm raise in the air."""
     objs = mannequin.build_demo_scene()  # starts a new file, which disables the add-on
     _enable()
@@ -61,12 +71,7 @@ def _jump(arm_raise=True, raise_keys=ARM_RAISE):
     assert bpy.ops.leapwright.write_blocking() == {"FINISHED"}
     scene.frame_start, scene.frame_end = 1, LAST_FRAME
     if arm_raise:
-        for side in "LR":
-            pb = rig.pose.bones[f"upper_arm.{side}"]
-            for frame, deg in raise_keys:
-                pb.rotation_quaternion = Quaternion((1.0, 0.0, 0.0), math.radians(deg))
-                pb.keyframe_insert("rotation_quaternion", frame=frame)
-            pb.rotation_quaternion = (1.0, 0.0, 0.0, 0.0)
+        _key_arm_raise(rig, ARM_RAISE)
     return rig, scene
 
 
@@ -172,12 +177,7 @@ def raise_at_takeoff():
     """The written jump with the arms, still until the take-off frame, raised from there."""
     rig, scene = _jump(arm_raise=False)
     takeoff = _flight(scene)[0] - 1
-    for side in "LR":
-        pb = rig.pose.bones[f"upper_arm.{side}"]
-        for frame, deg in ((takeoff, 0.0), (takeoff + 5, 150.0)):
-            pb.rotation_quaternion = Quaternion((1.0, 0.0, 0.0), math.radians(deg))
-            pb.keyframe_insert("rotation_quaternion", frame=frame)
-        pb.rotation_quaternion = (1.0, 0.0, 0.0, 0.0)
+    _key_arm_raise(rig, ((takeoff, 0.0), (takeoff + 5, 150.0)))
     return rig, scene
 
 
