@@ -6,7 +6,7 @@ sidebar (N), tab "Leapwright".
 
 Scripting reference
 -------------------
-Settings live on the scene, ``scene.leapwright`` (lengths in scene units, shown
+Settings live on the scene, ``scene.leapwright_plan`` (lengths in scene units, shown
 in the scene's unit system; metres = value × ``unit_settings.scale_length``)::
 
     goal                 'HEIGHT' | 'FLIGHT_TIME' | 'TAKEOFF_SPEED'
@@ -30,46 +30,46 @@ in the scene's unit system; metres = value × ``unit_settings.scale_length``)::
     key_style            'POSES' | 'SPLINE' | 'EVERY_FRAME'
     start_frame          frame of the plan's time 0 (start of weighing)
 
-Operators (``bpy.ops.leapwright.*``; the rig is ``scene.leapwright.rig``, or
+Operators (``bpy.ops.leapwright.*``; the rig is ``scene.leapwright_plan.rig``, or
 the active object when that is empty):
 
-``write_blocking(on_conflict='ASK'|'REPLACE'|'LAYER')``
+``write_plan(on_conflict='ASK'|'REPLACE'|'LAYER')``
     Plans the jump with the core and writes, at the scene's ``fps / fps_base``:
     the body bone's (or object's) location curves and the foot controllers'
-    location curves in the rig's active action, group ``lw:blocking`` (the
+    location curves in the rig's active action, group ``lw:plan`` (the
     action and animation data are made if missing); ``lw_weight_bw`` (a custom
     property on the rig, animated: ground force in body weights, 0 in the air);
     scene timeline markers ``lw:<phase>`` at each phase start (``lw:flight 2``
     for hops). Re-running replaces what the previous run wrote. If the
     animator already keys one of those channels: 'ASK' writes nothing and
     warns (in the UI a dialog offers the choice); 'REPLACE' writes over those
-    keys (saved, and restored by ``remove_written``); 'LAYER' leaves them
-    untouched and writes the jump as offsets on the NLA track ``lw:blocking``
+    keys (saved, and restored by ``remove_plan``); 'LAYER' leaves them
+    untouched and writes the jump as offsets on the NLA track ``lw:plan``
     (blend COMBINE), pushing the active action into the track
     ``lw:your animation`` while the layer exists. Without a clash every mode
     writes into the action. Bad input is reported as an error (a RuntimeError
     from ``bpy.ops``) and changes nothing. Markers are per scene: a run
     replaces every ``lw:`` marker. The body's base is its pose before
     leapwright first animated it, so re-runs from any frame do not stack.
-``remove_written()``
+``remove_plan()``
     Removes every curve, layer, marker and ``lw_`` property leapwright wrote on
     the rig and restores replaced keys and the pushed action exactly.
 ``use_active_bone()``
     Sets ``rig`` to the active armature and ``com_bone`` to its active bone.
 
-``bake_lag(bones='', preset='SETTINGS'|'hair'|'cloth'|'tail'|'heavy prop'|'custom')``
+``bake_follow_through(bones='', preset='SETTINGS'|'hair'|'cloth'|'tail'|'heavy prop'|'custom')``
     Drag and follow-through on the chosen bones (the active armature): the
-    named bones (comma-separated), else ``scene.leapwright_lag``'s choice
+    named bones (comma-separated), else ``scene.leapwright_follow_through``'s choice
     (selected pose bones, or a bone collection). The rig is sampled once per
     frame in scene time, the chains simulated, and each bone's rotation delta
     keyed in its own rotation mode (quaternion or Euler; axis-angle is refused)
-    on the NLA track ``lw:lag`` (blend COMBINE, above your keys, which stay
+    on the NLA track ``lw:follow_through`` (blend COMBINE, above your keys, which stay
     untouched). Re-baking replaces the previous bake. Peak offsets [deg] go to
-    ``scene.leapwright_lag.readout`` (JSON).
-``remove_lag()``
+    ``scene.leapwright_follow_through.readout`` (JSON).
+``remove_follow_through()``
     Removes the bake and restores the bones and animation data exactly.
 
-Follow-through settings, ``scene.leapwright_lag``::
+Follow-through settings, ``scene.leapwright_follow_through``::
 
     source            'SELECTED' | 'COLLECTION'; collection  bone collection name
     preset            'hair' | 'cloth' | 'tail' | 'heavy prop' | 'custom'
@@ -80,7 +80,7 @@ Follow-through settings, ``scene.leapwright_lag``::
     reset_marker      markers whose name contains it restart the chains
                       (camera-switch markers always do)
 
-In the air (settings ``scene.leapwright_air``: ``table`` 'de_leva_male' |
+In the air (settings ``scene.leapwright_body``: ``table`` 'de_leva_male' |
 'de_leva_female' | 'dempster_winter'; ``flights`` 'AUTO' | 'MARKERS' |
 'BALLISTIC'; ``carrier_bone`` ("" = the bone every body bone hangs from, or the
 object); ``tolerance`` [scene length]; ``settle_frames``). Bones map to body
@@ -96,17 +96,17 @@ segments by the bone tree, or by the rig's ``lw_body_map`` text
 ``keep_body_on_arc()``
     Offsets the carrier so the centre of mass follows, in each flight (the
     ``lw:flight`` markers, or its own free-fall stretches), the arc fixed at
-    take-off, limbs as animated; written as deltas on the NLA track ``lw:air``
+    take-off, limbs as animated; written as deltas on the NLA track ``lw:body``
     (blend COMBINE). Re-running replaces it. Reports the largest correction.
-``remove_arc_fix()``
-    Removes the ``lw:air`` layer and restores the file as it was.
+``remove_body_arc()``
+    Removes the ``lw:body`` layer and restores the file as it was.
 ``edit_body_map()``
     Copies the map found from the bone tree into ``lw_body_map`` to edit it.
 
 ``check_jump()``
     Samples what ``scene.leapwright_check.follow`` chooses (``AUTO``: the
     whole-body COM of a rig with ``lw_body_map``, ``lw_bone_masses`` or the
-    ``lw:air`` layer, else the body bone; ``BONE``; ``BODY``) once per frame over
+    ``lw:body`` layer, else the body bone; ``BONE``; ``BODY``) once per frame over
     the scene range, in scene time, and runs the core's analysis: findings on
     ``scene.leapwright_check.findings`` (kind, first_frame, last_frame,
     message, suggestion), ``implied_gravity`` and ``summary`` (it begins with
@@ -123,7 +123,7 @@ segments by the bone tree, or by the rig's ``lw_body_map`` text
     jump split into ``<rig>-leap-start`` / ``-air`` / ``-land`` actions per hop
     (``<rig>-leap<k>-start`` ... for hop k >= 2).
 
-Arm swing (settings ``scene.leapwright_swing``: ``upper_arm_left``/``_right``,
+Arm swing (settings ``scene.leapwright_arms``: ``upper_arm_left``/``_right``,
 ``forearm_left``/``_right`` bone names; ``backswing``, ``upswing`` (elevation at
 take-off), ``landing_reach``, ``flight`` (with ``use_flight_pose``), ``forearm_bend`` [rad];
 ``upswing_start_share``; ``on_conflict`` 'ASK' | 'REPLACE'; ``contact_from``
@@ -140,7 +140,7 @@ side view comes from the rest shoulders (left) and the armature's Z (up):
     swing timed to the plan: back in the dip, up through the push to peak at
     take-off, reach at touchdown; chosen forearms are laid in the swing plane,
     bent by ``forearm_bend`` at the bottom of the backswing and straight at
-    take-off. Group ``lw:swing`` in the active action; re-running replaces it.
+    take-off. Group ``lw:arms`` in the active action; re-running replaces it.
 ``check_arm_swing()``
     Reads the arms' evaluated motion and the contact (``lw:`` markers, the body
     bone's free fall, or the foot heights) and warns of a swing peaking after
@@ -150,40 +150,56 @@ side view comes from the rest shoulders (left) and the armature's Z (up):
     kept; in the active action or your own NLA strip, whose offset, scale and
     repeat are mapped) with a monotone time warp so the upswing fills the push
     and peaks at take-off; first keeps the action as ``lw:before <action>``, which
-    ``remove_written`` / ``remove_arm_swing()`` write back byte for byte.
+    ``remove_plan`` / ``remove_arm_swing()`` write back byte for byte.
 
 Bookkeeping for removal is kept in the rig's ``lw_state`` custom property.
 """
 
-import bpy
+from importlib import import_module
 
-from . import air_operators, air_panel, air_settings, check_operators, check_panel, check_settings
-from . import lag_operators, lag_panel, lag_settings, operators, panel, plan_link, settings
-from . import swing_operators, swing_panel, swing_settings
+# One package per capability, registered in this order: the plan's panel is the parent of every
+# sub-panel, and sub-panels show in the order they register. Each part is a module of the package.
+CAPABILITIES = (
+    ("plan", ("settings", "operators", "panel")),
+    ("export", ("operators", "panel")),
+    ("follow_through", ("settings", "operators", "panel")),
+    ("body", ("settings", "operators", "panel")),
+    ("check", ("settings", "operators", "panel")),
+    ("arms", ("settings", "operators", "panel")),
+)
 
-classes = (settings.classes + lag_settings.classes + operators.classes + lag_operators.classes + panel.classes
-           + lag_panel.classes)
-classes += air_settings.classes + air_operators.classes + air_panel.classes
-classes += check_settings.classes + check_operators.classes + check_panel.classes
-classes += swing_settings.classes + swing_operators.classes + swing_panel.classes
+
+def _parts():
+    """The capability modules that hold classes, in registration order (imported here, not at module
+    import, so ``leapwright.core`` imports without Blender)."""
+    return [import_module(f".{cap}.{part}", __name__) for cap, parts in CAPABILITIES for part in parts]
+
+
+def all_classes():
+    """Every class the add-on registers, in registration order."""
+    return tuple(cls for module in _parts() for cls in module.classes)
 
 
 def register():
-    for cls in classes:
-        bpy.utils.register_class(cls)
-    settings.register_properties()
-    lag_settings.register_properties()
-    air_settings.register_properties()
-    check_settings.register_properties()
-    swing_settings.register_properties()
+    import bpy
+
+    parts = _parts()
+    for module in parts:
+        for cls in module.classes:
+            bpy.utils.register_class(cls)
+    for module in parts:
+        if hasattr(module, "register_properties"):
+            module.register_properties()
 
 
 def unregister():
-    swing_settings.unregister_properties()
-    check_settings.unregister_properties()
-    air_settings.unregister_properties()
-    lag_settings.unregister_properties()
-    settings.unregister_properties()
-    for cls in reversed(classes):
-        bpy.utils.unregister_class(cls)
-    plan_link.clear_cache()
+    import bpy
+
+    parts = _parts()
+    for module in reversed(parts):
+        if hasattr(module, "unregister_properties"):
+            module.unregister_properties()
+    for module in reversed(parts):
+        for cls in reversed(module.classes):
+            bpy.utils.unregister_class(cls)
+    import_module(".plan.link", __name__).clear_cache()

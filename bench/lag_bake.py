@@ -5,7 +5,7 @@ and two four-bone straps) bobs and twists for 250 frames; the 30 hair bones
 are baked. Timed, in one process:
 
 * the floor: 250 × ``scene.frame_set`` on the same scene, same visibility;
-* ``bpy.ops.leapwright.bake_lag`` (the real operator: sampling, simulation and
+* ``bpy.ops.leapwright.bake_follow_through`` (the real operator: sampling, simulation and
   key writing);
 * ``bpy.ops.nla.bake`` of the same 30 bones, rotation only, visual keying.
 
@@ -113,13 +113,13 @@ def _parts(addon, scene, rig, hair, repeats):
     sampled = {}
 
     def sample():
-        sampled["m"] = addon.rig_sampling.sample_pose_world(scene, rig, frames, hair)[0]
+        sampled["m"] = addon.rig.sampling.sample_pose_world(scene, rig, frames, hair)[0]
 
     t_sampling = best_of(repeats, sample)
     m = sampled["m"]
-    parents = addon.rig_sampling.bone_rest_data(rig, hair)[1]
-    preset = addon.core.chain_presets.chain_preset("hair")
-    t_core = best_of(repeats, lambda: addon.core.chains.bake_chains(frames / 24.0, m[:, :, :3, 3], m[:, :, :3, :3],
+    parents = addon.rig.sampling.bone_rest_data(rig, hair)[1]
+    preset = addon.core.follow_through.presets.chain_preset("hair")
+    t_core = best_of(repeats, lambda: addon.core.follow_through.chains.bake_chains(frames / 24.0, m[:, :, :3, 3], m[:, :, :3, :3],
                                                                     parents, preset))
     return t_sampling, t_core
 
@@ -151,10 +151,10 @@ def main(argv=None):
     t_floor = best_of(args.repeats, floor)
 
     def ours():
-        assert bpy.ops.leapwright.bake_lag(bones=",".join(hair), preset="hair") == {"FINISHED"}
+        assert bpy.ops.leapwright.bake_follow_through(bones=",".join(hair), preset="hair") == {"FINISHED"}
 
     t_ours = best_of(args.repeats, ours)
-    assert bpy.ops.leapwright.remove_lag() == {"FINISHED"}
+    assert bpy.ops.leapwright.remove_follow_through() == {"FINISHED"}
     t_sampling, t_core = _parts(sys.modules[MODULE], scene, rig, hair, args.repeats)
 
     bpy.ops.object.mode_set(mode="POSE")
@@ -191,7 +191,7 @@ def main(argv=None):
         "simulation_budget_speedup_target_ms": round((t_builtin / SPEEDUP_TARGET - (t_ours - t_core)) * 1e3, 2),
     }
     print(f"floor (250 x frame_set): {out['floor_ms']:.1f} ms")
-    print(f"leapwright.bake_lag:     {out['bake_ms']:.1f} ms = {out['floor_ratio']:.2f} x floor")
+    print(f"leapwright.bake_follow_through:     {out['bake_ms']:.1f} ms = {out['floor_ratio']:.2f} x floor")
     print(f"  of which sampling {out['sampling_ms']:.1f} ms ({out['sampling_floor_ratio']:.2f} x floor: no bake "
           f"that samples every frame goes below it), chain simulation (core) {out['simulation_ms']:.1f} ms, "
           f"key writing and operator (undo step, checks) {out['writing_and_operator_ms']:.1f} ms")

@@ -2,7 +2,7 @@
 
 ``lag_pass(demo)`` is a pass of ``run_demo.py``: it bakes the ponytail and the
 skirt flaps with the extension's *Bake Follow-Through*
-(``bpy.ops.leapwright.bake_lag``) over the scene range and reports the panel's
+(``bpy.ops.leapwright.bake_follow_through``) over the scene range and reports the panel's
 readout (largest swing per bone). Run as a script::
 
     .venv/bin/python blend_examples/demo_lag.py --strip blend_examples/out/jump_demo.blend --out docs
@@ -31,7 +31,7 @@ HERE = os.path.dirname(os.path.abspath(__file__))
 #: The preset the demo bakes with. Hair (1.5 Hz, zeta 0.25, sag 20 deg) on the tilted
 #: ponytail floats it and drops it past standing within 0.1 s of touchdown.
 PRESET = "hair"
-TRACK = "lw:lag"
+TRACK = "lw:follow_through"
 STATE_PROPERTY = "lw_state"
 #: The bones that trail, as the mannequin names them: the ponytail, then each skirt flap.
 SKIRT_FLAPS = ("front", "back", "left", "right")
@@ -50,14 +50,14 @@ def lag_pass(demo):
     """Bake the ponytail and the skirt with the extension and report the readout."""
     import bpy
 
-    from run_demo import _operator_call  # here: run_demo imports this module
+    from demo_session import operator_call
 
     scene, rig = demo.scene, demo.objects["rig"]
-    s = scene.leapwright_lag
+    s = scene.leapwright_follow_through
     s.preset = PRESET
     s.use_scene_range = True
     bones = lag_bones()
-    _operator_call(bpy.ops.leapwright.bake_lag, rig, bones=",".join(bones), preset="SETTINGS")
+    operator_call(bpy.ops.leapwright.bake_follow_through, rig, bones=",".join(bones), preset="SETTINGS")
     peaks = json.loads(s.readout)
     import mannequin
 
@@ -97,7 +97,7 @@ def _without_layer(rig, track):
     back the ones the extension remembered from before it (its state property, JSON)."""
     track.mute = True
     for rec in json.loads(rig.get(STATE_PROPERTY, "{}")).get("static", []):
-        if rec["capability"] == "lag":
+        if rec["capability"] == "follow_through":
             rig.path_resolve(rec["path"])[rec["index"]] = rec["value"]
 
 
@@ -112,7 +112,7 @@ def probe(blend):
     _without_layer(rig, track)
     animated = _angles_from_down(scene, rig, names, frames)
     track.mute = False
-    from core.chain_presets import chain_preset  # the repository's core: the preset's published sag
+    from leapwright.core.follow_through.presets import chain_preset  # the repository's core: the preset's published sag
 
     print("LAG " + json.dumps({"fps": scene.render.fps / scene.render.fps_base, "frames": frames.tolist(),
                                "bones": names, "baked_deg": baked.tolist(), "animated_deg": animated.tolist(),

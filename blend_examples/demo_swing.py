@@ -36,14 +36,14 @@ FOREARMS = ("forearm.L", "forearm.R")
 
 
 def _call(op, rig, **props):
-    from run_demo import _operator_call  # here: run_demo imports this module
+    from demo_session import operator_call
 
-    _operator_call(op, rig, **props)
+    operator_call(op, rig, **props)
 
 
 def _lines(rig):
     addon = sys.modules["bl_ext.user_default.leapwright"]
-    return [text for text, _icon in addon.swing_operators.LAST.get(rig.name, [])]
+    return [text for text, _icon in addon.arms.operators.LAST.get(rig.name, [])]
 
 
 def swing_pass(demo):
@@ -51,7 +51,7 @@ def swing_pass(demo):
     import bpy
 
     rig = demo.objects["rig"]
-    s = demo.scene.leapwright_swing
+    s = demo.scene.leapwright_arms
     s.upper_arm_left, s.upper_arm_right = ARMS
     s.forearm_left, s.forearm_right = FOREARMS
     # Arms lowered only 10 deg through the flight into the reach for landing: limbs that
@@ -168,16 +168,16 @@ def before_after(out_dir, zip_path):
     import bpy
 
     import mannequin
-    import run_demo
+    import demo_session
 
-    objects = mannequin.build_demo_scene(fps=run_demo.FPS)
-    run_demo.install_extension(zip_path)
-    demo = run_demo.Demo(bpy.context.scene, objects)
-    print(run_demo.blocking_pass(demo), flush=True)
+    objects = mannequin.build_demo_scene(fps=demo_session.FPS)
+    demo_session.install_extension(zip_path)
+    demo = demo_session.Demo(bpy.context.scene, objects)
+    print(demo_session.blocking_pass(demo), flush=True)
     scene, rig = demo.scene, objects["rig"]
     key_late_swing(scene, rig)
     frames, before = _track(scene, rig)
-    s = scene.leapwright_swing
+    s = scene.leapwright_arms
     s.upper_arm_left, s.upper_arm_right = ARMS
     _call(bpy.ops.leapwright.retime_arm_swing, rig)
     moved = _lines(rig)[0].split(";")[0]
@@ -218,9 +218,9 @@ def main(argv=None):
         else:
             if not args.zip or not os.path.isfile(args.zip):
                 raise SystemExit(f"no such zip: {args.zip}; run `make build` first")
-            import run_demo
+            import demo_session
 
-            run_demo._private_user_dirs(tempfile.mkdtemp(prefix="lw-swing-user-"))
+            demo_session.private_user_dirs(tempfile.mkdtemp(prefix="lw-swing-user-"))
             path = before_after(os.path.abspath(args.out), os.path.abspath(args.zip))
             print(f"wrote {path} ({os.path.getsize(path) // 1024} kB)")
 
@@ -228,9 +228,9 @@ def main(argv=None):
         import addon_utils
         import bpy
 
-        if run_demo_module := sys.modules.get("run_demo"):
-            if run_demo_module.MODULE in bpy.context.preferences.addons:
-                addon_utils.disable(run_demo_module.MODULE, default_set=False)
+        if session := sys.modules.get("demo_session"):
+            if session.MODULE in bpy.context.preferences.addons:
+                addon_utils.disable(session.MODULE, default_set=False)
 
     run_and_exit("demo_swing", body, cleanup)
 

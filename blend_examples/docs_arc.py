@@ -20,7 +20,7 @@ import numpy as np
 from mathutils import Quaternion
 
 from docs_scene import FPS
-from run_demo import JUMP_DISTANCE as DISTANCE, JUMP_HEIGHT as HEIGHT  # the demo's jump [m]
+from demo_session import JUMP_DISTANCE as DISTANCE, JUMP_HEIGHT as HEIGHT  # the demo's jump [m]
 
 #: The arm swing keyed in the air: (fraction of the flight from take-off, degrees about the
 #: upper arm's X): up late in the rise, down again by the last frame in the air.
@@ -121,29 +121,29 @@ def draw_chart(path, curves, arc, flight, raise_keys, report, caption):
 def arc_pictures(addon, docs, log):
     """``body_arc_before_after.png`` in ``docs``; the reports and figures go to ``log``."""
     from docs_scene import captured_output, demo_scene, report_lines
-    from run_demo import _operator_call
+    from demo_session import operator_call
 
     scene, o, s = demo_scene(HEIGHT)
     rig = o["rig"]
     s.distance, s.landing_height, s.key_style = DISTANCE, o["crate_top"], "SPLINE"
-    _operator_call(bpy.ops.leapwright.write_blocking, rig)
+    operator_call(bpy.ops.leapwright.write_plan, rig)
     scene.frame_start = 1
     scene.frame_end = int(round(rig.animation_data.action.frame_range[1])) + 6
     takeoff, touchdown = flight_markers(scene)
     raise_keys = key_arm_swing(rig, takeoff, touchdown)
 
-    gravity = addon.plan_link.exact_gravity(s.gravity)
-    model = addon.body_com.body_model(rig, scene.leapwright_air.table)[0]
+    gravity = addon.blender.scene_units.exact_gravity(s.gravity)
+    model = addon.body.com.body_model(rig, scene.leapwright_body.table)[0]
     frames = np.arange(scene.frame_start * SUBSTEPS, scene.frame_end * SUBSTEPS + 1) / SUBSTEPS
-    before = addon.body_com.whole_body_com(scene, rig, model, frames)
-    work = addon.air_correction.prepare(scene, rig, scene.leapwright_air, gravity)
+    before = addon.body.com.whole_body_com(scene, rig, model, frames)
+    work = addon.body.arc.prepare(scene, rig, scene.leapwright_body, gravity)
     printed = []
     with captured_output(printed):
-        _operator_call(bpy.ops.leapwright.check_body_arc, rig)
-        _operator_call(bpy.ops.leapwright.keep_body_on_arc, rig)
+        operator_call(bpy.ops.leapwright.check_body_arc, rig)
+        operator_call(bpy.ops.leapwright.keep_body_on_arc, rig)
     reports = report_lines(printed)
     log += [f"air: {line}" for line in reports]
-    after = addon.body_com.whole_body_com(scene, rig, model, frames)
+    after = addon.body.com.whole_body_com(scene, rig, model, frames)
     (first, last), arc = work.stretches[0], work.fix.arcs[0]
     arc_frames = np.arange(first, last + 1, dtype=float)
     whole = np.isclose(frames, np.round(frames)) & (frames >= first) & (frames <= last)

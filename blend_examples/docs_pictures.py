@@ -4,7 +4,7 @@ Usage::
 
     .venv/bin/python blend_examples/docs_pictures.py --zip dist/leapwright-0.1.0.zip --docs docs
 
-Installs the zip the way a user would (``run_demo.install_extension``, in a
+Installs the zip the way a user would (``demo_session.install_extension``, in a
 throw-away Blender user directory), then on the demo mannequin:
 
 - ``check_readout.png``: a jump keyed by hand in slow motion, checked with
@@ -29,7 +29,7 @@ import time
 
 import numpy as np
 
-from run_demo import JUMP_DISTANCE as DISTANCE, JUMP_HEIGHT as PANEL_HEIGHT  # the panel's goals [m]
+from demo_session import JUMP_DISTANCE as DISTANCE, JUMP_HEIGHT as PANEL_HEIGHT  # the panel's goals [m]
 
 HERE = os.path.dirname(os.path.abspath(__file__))
 
@@ -63,10 +63,10 @@ def key_take(rig, core, goals, sample_fps, body_bone, feet, tuck=0.1):
     -------
     int  the number of frames keyed (from frame 1)
     """
-    plan = core.planner.plan_jump(goals)
+    plan = core.plan.planner.plan_jump(goals)
     t = np.arange(int(np.floor(plan.duration_s * sample_fps)) + 1) / sample_fps
     forward, up = -1.0 * plan.forward(t), plan.height(t)  # the mannequin faces -Y
-    ball_forward, ball_up = core.feet.foot_ball_path(plan, t, tuck=tuck)
+    ball_forward, ball_up = core.plan.feet.foot_ball_path(plan, t, tuck=tuck)
     body = rig.pose.bones[body_bone]
     rest = rig.data.bones[body_bone].head_local
     for i in range(len(t)):
@@ -91,12 +91,12 @@ def check_pictures(addon, docs, work_dir, log):
     import docs_overlay as dov
     import docs_readout as dr
     from docs_scene import FPS, captured_output, demo_scene, report_lines
-    from run_demo import _operator_call
+    from demo_session import operator_call
 
     scene, o, s = demo_scene(PANEL_HEIGHT)
     s.distance, s.landing_height = DISTANCE, o["crate_top"]
     rig, core = o["rig"], addon.core
-    goals = core.goals.JumpGoals(height=TAKE_HEIGHT, distance=DISTANCE, landing_height=o["crate_top"],
+    goals = core.plan.goals.JumpGoals(height=TAKE_HEIGHT, distance=DISTANCE, landing_height=o["crate_top"],
                                  standing_com_height=o["standing_com_height"])
     n = key_take(rig, core, goals, TAKE_SAMPLE_FPS, o["body_bone"], o["foot_controllers"])
     scene.frame_start, scene.frame_end = 1, n
@@ -106,7 +106,7 @@ def check_pictures(addon, docs, work_dir, log):
     c.show_overlay = True  # starts the draw handler, as the checkbox does
     printed = []
     with captured_output(printed):
-        _operator_call(bpy.ops.leapwright.check_jump, rig)
+        operator_call(bpy.ops.leapwright.check_jump, rig)
     log += [f"check_jump: {line}" for line in report_lines(printed)]
     root = dr.record_panel(bpy.types.LEAPWRIGHT_PT_check, bpy.context)
     log += [f"panel: {t}" for t in dr.panel_text(root)]
@@ -117,7 +117,7 @@ def check_pictures(addon, docs, work_dir, log):
     readout = dr.draw_readout(root, bpy.types.LEAPWRIGHT_PT_check.bl_label, note,
                               os.path.join(docs, "check_readout.png"))
 
-    geometry = addon.path_overlay.overlay_geometry(scene)
+    geometry = addon.check.overlay.overlay_geometry(scene)
     frame = c.findings[0].first_frame if len(c.findings) else scene.frame_start  # the take-off
     scene.render.resolution_x, scene.render.resolution_y = OVERLAY_SIZE
     scene.frame_set(frame)
@@ -140,23 +140,23 @@ def check_pictures(addon, docs, work_dir, log):
 @contextlib.contextmanager
 def extension_installed(zip_path):
     """Blender with the zip installed and enabled, in a throw-away user directory; yields the add-on."""
-    import run_demo
+    import demo_session
 
     if not os.path.isfile(zip_path):
         raise SystemExit(f"no such zip: {zip_path}; run `make build` first")
     user_root = tempfile.mkdtemp(prefix="lw-docs-user-")
-    run_demo._private_user_dirs(user_root)  # before the first ``import bpy``
+    demo_session.private_user_dirs(user_root)  # before the first ``import bpy``
     import bpy
     import addon_utils
 
     try:
         bpy.ops.wm.read_factory_settings(use_empty=True)  # then install: a new file disables add-ons
-        run_demo.install_extension(zip_path)
-        yield sys.modules[run_demo.MODULE]
+        demo_session.install_extension(zip_path)
+        yield sys.modules[demo_session.MODULE]
     finally:
         # A process that exits with add-on classes registered can crash or hang.
-        if run_demo.MODULE in bpy.context.preferences.addons:
-            addon_utils.disable(run_demo.MODULE, default_set=False)
+        if demo_session.MODULE in bpy.context.preferences.addons:
+            addon_utils.disable(demo_session.MODULE, default_set=False)
         shutil.rmtree(user_root, ignore_errors=True)
 
 

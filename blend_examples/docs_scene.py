@@ -10,7 +10,7 @@ import tempfile
 import bpy
 
 import mannequin
-from run_demo import MODULE
+from demo_session import MODULE
 
 FPS = 24
 
@@ -34,12 +34,12 @@ def demo_scene(height):
     Returns
     -------
     (scene, objects, settings)  ``objects`` as ``mannequin.build_demo_scene`` returns them,
-    ``settings`` the panel's ``scene.leapwright``
+    ``settings`` the panel's ``scene.leapwright_plan``
     """
     o = mannequin.build_demo_scene(fps=FPS)
     enable_extension()
     scene = bpy.context.scene
-    s = scene.leapwright
+    s = scene.leapwright_plan
     s.rig, s.com_bone = o["rig"], o["body_bone"]
     s.foot_left, s.foot_right = o["foot_controllers"]
     s.standing_com_height = o["standing_com_height"]

@@ -13,7 +13,7 @@ import pathlib
 import sys
 from concurrent.futures import ProcessPoolExecutor
 
-from core.errors import InvalidGoalError, LeapwrightError
+from leapwright.core.base.errors import InvalidGoalError, LeapwrightError
 
 
 def file_error(path, exc):
@@ -21,18 +21,6 @@ def file_error(path, exc):
     the message naming the file once."""
     path, text = str(path), str(exc)
     return {"file": path, "exit_code": 2, "error": text if text.startswith(path) else f"{path}: {text}"}
-
-
-def check_file(path, options):
-    """Check one file; returns ``{"file", "exit_code", "report" or "error"}`` (never raises)."""
-    from .check_command import check_path, has_problems, report_dict
-
-    try:
-        result, arc, checked = check_path(path, **options)
-    except LeapwrightError as exc:
-        return {"file": str(path), "exit_code": 2, "error": str(exc)}
-    return {"file": str(path), "exit_code": 1 if has_problems(result, arc) else 0,
-            "report": report_dict(result, arc, checked)}
 
 
 def add_batch_arguments(p):
@@ -71,7 +59,7 @@ def run_files(worker, paths, options, jobs=None, scheduler=None):
     """``worker(path, options)`` for every path in parallel; results in the order of ``paths``.
 
     ``worker`` is a module-level function returning ``{"file", "exit_code", ...}``
-    (``check_file``, ``bake_command.bake_file``), so that it pickles to other processes.
+    (``check.check_file``, ``follow_through.bake_file``), so that it pickles to other processes.
     """
     paths = [str(p) for p in paths]
     if scheduler:
@@ -86,11 +74,6 @@ def run_files(worker, paths, options, jobs=None, scheduler=None):
     # One task per worker process: each .blend gets a fresh Blender state.
     with ProcessPoolExecutor(max_workers=jobs, max_tasks_per_child=1) as pool:
         return list(pool.map(worker, paths, [options] * len(paths)))
-
-
-def check_files(paths, options, jobs=None, scheduler=None):
-    """Check ``paths`` in parallel; results in the order of ``paths``."""
-    return run_files(check_file, paths, options, jobs, scheduler)
 
 
 def report_batch(results, out_dir, as_json, ok_text):

@@ -4,7 +4,7 @@ matplotlib is an optional extra (``pip install leapwright[charts]``); it is
 imported only when a chart is asked for.
 """
 
-from core.errors import LeapwrightError
+from leapwright.core.base.errors import LeapwrightError
 
 _PHASE_COLOURS = {
     "weighing": "#d9d9d9",

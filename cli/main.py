@@ -7,9 +7,9 @@ prints one line on stderr and never a traceback.
 import argparse
 import sys
 
-from core.errors import LeapwrightError
+from leapwright.core.base.errors import LeapwrightError
 
-from . import plan_command
+from cli import plan as plan_command
 
 
 class _Parser(argparse.ArgumentParser):
@@ -22,12 +22,12 @@ class _Parser(argparse.ArgumentParser):
 def _subcommands():
     modules = [plan_command]
     try:
-        from . import check_command
+        from cli import check as check_command
     except ImportError:  # the checker is optional while it is being built
         check_command = None
     if check_command is not None:
         modules.append(check_command)
-    from . import bake_command, export_command
+    from cli import follow_through as bake_command, export as export_command
     modules += [bake_command, export_command]
     return modules
 

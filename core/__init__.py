@@ -4,6 +4,6 @@ Pure Python + numpy. Never imports Blender; inside the extension this package is
 vendored as a subpackage, so modules import each other only relatively.
 """
 
-from .errors import LeapwrightError, InvalidGoalError, InfeasibleJumpError
+from .base.errors import LeapwrightError, InvalidGoalError, InfeasibleJumpError
 
 __all__ = ["LeapwrightError", "InvalidGoalError", "InfeasibleJumpError"]

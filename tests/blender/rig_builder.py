@@ -55,9 +55,9 @@ def build_rig(name="Rig", rotation_z_deg=0.0, location=(0.0, 0.0, 0.0), unit_sca
 
 
 def configure(rig, scene=None, **values):
-    """Point ``scene.leapwright`` at ``rig`` (body 'hips', no feet) and set ``values``."""
+    """Point ``scene.leapwright_plan`` at ``rig`` (body 'hips', no feet) and set ``values``."""
     scene = scene or bpy.context.scene
-    s = scene.leapwright
+    s = scene.leapwright_plan
     s.rig = rig
     s.com_bone = "hips"
     s.foot_left = ""

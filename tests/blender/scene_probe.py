@@ -15,7 +15,7 @@ def addon():
 
 
 def _fcurve_record(fc):
-    keys = addon().key_writer.read_keys(fc)
+    keys = addon().blender.key_writer.read_keys(fc)
     mods = tuple(m.type for m in fc.modifiers)
     return (fc.data_path, fc.array_index, fc.group.name if fc.group else None, fc.extrapolation, fc.mute,
             fc.lock, fc.hide, mods, tuple((k, v.tobytes()) for k, v in sorted(keys.items())))
@@ -38,7 +38,7 @@ def snapshot(scene=None):
     strips), the scene's markers and frame range.
     """
     scene = scene or bpy.context.scene
-    compat = addon().blender_compat
+    compat = addon().blender.compat
     objects = []
     for obj in sorted(bpy.data.objects, key=lambda o: o.name):
         ad = obj.animation_data
@@ -84,8 +84,8 @@ def world_path(rig, bone, frames):
 def written_fcurves(rig):
     """F-curves of the rig's active (or pushed) action in leapwright's blocking group."""
     a = addon()
-    action = a.ownership.user_action(rig)
-    return [fc for fc in a.blender_compat.fcurves(action, rig) if fc.group and fc.group.name == "lw:blocking"]
+    action = a.blender.ownership.user_action(rig)
+    return [fc for fc in a.blender.compat.fcurves(action, rig) if fc.group and fc.group.name == "lw:plan"]
 
 
 def key_count(rig):
@@ -94,21 +94,21 @@ def key_count(rig):
     n = sum(len(fc.keyframe_points) for fc in written_fcurves(rig))
     ad = rig.animation_data
     for track in (ad.nla_tracks if ad else ()):
-        if track.name.startswith("lw:") and track.name != a.ownership.USER_TRACK:
+        if track.name.startswith("lw:") and track.name != a.blender.ownership.USER_TRACK:
             for s in track.strips:
-                n += sum(len(fc.keyframe_points) for fc in a.blender_compat.fcurves(s.action, rig))
+                n += sum(len(fc.keyframe_points) for fc in a.blender.compat.fcurves(s.action, rig))
     return n
 
 
 def run_write(rig, **props):
-    """``bpy.ops.leapwright.write_blocking`` with ``rig`` active; returns the operator's result."""
+    """``bpy.ops.leapwright.write_plan`` with ``rig`` active; returns the operator's result."""
     bpy.context.view_layer.objects.active = rig
-    return bpy.ops.leapwright.write_blocking(**props)
+    return bpy.ops.leapwright.write_plan(**props)
 
 
 def run_remove(rig):
     bpy.context.view_layer.objects.active = rig
-    return bpy.ops.leapwright.remove_written()
+    return bpy.ops.leapwright.remove_plan()
 
 
 # --- The whole file's animation-related data, for "nothing changed" checks ------------------------
@@ -121,7 +121,7 @@ def _all_fcurve_sets(action):
     strip; :func:`snapshot` looks only at the bag an object plays, so a write
     into another slot would slip past it. This walks them all.
     """
-    if not addon().blender_compat.LAYERED:
+    if not addon().blender.compat.LAYERED:
         return [("", action.fcurves, action.groups)]
     out = []
     for layer in action.layers:
@@ -143,7 +143,7 @@ def _action_record(action):
         sets.append((label, tuple(sorted(_fcurve_record(fc) for fc in fcs)),
                      tuple((g.name, g.lock, g.mute) for g in grps)))
     slots = ()
-    if addon().blender_compat.LAYERED:
+    if addon().blender.compat.LAYERED:
         slots = tuple((s.handle, s.identifier) for s in action.slots)
     return (action.name, library_path(action), action.use_fake_user,
             _props(action), slots, tuple(sets))
@@ -152,7 +152,7 @@ def _action_record(action):
 def _strip_record(strip):
     return (strip.name, strip.action.name if strip.action else None, strip.frame_start, strip.frame_end,
             strip.action_frame_start, strip.action_frame_end, strip.scale, strip.repeat, strip.blend_type,
-            strip.extrapolation, strip.influence, strip.mute, addon().blender_compat.strip_slot_handle(strip))
+            strip.extrapolation, strip.influence, strip.mute, addon().blender.compat.strip_slot_handle(strip))
 
 
 def _pose_record(obj):
@@ -175,7 +175,7 @@ def file_state():
     channels and custom properties (object, pose bone, bone, armature, scene,
     action), every scene's markers, frame range, frame rate and unit scale.
     """
-    compat = addon().blender_compat
+    compat = addon().blender.compat
     objects = []
     for obj in sorted(bpy.data.objects, key=lambda o: (o.name, library_path(o) or "")):
         ad = obj.animation_data
@@ -191,7 +191,7 @@ def file_state():
                         tuple(obj.scale), _pose_record(obj)))
     armatures = tuple((a.name, _props(a), tuple((b.name, _props(b)) for b in a.bones))
                       for a in sorted(bpy.data.armatures, key=lambda a: a.name))
-    # The add-on's own settings (scene.leapwright*) are registered properties,
+    # The add-on's own settings (scene.leapwright_plan*) are registered properties,
     # which 4.2 also lists among a scene's custom properties: they are not data.
     scenes = tuple((sc.name, tuple(p for p in _props(sc) if not p[0].startswith("leapwright")), tuple(sorted((m.name, m.frame, m.select) for m in sc.timeline_markers)),
                     (sc.frame_start, sc.frame_end, sc.frame_current, sc.render.fps, sc.render.fps_base),
@@ -250,7 +250,7 @@ def refused(match, run=None):
     """
     import pytest
 
-    run = run or (lambda: run_write(bpy.context.scene.leapwright.rig))
+    run = run or (lambda: run_write(bpy.context.scene.leapwright_plan.rig))
     before = file_state()
     with pytest.raises(RuntimeError, match=match):
         run()
@@ -259,7 +259,7 @@ def refused(match, run=None):
 
 def scene_plan():
     """The plan the panel's settings give for the current scene."""
-    return addon().plan_link.plan_for(bpy.context.scene)[0]
+    return addon().plan.link.plan_for(bpy.context.scene)[0]
 
 
 def flight_error(rig, bone="hips"):
@@ -273,7 +273,7 @@ def flight_error(rig, bone="hips"):
     plan = scene_plan()
     m = scene.unit_settings.scale_length
     fps = scene.render.fps / scene.render.fps_base
-    start = float(scene.leapwright.start_frame)
+    start = float(scene.leapwright_plan.start_frame)
     hop = plan.hops[0]
     t = np.linspace(hop.takeoff_time_s, hop.touchdown_time_s, 9)
     rest = world_head(rig, bone, start)[2]

@@ -1,7 +1,7 @@
 """In the air the whole-body centre of mass (COM) follows one parabola: the correction makes it so.
 
 On the demo mannequin (blend_examples/mannequin.py) with the jump written by
-``write_blocking`` and a late arm raise keyed in the air. The COM the checks use is
+``write_plan`` and a late arm raise keyed in the air. The COM the checks use is
 computed here, independently of the add-on's bone mapping: the mannequin's joints
 named by hand, de Leva (1996, J Biomech 29(9):1223-1230, Table 4, male) segment
 masses and COM positions, and bone positions read back one by one from Blender's
@@ -63,12 +63,12 @@ def _jump(arm_raise=True):
     objs = mannequin.build_demo_scene()  # starts a new file, which disables the add-on
     _enable()
     rig, scene = objs["rig"], bpy.context.scene
-    s = scene.leapwright
+    s = scene.leapwright_plan
     s.rig, s.com_bone = rig, mannequin.BODY_BONE
     s.foot_left, s.foot_right = mannequin.FOOT_CONTROLLERS
     s.height = 0.5
     bpy.context.view_layer.objects.active = rig
-    assert bpy.ops.leapwright.write_blocking() == {"FINISHED"}
+    assert bpy.ops.leapwright.write_plan() == {"FINISHED"}
     scene.frame_start, scene.frame_end = 1, LAST_FRAME
     if arm_raise:
         _key_arm_raise(rig, ARM_RAISE)
@@ -107,7 +107,7 @@ def _joint(points, name):
 
 def _coms(rig, frames):
     """Whole-body COM and body-part COMs [m] (F, 3) from de Leva 1996 Table 4 (male)."""
-    table = addon().core.segment_tables.DE_LEVA_MALE
+    table = addon().core.body.segment_tables.DE_LEVA_MALE
     points = _read(rig, frames)
     parts, total = {}, 0.0
     for e in table.entries:
@@ -164,13 +164,13 @@ def test_check_reports_the_flight_frames_and_the_torso_drop_then_nothing_after_t
     first, last = _flight(scene)
     bpy.context.view_layer.objects.active = rig
     assert bpy.ops.leapwright.check_body_arc() == {"FINISHED"}
-    lines = addon().air_operators.LAST_CHECK[rig.name]
+    lines = addon().body.operators.LAST_CHECK[rig.name]
     assert len(lines) == 2 and "torso must move -" in lines[1] and "arms rise" in lines[1]
     start, end = (int(x) for x in lines[1].split()[1].split("-"))
     assert first < start <= end <= last
     assert _keep(rig) == {"FINISHED"}
     assert bpy.ops.leapwright.check_body_arc() == {"FINISHED"}
-    assert addon().air_operators.LAST_CHECK[rig.name][1:] == ["the centre of mass stays on its arc in every flight"]
+    assert addon().body.operators.LAST_CHECK[rig.name][1:] == ["the centre of mass stays on its arc in every flight"]
 
 
 def raise_at_takeoff():
@@ -197,15 +197,15 @@ def test_an_arm_raise_started_at_the_take_off_is_named_with_the_speed_it_adds():
                    for g, (share, c) in parts.items() if g not in ("trunk", "legs"))
     bpy.context.view_layer.objects.active = rig
     assert bpy.ops.leapwright.check_body_arc() == {"FINISHED"}
-    lines = addon().air_operators.LAST_CHECK[rig.name]
+    lines = addon().body.operators.LAST_CHECK[rig.name]
     (said,) = [line for line in lines if "where the take-off speed is read" in line]
     assert said.startswith("The arms start moving") and f"first frame in the air ({first})" in said
-    work = addon().air_correction.prepare(scene, rig, scene.leapwright_air, G, own_layer=True)
+    work = addon().body.arc.prepare(scene, rig, scene.leapwright_body, G, own_layer=True)
     (motion,) = work.takeoff_motion
     np.testing.assert_allclose(motion.speed_error, expected, rtol=0.02, atol=1e-3)
     assert np.linalg.norm(expected) > 0.1  # a real change, not noise
     assert _keep(rig) == {"FINISHED"}
-    assert said in addon().air_operators.LAST_CHECK[rig.name]  # the correction says it too
+    assert said in addon().body.operators.LAST_CHECK[rig.name]  # the correction says it too
 
 
 def test_renaming_every_bone_keeps_the_map_and_the_correction():
@@ -213,8 +213,8 @@ def test_renaming_every_bone_keeps_the_map_and_the_correction():
     a = addon()
 
     def work():
-        w = a.air_correction.prepare(scene, rig, scene.leapwright_air, G)
-        marks = a.body_com.body_model(rig)[1]
+        w = a.body.arc.prepare(scene, rig, scene.leapwright_body, G)
+        marks = a.body.com.body_model(rig)[1]
         return w.fix.offsets, marks.points, w.channels.data_path
 
     offsets, points, _ = work()
@@ -235,20 +235,20 @@ def test_rerun_replaces_and_removal_restores_the_file_byte_for_byte():
     before = snapshot()
     assert _keep(rig) == {"FINISHED"}
     n = key_count(rig)
-    track = rig.animation_data.nla_tracks["lw:air"]
+    track = rig.animation_data.nla_tracks["lw:body"]
     assert track.strips[0].blend_type == "COMBINE"
     assert _keep(rig) == {"FINISHED"}
     assert key_count(rig) == n > 0
-    assert [t.name for t in rig.animation_data.nla_tracks].count("lw:air") == 1
+    assert [t.name for t in rig.animation_data.nla_tracks].count("lw:body") == 1
     bpy.context.view_layer.objects.active = rig
-    assert bpy.ops.leapwright.remove_arc_fix() == {"FINISHED"}
+    assert bpy.ops.leapwright.remove_body_arc() == {"FINISHED"}
     assert snapshot() == before
 
 
 def test_no_armature_is_refused_and_changes_nothing():
     bpy.ops.object.empty_add()
     empty = bpy.context.active_object
-    bpy.context.scene.leapwright.rig = empty
+    bpy.context.scene.leapwright_plan.rig = empty
     before = snapshot()
     with pytest.raises(RuntimeError, match="armature"):
         bpy.ops.leapwright.keep_body_on_arc()
@@ -260,7 +260,7 @@ def test_a_rig_without_arms_and_no_map_is_refused_and_changes_nothing():
 
     rig = build_rig()
     configure(rig, height=0.4)
-    assert bpy.ops.leapwright.write_blocking() == {"FINISHED"}
+    assert bpy.ops.leapwright.write_plan() == {"FINISHED"}
     before = snapshot()
     with pytest.raises(RuntimeError, match="map the bones by hand"):
         bpy.ops.leapwright.keep_body_on_arc()
@@ -273,7 +273,7 @@ def test_a_creature_with_bone_masses_is_kept_on_its_arc():
 
     rig = build_rig()
     configure(rig, height=0.4)
-    assert bpy.ops.leapwright.write_blocking() == {"FINISHED"}
+    assert bpy.ops.leapwright.write_plan() == {"FINISHED"}
     scene = bpy.context.scene
     scene.frame_start, scene.frame_end = 1, LAST_FRAME
     first, last = _flight(scene)
@@ -308,11 +308,11 @@ def test_a_creature_with_bone_masses_is_kept_on_its_arc():
 def test_a_map_written_out_by_hand_gives_the_same_correction():
     rig, scene = _jump()
     a = addon()
-    auto = a.air_correction.prepare(scene, rig, scene.leapwright_air, G).fix.offsets
+    auto = a.body.arc.prepare(scene, rig, scene.leapwright_body, G).fix.offsets
     bpy.context.view_layer.objects.active = rig
     assert bpy.ops.leapwright.edit_body_map() == {"FINISHED"}
-    assert a.body_com.body_model(rig)[2] == "set by hand"
-    by_hand = a.air_correction.prepare(scene, rig, scene.leapwright_air, G).fix.offsets
+    assert a.body.com.body_model(rig)[2] == "set by hand"
+    by_hand = a.body.arc.prepare(scene, rig, scene.leapwright_body, G).fix.offsets
     assert np.max(np.abs(by_hand - auto)) < 1e-12
     # A map naming a bone the rig lacks is refused with the bone's name.
     rig["lw_body_map"] = rig["lw_body_map"].replace("forearm.L@head", "elbow_bone@head")
@@ -325,9 +325,9 @@ def test_a_map_written_out_by_hand_gives_the_same_correction():
 def test_flights_found_from_free_fall_without_markers():
     rig, scene = _jump()
     first, last = _flight(scene)
-    scene.leapwright_air.flights = "BALLISTIC"
+    scene.leapwright_body.flights = "BALLISTIC"
     assert _keep(rig) == {"FINISHED"}
-    work = addon().air_correction.prepare(scene, rig, scene.leapwright_air, G)
+    work = addon().body.arc.prepare(scene, rig, scene.leapwright_body, G)
     (a, b), = work.stretches
     # The arc starts at the second airborne frame (the take-off lies in the frame before the first).
     assert first <= a <= first + 1 and b == last
@@ -336,9 +336,9 @@ def test_flights_found_from_free_fall_without_markers():
 
 
 def test_panel_shows_the_map_the_buttons_and_the_warning_with_frames_and_torso_drop():
-    assert bpy.types.LEAPWRIGHT_PT_air.bl_parent_id == "LEAPWRIGHT_PT_jump"
+    assert bpy.types.LEAPWRIGHT_PT_body.bl_parent_id == "LEAPWRIGHT_PT_plan"
     rig, scene = _jump()
-    log = draw_panel("LEAPWRIGHT_PT_air")
+    log = draw_panel("LEAPWRIGHT_PT_body")
     labels = " | ".join(t for k, t in log if k == "label")
     assert "14 segments, found from the bone tree" in labels
     assert "shoulder.L: upper_arm.L@head" in labels
@@ -346,15 +346,15 @@ def test_panel_shows_the_map_the_buttons_and_the_warning_with_frames_and_torso_d
             ("operator", "leapwright.edit_body_map")} <= set(log)
     bpy.context.view_layer.objects.active = rig
     assert bpy.ops.leapwright.check_body_arc() == {"FINISHED"}
-    labels = " ".join(t for k, t in draw_panel("LEAPWRIGHT_PT_air") if k == "label")
+    labels = " ".join(t for k, t in draw_panel("LEAPWRIGHT_PT_body") if k == "label")
     assert "torso must move -" in labels and "Frames " in labels
     assert bpy.ops.leapwright.edit_body_map() == {"FINISHED"}
-    assert ("prop", '["lw_body_map"]') in draw_panel("LEAPWRIGHT_PT_air")
+    assert ("prop", '["lw_body_map"]') in draw_panel("LEAPWRIGHT_PT_body")
 
 
 def test_easing_out_is_refused_when_it_would_slide_the_planted_feet():
     rig, scene = _jump()
-    scene.leapwright_air.settle_frames = 3  # the carrier is the root: the foot controllers hang from it
+    scene.leapwright_body.settle_frames = 3  # the carrier is the root: the foot controllers hang from it
     before = snapshot()
     with pytest.raises(RuntimeError, match="foot_ctrl.L"):
         _keep(rig)

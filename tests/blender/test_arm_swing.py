@@ -56,12 +56,12 @@ def _jump(turn_deg=0.0, applied=False):
             for obj in bpy.context.view_layer.objects:
                 obj.select_set(obj == rig)
             bpy.ops.object.transform_apply(location=False, rotation=True, scale=False)
-    s = scene.leapwright
+    s = scene.leapwright_plan
     s.rig, s.com_bone = rig, mannequin.BODY_BONE
     s.foot_left, s.foot_right = mannequin.FOOT_CONTROLLERS
     s.height = 0.5
-    assert bpy.ops.leapwright.write_blocking() == {"FINISHED"}
-    plan = addon().plan_link.plan_for(scene)[0]
+    assert bpy.ops.leapwright.write_plan() == {"FINISHED"}
+    plan = addon().plan.link.plan_for(scene)[0]
     scene.frame_start, scene.frame_end = 1, int(math.ceil(1 + plan.duration_s * _fps(scene))) + 4
     return rig, scene
 
@@ -72,8 +72,8 @@ def _fps(scene):
 
 def _events(scene):
     """Propulsion start, take-off and touchdown [scene frames] of the plan the blocking pass wrote."""
-    plan = addon().plan_link.plan_for(scene)[0]
-    fps, start = _fps(scene), float(scene.leapwright.start_frame)
+    plan = addon().plan.link.plan_for(scene)[0]
+    fps, start = _fps(scene), float(scene.leapwright_plan.start_frame)
     push = next(p for p in plan.phases if p.name == "propulsion")
     hop = plan.hops[0]
     return start + push.start_s * fps, start + hop.takeoff_time_s * fps, start + hop.touchdown_time_s * fps
@@ -110,7 +110,7 @@ def _peak(frames, values):
 
 def _place(rig, **values):
     """Place Arm Swing on the mannequin's arms, named by hand (see the test of Find Arm Bones)."""
-    s = bpy.context.scene.leapwright_swing
+    s = bpy.context.scene.leapwright_arms
     bpy.context.view_layer.objects.active = rig
     s.upper_arm_left, s.upper_arm_right = ARMS
     s.forearm_left, s.forearm_right = FOREARMS
@@ -125,7 +125,7 @@ def test_find_arm_bones_reads_the_arms_from_the_bone_tree_whatever_their_names()
     for b in rig.data.bones:
         b.name = "b" + b.name[::-1]  # no name the add-on could recognise
     assert bpy.ops.leapwright.find_arm_bones() == {"FINISHED"}
-    s = scene.leapwright_swing
+    s = scene.leapwright_arms
     found = (s.upper_arm_left, s.forearm_left, s.upper_arm_right, s.forearm_right)
     assert found == tuple("b" + n[::-1] for n in (ARMS[0], FOREARMS[0], ARMS[1], FOREARMS[1]))
 
@@ -163,8 +163,8 @@ def test_placed_swing_rerun_replaces_and_remove_takes_it_back():
     once = file_state()
     assert _place(rig) == {"FINISHED"}
     assert file_state() == once, first_difference(file_state(), once)
-    group = [fc for fc in addon().blender_compat.fcurves(rig.animation_data.action, rig)
-             if fc.group is not None and fc.group.name == "lw:swing"]
+    group = [fc for fc in addon().blender.compat.fcurves(rig.animation_data.action, rig)
+             if fc.group is not None and fc.group.name == "lw:arms"]
     assert {fc.data_path for fc in group} >= {f'pose.bones["{n}"].rotation_quaternion' for n in ARMS}
     assert bpy.ops.leapwright.remove_arm_swing() == {"FINISHED"}
     assert file_state() == before, first_difference(file_state(), before)
@@ -206,7 +206,7 @@ def _late_swing(rig, scene, handles="AUTO_CLAMPED", late=LATE):
             pb.keyframe_insert("rotation_quaternion", frame=frame)
         pb.rotation_quaternion = (1.0, 0.0, 0.0, 0.0)
     if handles != "AUTO_CLAMPED":  # as the animator leaves them after dragging handles: where they are
-        for fc in addon().blender_compat.fcurves(rig.animation_data.action, rig):
+        for fc in addon().blender.compat.fcurves(rig.animation_data.action, rig):
             for k in fc.keyframe_points:
                 if "upper_arm" in fc.data_path:
                     k.handle_left_type = k.handle_right_type = handles
@@ -215,15 +215,15 @@ def _late_swing(rig, scene, handles="AUTO_CLAMPED", late=LATE):
 
 
 def _arm_curves(rig):
-    return {(fc.data_path, fc.array_index): addon().key_writer.read_keys(fc)
-            for fc in addon().blender_compat.fcurves(rig.animation_data.action, rig) if "upper_arm" in fc.data_path}
+    return {(fc.data_path, fc.array_index): addon().blender.key_writer.read_keys(fc)
+            for fc in addon().blender.compat.fcurves(rig.animation_data.action, rig) if "upper_arm" in fc.data_path}
 
 
 @pytest.mark.parametrize("case", ["missing bone", "forearm without upper arm", "no plan", "retime without keys",
                                   "mesh"])
 def test_bad_input_is_refused_and_changes_nothing(case):
     rig, scene = _jump()
-    s = scene.leapwright_swing
+    s = scene.leapwright_arms
     s.upper_arm_left, s.upper_arm_right = ARMS
     op, match = bpy.ops.leapwright.place_arm_swing, None
     if case == "missing bone":
@@ -231,12 +231,12 @@ def test_bad_input_is_refused_and_changes_nothing(case):
     elif case == "forearm without upper arm":
         s.upper_arm_left, s.forearm_left, match = "", "forearm.L", "without its upper arm"
     elif case == "no plan":
-        scene.leapwright.height, match = 0.0, "no plan"
+        scene.leapwright_plan.height, match = 0.0, "no plan"
     elif case == "retime without keys":
         op, match = bpy.ops.leapwright.retime_arm_swing, "no keys of yours"
     else:
         bpy.ops.mesh.primitive_cube_add()
-        scene.leapwright.rig, match = bpy.context.active_object, "not an armature"
+        scene.leapwright_plan.rig, match = bpy.context.active_object, "not an armature"
     bpy.context.view_layer.objects.active = rig
     before = file_state()
     with pytest.raises(RuntimeError, match=match):
@@ -274,18 +274,18 @@ class _Layout:
 
 def _panel_log():
     log = []
-    bpy.types.LEAPWRIGHT_PT_swing.draw(type("Stand", (), {"layout": _Layout(log)})(), bpy.context)
+    bpy.types.LEAPWRIGHT_PT_arms.draw(type("Stand", (), {"layout": _Layout(log)})(), bpy.context)
     return log
 
 
 def test_panel_shows_the_arm_bones_the_buttons_and_a_late_swing_warning():
-    assert bpy.types.LEAPWRIGHT_PT_swing.bl_parent_id == "LEAPWRIGHT_PT_jump"
+    assert bpy.types.LEAPWRIGHT_PT_arms.bl_parent_id == "LEAPWRIGHT_PT_plan"
     rig, scene = _jump()
     log = _panel_log()
     assert {("prop", "upper_arm_left", None), ("operator", "leapwright.place_arm_swing", None),
             ("operator", "leapwright.retime_arm_swing", None)} <= set(log)
     _late_swing(rig, scene)
-    s = scene.leapwright_swing
+    s = scene.leapwright_arms
     s.upper_arm_left, s.upper_arm_right = ARMS
     bpy.context.view_layer.objects.active = rig
     assert bpy.ops.leapwright.check_arm_swing() == {"FINISHED"}
@@ -325,5 +325,5 @@ def test_a_placed_swing_slowing_through_the_take_off_is_part_of_the_launch_for_t
     assert _place(rig) == {"FINISHED"}
     bpy.context.view_layer.objects.active = rig
     assert bpy.ops.leapwright.check_body_arc() == {"FINISHED"}
-    lines = addon().air_operators.LAST_CHECK[rig.name]
+    lines = addon().body.operators.LAST_CHECK[rig.name]
     assert not [line for line in lines if "where the take-off speed is read" in line], lines

@@ -25,7 +25,7 @@ ACTION_START = 100.0  # the arm action's own first frame (its manual frame range
 def _arms_in_a_strip(rig, scene, start, scale, repeat=1.0):
     """The late swing keyed into 'my arms', played by an NLA strip from scene frame ``start`` at
     ``scale``; with ``repeat`` plays the swing falls in the last one, where it was keyed."""
-    compat = addon().blender_compat
+    compat = addon().blender.compat
     ad = rig.animation_data
     blocking, handle = ad.action, compat.active_slot_handle(rig)
     arms = bpy.data.actions.new("my arms")
@@ -54,12 +54,12 @@ def _arms_in_a_strip(rig, scene, start, scale, repeat=1.0):
 
 
 def _keys(action, rig):
-    return {(fc.data_path, fc.array_index): addon().key_writer.read_keys(fc)
-            for fc in addon().blender_compat.fcurves(action, rig)}
+    return {(fc.data_path, fc.array_index): addon().blender.key_writer.read_keys(fc)
+            for fc in addon().blender.compat.fcurves(action, rig)}
 
 
 def _choose_arms(rig, scene):
-    s = scene.leapwright_swing
+    s = scene.leapwright_arms
     s.upper_arm_left, s.upper_arm_right = ARMS
     bpy.context.view_layer.objects.active = rig
 

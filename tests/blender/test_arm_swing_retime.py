@@ -16,8 +16,7 @@ import numpy as np
 import pytest
 
 from scene_probe import addon, file_state, first_difference
-from test_arm_swing import (ARMS, LATE, _arm_curves, _elevation, _events, _facing, _jump, _late_swing, _peak,
-                            _place)
+from test_arm_swing import ARMS, LATE, _arm_curves, _elevation, _events, _facing, _jump, _late_swing, _peak, _place
 
 
 def rerun_changes_nothing_and_removal_restores(scene, before):
@@ -39,18 +38,18 @@ def test_late_swing_is_retimed_to_peak_at_takeoff_keeping_its_values_and_removal
     frames = np.arange(takeoff - 14.0, takeoff + 14.0, 0.25)
     assert _peak(frames, _elevation(rig, frames, forward, up)) - takeoff == pytest.approx(LATE, abs=0.6)
 
-    s = scene.leapwright_swing
+    s = scene.leapwright_arms
     bpy.context.view_layer.objects.active = rig
     s.upper_arm_left, s.upper_arm_right = ARMS
     assert bpy.ops.leapwright.check_arm_swing() == {"FINISHED"}
-    warning = " ".join(t for t, icon in addon().swing_operators.LAST[rig.name] if icon == "ERROR")
+    warning = " ".join(t for t, icon in addon().arms.operators.LAST[rig.name] if icon == "ERROR")
     late = float(warning.split("peaks ")[1].split(" frames")[0])
     assert late == pytest.approx(LATE, abs=1.0) and "drops the torso by" in warning
 
     scene.frame_set(1)
     before, keys_before = file_state(), _arm_curves(rig)
     assert bpy.ops.leapwright.retime_arm_swing() == {"FINISHED"}
-    moved = addon().swing_operators.LAST[rig.name][0][0]
+    moved = addon().arms.operators.LAST[rig.name][0][0]
     assert float(moved.split("by up to ")[1].split(" frames")[0]) == pytest.approx(LATE, abs=1.0)
     for side in "LR":
         assert abs(_peak(frames, _elevation(rig, frames, forward, up, side)) - takeoff) <= 1.0
@@ -77,13 +76,13 @@ def test_remove_written_restores_retimed_keys_byte_for_byte():
     rig, scene = _jump()
     _late_swing(rig, scene)
     keys_before = _arm_curves(rig)
-    s = scene.leapwright_swing
+    s = scene.leapwright_arms
     bpy.context.view_layer.objects.active = rig
     s.upper_arm_left, s.upper_arm_right = ARMS
     assert bpy.ops.leapwright.retime_arm_swing() == {"FINISHED"}
     assert _arm_curves(rig)[(f'pose.bones["{ARMS[0]}"].rotation_quaternion', 0)]["co"].tobytes() != \
         keys_before[(f'pose.bones["{ARMS[0]}"].rotation_quaternion', 0)]["co"].tobytes()
-    assert bpy.ops.leapwright.remove_written() == {"FINISHED"}
+    assert bpy.ops.leapwright.remove_plan() == {"FINISHED"}
     after = _arm_curves(rig)
     assert after.keys() == keys_before.keys()
     for k, old in keys_before.items():
@@ -103,13 +102,13 @@ def test_contact_window_without_markers_comes_from_the_body_or_the_feet(contact_
     push, takeoff, _ = _events(scene)
     for m in [m for m in scene.timeline_markers if m.name.startswith("lw:")]:
         scene.timeline_markers.remove(m)
-    s = scene.leapwright_swing
+    s = scene.leapwright_arms
     s.upper_arm_left, s.upper_arm_right = ARMS
     s.contact_from = contact_from
     bpy.context.view_layer.objects.active = rig
     assert _place(rig) == {"FINISHED"}
     assert bpy.ops.leapwright.check_arm_swing() == {"FINISHED"}
-    (line, _), (verdict, icon) = addon().swing_operators.LAST[rig.name][:2]
+    (line, _), (verdict, icon) = addon().arms.operators.LAST[rig.name][:2]
     source = {"BODY": "the body bone's free fall", "FEET": "the foot heights", "AUTO": "the body bone's free fall"}
     assert f"(from {source[contact_from]})" in line
     got_push, got_takeoff = (float(x) for x in line.split("; push ")[1].split(" ")[0].split("-"))
@@ -123,11 +122,11 @@ def test_a_swing_wholly_in_the_air_is_called_outside_contact_and_retimed_into_th
     push, takeoff, _ = _events(scene)
     late = math.ceil(takeoff - push) + 2  # the upswing starts two frames after take-off
     _late_swing(rig, scene, late=late)
-    s = scene.leapwright_swing
+    s = scene.leapwright_arms
     s.upper_arm_left, s.upper_arm_right = ARMS
     bpy.context.view_layer.objects.active = rig
     assert bpy.ops.leapwright.check_arm_swing() == {"FINISHED"}
-    warnings = [t for t, icon in addon().swing_operators.LAST[rig.name] if icon == "ERROR"]
+    warnings = [t for t, icon in addon().arms.operators.LAST[rig.name] if icon == "ERROR"]
     assert any(w.startswith("arm swing outside contact") for w in warnings), warnings
     assert bpy.ops.leapwright.retime_arm_swing() == {"FINISHED"}
     frames = np.arange(push - 4.0, takeoff + late + 8.0, 0.25)
@@ -149,8 +148,8 @@ def test_retiming_a_linked_action_is_refused_and_changes_nothing(tmp_path):
     with bpy.data.libraries.load(library, link=True) as (src, dst):
         dst.actions = [mine.name]
     linked = next(a for a in bpy.data.actions if a.library is not None)
-    addon().blender_compat.assign_action(rig, linked)
-    s = scene.leapwright_swing
+    addon().blender.compat.assign_action(rig, linked)
+    s = scene.leapwright_arms
     s.upper_arm_left, s.upper_arm_right = ARMS
     bpy.context.view_layer.objects.active = rig
     before = file_state()

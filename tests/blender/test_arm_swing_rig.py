@@ -29,7 +29,7 @@ def test_find_arm_bones_on_bones_turned_inside_the_armature(turn_deg, renamed):
             b.name = "b" + b.name[::-1]  # no name the add-on could recognise
     bpy.context.view_layer.objects.active = rig
     assert bpy.ops.leapwright.find_arm_bones() == {"FINISHED"}
-    s = scene.leapwright_swing
+    s = scene.leapwright_arms
     found = (s.upper_arm_left, s.forearm_left, s.upper_arm_right, s.forearm_right)
     assert found == tuple(truth[n] for n in (ARMS[0], FOREARMS[0], ARMS[1], FOREARMS[1]))
     # And geometrically: the chosen left shoulder lies on the character's left (the mannequin's +X, turned).
@@ -44,9 +44,9 @@ def test_the_body_map_reads_a_rig_turned_inside_its_armature(turn_deg):
     # The whole-body COM's segment map comes from the same reading of the rig's facing:
     # a mannequin whose bones face +Y (or sideways) in the armature maps to the same joints
     # as the one built facing -Y, so its COM is weighed the same way (de Leva 1996).
-    plain = addon().body_com.body_model(_jump()[0])[1].as_text()
+    plain = addon().body.com.body_model(_jump()[0])[1].as_text()
     rig, _ = _jump(turn_deg=turn_deg, applied=True)
-    _model, marks, how = addon().body_com.body_model(rig)
+    _model, marks, how = addon().body.com.body_model(rig)
     assert how == "found from the bone tree"
     assert marks.as_text() == plain
 
@@ -61,7 +61,7 @@ def test_find_arm_bones_refuses_a_rig_without_a_body_and_changes_nothing():
     b = arm.edit_bones.new("only")
     b.head, b.tail = (0.0, 0.0, 0.0), (0.0, 0.0, 1.0)
     bpy.ops.object.mode_set(mode="OBJECT")
-    scene.leapwright.rig = stick
+    scene.leapwright_plan.rig = stick
     before = file_state()
     with pytest.raises(RuntimeError, match="pick the upper-arm bones by hand"):
         bpy.ops.leapwright.find_arm_bones()

@@ -20,9 +20,9 @@ from scene_probe import refused
 def test_no_rig_and_no_active_object():
     rig = build_rig()
     configure(rig)
-    bpy.context.scene.leapwright.rig = None
+    bpy.context.scene.leapwright_plan.rig = None
     bpy.context.view_layer.objects.active = None
-    refused("no rig", bpy.ops.leapwright.write_blocking)
+    refused("no rig", bpy.ops.leapwright.write_plan)
 
 
 def test_mesh_instead_of_an_armature():
@@ -83,7 +83,7 @@ def test_rig_in_edit_mode_is_refused_by_poll():
     rig = build_rig()
     configure(rig)
     bpy.ops.object.mode_set(mode="EDIT")
-    refused(r"poll\(\).*edit mode", bpy.ops.leapwright.write_blocking)
+    refused(r"poll\(\).*edit mode", bpy.ops.leapwright.write_plan)
     bpy.ops.object.mode_set(mode="OBJECT")
 
 
@@ -91,6 +91,6 @@ def test_rig_in_edit_mode_message_names_edit_mode():
     configure(build_rig())
     bpy.ops.object.mode_set(mode="EDIT")
     try:
-        refused("edit mode", bpy.ops.leapwright.write_blocking)
+        refused("edit mode", bpy.ops.leapwright.write_plan)
     finally:
         bpy.ops.object.mode_set(mode="OBJECT")

@@ -1,7 +1,7 @@
 """Bad input in real Blender, the export checks: a clear report, and the file exactly as it was.
 
 A key at a NaN frame, a rig scaled by NaN, a rig scaled to 0, and the same NaN
-key through ``leapwright check-export``. IEEE 754: NaN compares false with
+key through ``leapwright export``. IEEE 754: NaN compares false with
 every number, so unchecked it would pass every tolerance and call the rig ready
 to export. Refusals are checked as in the rest of the matrix: the operator's
 ERROR report (the RuntimeError ``bpy.ops`` raises) and
@@ -45,7 +45,7 @@ def test_a_key_at_a_nan_frame_is_refused_by_check_and_by_snap_and_check():
             lambda: bpy.ops.leapwright.check_export())
     # Snap and Check moves no key at all, not even the other curves' keys between frames.
     refused("value nan .*delete that key", lambda: bpy.ops.leapwright.check_export(snap_keys=True))
-    assert bpy.context.scene.as_pointer() not in addon().game_operators.LAST_CHECK
+    assert bpy.context.scene.as_pointer() not in addon().export.operators.LAST_CHECK
 
 
 def test_a_rig_scaled_by_nan_is_refused():
@@ -67,7 +67,7 @@ def test_a_rig_scaled_to_zero_is_reported_and_changes_nothing():
     rig.scale = (0.0, 0.0, 0.0)
     before = file_state()
     assert bpy.ops.leapwright.check_export() == {"FINISHED"}
-    found = addon().game_operators.LAST_CHECK[bpy.context.scene.as_pointer()][1]
+    found = addon().export.operators.LAST_CHECK[bpy.context.scene.as_pointer()][1]
     messages = {i.kind: i.message for i in found}
     assert "is 0 along an axis" in messages["object_scale"]
     assert "root bone 'root' has no Z axis" in messages["root_axes"]
@@ -82,7 +82,7 @@ def test_check_export_on_the_command_line_refuses_a_nan_key_and_leaves_the_file(
     with open(path, "rb") as fh:
         digest = hashlib.sha256(fh.read()).hexdigest()
     repo = os.path.abspath(os.path.join(os.path.dirname(__file__), "..", ".."))
-    r = subprocess.run([sys.executable, "-m", "cli.main", "check-export", path, "--object", rig.name,
+    r = subprocess.run([sys.executable, "-m", "cli.main", "export", path, "--object", rig.name,
                         "--snap-keys"], cwd=repo, capture_output=True, text=True,
                        env=dict(os.environ, PYTHONPATH=repo))
     assert r.returncode == 2, (r.stdout, r.stderr)

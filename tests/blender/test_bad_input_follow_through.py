@@ -19,7 +19,7 @@ def _lag_rig(**lag):
     from test_lag_bake import _ponytail_rig  # the lag tests' own chain rig, not rebuilt here
     rig = _ponytail_rig()
     configure(rig, height=0.4)
-    s = bpy.context.scene.leapwright_lag
+    s = bpy.context.scene.leapwright_follow_through
     for key, value in lag.items():
         setattr(s, key, value)
     bpy.context.view_layer.objects.active = rig
@@ -31,42 +31,42 @@ def test_bake_lag_on_a_mesh():
     mesh = bpy.data.objects.new("Box", bpy.data.meshes.new("Box"))
     bpy.context.scene.collection.objects.link(mesh)
     bpy.context.view_layer.objects.active = mesh
-    refused("'Box' is a mesh, not an armature", lambda: bpy.ops.leapwright.bake_lag(bones="pony.1"))
+    refused("'Box' is a mesh, not an armature", lambda: bpy.ops.leapwright.bake_follow_through(bones="pony.1"))
 
 
 def test_bake_lag_missing_bone():
     _lag_rig()
-    refused("has no bone 'braid.1'", lambda: bpy.ops.leapwright.bake_lag(bones="pony.1, braid.1"))
+    refused("has no bone 'braid.1'", lambda: bpy.ops.leapwright.bake_follow_through(bones="pony.1, braid.1"))
 
 
 def test_bake_lag_refuses_axis_angle_bones():
     rig = _lag_rig()
     rig.pose.bones["pony.2"].rotation_mode = "AXIS_ANGLE"
-    refused("axis-angle", lambda: bpy.ops.leapwright.bake_lag(bones="pony.1,pony.2,pony.3"))
+    refused("axis-angle", lambda: bpy.ops.leapwright.bake_follow_through(bones="pony.1,pony.2,pony.3"))
 
 
 def test_bake_lag_one_frame_range():
     scene = bpy.context.scene
     _lag_rig()
     scene.frame_start = scene.frame_end = 10
-    refused("too short", lambda: bpy.ops.leapwright.bake_lag(bones="pony.1,pony.2,pony.3"))
+    refused("too short", lambda: bpy.ops.leapwright.bake_follow_through(bones="pony.1,pony.2,pony.3"))
 
 
 def test_bake_lag_with_no_bones_chosen():
     _lag_rig(source="SELECTED")
-    refused("bones", bpy.ops.leapwright.bake_lag)
+    refused("bones", bpy.ops.leapwright.bake_follow_through)
 
 
 def test_bake_lag_missing_bone_collection():
     _lag_rig(source="COLLECTION", collection="Hair")
-    refused("no bone collection 'Hair'", bpy.ops.leapwright.bake_lag)
+    refused("no bone collection 'Hair'", bpy.ops.leapwright.bake_follow_through)
 
 
 def test_bake_lag_in_edit_mode_is_refused_by_poll():
     _lag_rig()
     bpy.ops.object.mode_set(mode="EDIT")
     try:
-        refused(r"poll\(\).*edit mode", lambda: bpy.ops.leapwright.bake_lag(bones="pony.1"))
+        refused(r"poll\(\).*edit mode", lambda: bpy.ops.leapwright.bake_follow_through(bones="pony.1"))
     finally:
         bpy.ops.object.mode_set(mode="OBJECT")
 
@@ -75,7 +75,7 @@ def test_remove_lag_with_nothing_baked_warns_and_changes_nothing(capfd):
     _lag_rig()
     before = file_state()
     capfd.readouterr()
-    assert bpy.ops.leapwright.remove_lag() == {"CANCELLED"}
+    assert bpy.ops.leapwright.remove_follow_through() == {"CANCELLED"}
     out = capfd.readouterr()
     assert any(lvl == "WARNING" and "nothing to remove" in msg for lvl, msg in reports(out.out + out.err))
     assert file_state() == before, first_difference(file_state(), before)
@@ -102,7 +102,7 @@ def test_remove_arc_fix_with_nothing_written(capfd):
     bpy.context.view_layer.objects.active = rig
     before = file_state()
     capfd.readouterr()
-    assert bpy.ops.leapwright.remove_arc_fix() == {"CANCELLED"}
+    assert bpy.ops.leapwright.remove_body_arc() == {"CANCELLED"}
     out = capfd.readouterr()
     assert any("no in-air correction" in msg for _lvl, msg in reports(out.out + out.err))
     assert file_state() == before, first_difference(file_state(), before)

@@ -22,8 +22,8 @@ import bpy
 import pytest
 
 from rig_builder import add_user_keys, build_rig, configure
-from scene_probe import (_all_fcurve_sets, addon, file_state, first_difference, flight_error, refused, run_remove,
-                         run_write)
+from scene_probe import (_all_fcurve_sets, addon, file_state, first_difference, flight_error, refused,
+    run_remove, run_write)
 
 
 def _library_file(make_rig=None, bone="hips"):
@@ -61,14 +61,14 @@ def _rig_playing_a_linked_action(bone="hips"):
     with bpy.data.libraries.load(path, link=True) as (_src, dst):
         dst.actions = ["RigAction"]
     rig = build_rig("Shot rig")
-    addon().blender_compat.assign_action(rig, dst.actions[0])
+    addon().blender.compat.assign_action(rig, dst.actions[0])
     configure(rig, height=0.4)
     assert rig.animation_data.action.library is not None
     return rig
 
 
 def _written_actions_are_local():
-    own = addon().ownership
+    own = addon().blender.ownership
     for action in bpy.data.actions:
         for _label, fcs, _g in _all_fcurve_sets(action):
             if any(fc.group is not None and fc.group.name.startswith(own.PREFIX) for fc in fcs):
@@ -99,7 +99,7 @@ def test_bake_lag_on_a_linked_rig_is_refused():
     rig = _link_rig(_library_file(_ponytail_rig))
     assert rig.library is not None
     bpy.context.scene.frame_end = 40
-    refused("linked|library", lambda: bpy.ops.leapwright.bake_lag(bones="pony.1,pony.2,pony.3"))
+    refused("linked|library", lambda: bpy.ops.leapwright.bake_follow_through(bones="pony.1,pony.2,pony.3"))
 
 
 def test_new_properties_on_an_override_are_lost_on_reload():
@@ -121,7 +121,7 @@ def test_bake_lag_on_a_library_override_is_refused():
     rig = _link_rig(_library_file(_ponytail_rig)).override_create(remap_local_usages=True)
     bpy.context.view_layer.objects.active = rig
     bpy.context.scene.frame_end = 40
-    refused("library override", lambda: bpy.ops.leapwright.bake_lag(bones="pony.1,pony.2,pony.3"))
+    refused("library override", lambda: bpy.ops.leapwright.bake_follow_through(bones="pony.1,pony.2,pony.3"))
 
 
 @pytest.mark.parametrize("mode,bone", [("ASK", "spine"), ("REPLACE", "hips"), ("LAYER", "hips")])
@@ -171,7 +171,7 @@ def test_keys_the_animator_adds_to_the_local_copy_are_kept_on_removal():
     pb.keyframe_insert("rotation_euler", frame=12)  # the animator's own work in the shot
     assert run_remove(rig) == {"FINISHED"}
     assert rig.animation_data.action == copy
-    paths = {fc.data_path for fc in addon().blender_compat.fcurves(copy, rig)}
+    paths = {fc.data_path for fc in addon().blender.compat.fcurves(copy, rig)}
     assert paths == {'pose.bones["spine"].location', 'pose.bones["spine"].rotation_euler'}
-    assert addon().ownership.STATE_PROPERTY not in rig
+    assert addon().blender.ownership.STATE_PROPERTY not in rig
     _written_actions_are_local()

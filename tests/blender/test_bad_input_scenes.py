@@ -20,7 +20,7 @@ import pytest
 
 from rig_builder import add_user_keys, build_rig, configure
 from scene_probe import (addon, file_state, first_difference, flight_error, refused, reports, run_remove,
-                         run_write, scene_plan, works)
+    run_write, scene_plan, works)
 
 
 def test_ntsc_fps_base_works_with_the_true_frame_rate():
@@ -68,7 +68,7 @@ def test_bone_with_locked_rotation_gets_location_keys_only():
     pb.lock_rotation_w = True
     configure(rig, height=0.4)
     assert run_write(rig) == {"FINISHED"}
-    paths = {fc.data_path for fc in addon().blender_compat.fcurves(rig.animation_data.action, rig)}
+    paths = {fc.data_path for fc in addon().blender.compat.fcurves(rig.animation_data.action, rig)}
     assert paths == {'pose.bones["hips"].location', '["lw_weight_bw"]'}
     assert flight_error(rig) < 2e-4
 
@@ -95,11 +95,11 @@ def test_axis_angle_rotation_layer_is_refused_before_writing():
     pb = rig.pose.bones["spine"]
     pb.rotation_mode = "AXIS_ANGLE"
     pb.keyframe_insert("rotation_axis_angle", frame=1)
-    spec = addon().blocking_pass.CurveSpec('pose.bones["spine"].rotation_axis_angle', 0, np.array([1.0, 10.0]),
+    spec = addon().blender.curves.CurveSpec('pose.bones["spine"].rotation_axis_angle', 0, np.array([1.0, 10.0]),
                                            np.array([0.0, 0.3]), np.zeros(2), "LINEAR")
     before = file_state()
-    with pytest.raises(addon().ownership.LayerError, match="axis-angle"):
-        addon().ownership.write_layer(rig, "lag", [spec])
+    with pytest.raises(addon().blender.ownership.LayerError, match="axis-angle"):
+        addon().blender.ownership.write_layer(rig, "follow_through", [spec])
     assert file_state() == before, first_difference(file_state(), before)
 
 
@@ -107,7 +107,7 @@ def test_user_nla_stack_with_strip_offsets_is_kept():
     rig = build_rig()
     add_user_keys(rig, bone="spine")
     ad = rig.animation_data
-    compat = addon().blender_compat
+    compat = addon().blender.compat
     track = ad.nla_tracks.new()
     track.name = "my take"
     strip = compat.new_nla_strip(rig, track, "take 1", 10, ad.action, compat.active_slot_handle(rig))
@@ -129,7 +129,7 @@ def _keys_in_a_strip_only(muted=False):
     rig = build_rig()
     add_user_keys(rig)
     ad = rig.animation_data
-    compat = addon().blender_compat
+    compat = addon().blender.compat
     track = ad.nla_tracks.new()
     track.name = "my take"
     compat.new_nla_strip(rig, track, "take 1", 1, ad.action, compat.active_slot_handle(rig))
@@ -190,9 +190,9 @@ def test_remove_with_nothing_written_reports_and_changes_nothing(capfd):
 
 
 def test_remove_without_a_rig_is_refused_by_poll():
-    bpy.context.scene.leapwright.rig = None
+    bpy.context.scene.leapwright_plan.rig = None
     bpy.context.view_layer.objects.active = None
-    refused(r"poll\(\) failed", bpy.ops.leapwright.remove_written)
+    refused(r"poll\(\) failed", bpy.ops.leapwright.remove_plan)
 
 
 def test_use_active_bone_on_a_mesh_is_refused_by_poll():

@@ -26,11 +26,11 @@ def fresh():
 
 
 def _plan():
-    return addon().plan_link.plan_for(bpy.context.scene)[0]
+    return addon().plan.link.plan_for(bpy.context.scene)[0]
 
 
 def _fps():
-    return addon().plan_link.scene_fps(bpy.context.scene)
+    return addon().blender.scene_units.scene_fps(bpy.context.scene)
 
 
 def _flight_mask(plan, t, margin=0.0):
@@ -56,7 +56,7 @@ def test_spline_curve_matches_the_analytic_centre_of_mass_at_sub_frames():
     scene.render.fps, scene.render.fps_base = 30000, 1001  # NTSC: the true rate is fps / fps_base
     rig = build_rig()
     configure(rig, height=0.45, distance=0.3, key_style="SPLINE", start_frame=7)
-    body, _ = addon().rig_space.resolve(rig, "hips", ())
+    body, _ = addon().rig.space.resolve(rig, "hips", ())
     assert run_write(rig) == {"FINISHED"}
     plan = _plan()
     t = np.linspace(0.0, plan.duration_s, 2000)
@@ -101,7 +101,7 @@ def _facing_frame_path(rotation, unit_scale):
     plan, fps = _plan(), _fps()
     frames = 1 + np.linspace(0.0, plan.duration_s, 97) * fps
     p = world_path(rig, "hips", frames) * unit_scale
-    f = addon().rig_space.forward_axis(rig, "RIG")
+    f = addon().rig.space.forward_axis(rig, "RIG")
     side = np.cross([0.0, 0.0, 1.0], f)
     rel = p - p[0]
     return np.column_stack([rel @ f, rel @ side, rel[:, 2]]), f
@@ -193,7 +193,7 @@ def test_moving_the_object_when_no_bone_is_named():
     bpy.context.scene.collection.objects.link(obj)
     configure(obj, height=0.5)
     obj.rotation_euler.z = 0.7
-    bpy.context.scene.leapwright.com_bone = ""
+    bpy.context.scene.leapwright_plan.com_bone = ""
     assert run_write(obj) == {"FINISHED"}
     plan, fps = _plan(), _fps()
     hop = plan.hops[0]
@@ -216,6 +216,6 @@ def test_rerun_from_another_frame_writes_the_same_keys():
 
 
 def _curve_bytes(fc):
-    keys = addon().key_writer.read_keys(fc)
+    keys = addon().blender.key_writer.read_keys(fc)
     return (fc.data_path, fc.array_index, keys["co"].tobytes(), keys["handle_left"].tobytes(),
             keys["handle_right"].tobytes())

@@ -23,8 +23,8 @@ REPO = pathlib.Path(__file__).resolve().parents[2]
 
 def _range_for_plan():
     scene = bpy.context.scene
-    plan = addon().plan_link.plan_for(scene)[0]
-    fps = addon().plan_link.scene_fps(scene)
+    plan = addon().plan.link.plan_for(scene)[0]
+    fps = addon().blender.scene_units.scene_fps(scene)
     scene.frame_start, scene.frame_end = 1, int(np.ceil(1 + plan.duration_s * fps)) + 4
     return plan, fps
 
@@ -45,7 +45,7 @@ def test_check_of_a_written_jump_finds_no_errors_and_recovers_gravity():
     assert abs(c.implied_gravity - G) / G < 1e-3
     assert "lw_weight_measured_bw" in rig
     # Measured weight is 1 BW standing at the start (statics).
-    fc = next(fc for fc in addon().blender_compat.fcurves(rig.animation_data.action, rig)
+    fc = next(fc for fc in addon().blender.compat.fcurves(rig.animation_data.action, rig)
               if fc.data_path == '["lw_weight_measured_bw"]')
     assert abs(fc.evaluate(2.0) - 1.0) < 0.05
 
@@ -53,7 +53,7 @@ def test_check_of_a_written_jump_finds_no_errors_and_recovers_gravity():
 def _hand_keyed_floaty_jump(rig):
     """Keys on every frame from a plan sampled at 48 fps and played at 24: hang time doubled."""
     core = addon().core
-    plan = core.planner.plan_jump(core.goals.JumpGoals(height=0.4))
+    plan = core.plan.planner.plan_jump(core.plan.goals.JumpGoals(height=0.4))
     s = plan.sample(48.0)
     pb = rig.pose.bones["hips"]
     for i, z in enumerate(s.height):
@@ -95,7 +95,7 @@ def test_overlay_planned_arc_matches_the_written_jump_sample_for_sample():
     rig = build_rig(rotation_z_deg=90.0)
     configure(rig, height=0.35, distance=0.5, key_style="EVERY_FRAME")
     plan, fps = _range_for_plan()
-    overlay = addon().path_overlay
+    overlay = addon().check.overlay
     before = overlay.overlay_geometry(bpy.context.scene)["planned"]
     assert run_write(rig) == {"FINISHED"}
     after = overlay.overlay_geometry(bpy.context.scene)["planned"]
@@ -113,7 +113,7 @@ def test_overlay_switched_on_and_off_twenty_times_leaves_no_draw_handler():
     rig = build_rig()
     configure(rig, height=0.3)
     c = bpy.context.scene.leapwright_check
-    overlay = addon().path_overlay
+    overlay = addon().check.overlay
     for _ in range(20):
         c.show_overlay = True
         assert overlay.is_drawing()
@@ -130,7 +130,7 @@ def test_overlay_switched_on_and_off_twenty_times_leaves_no_draw_handler():
 def test_missing_body_bone_reports_and_changes_nothing():
     rig = build_rig()
     configure(rig, height=0.3)
-    bpy.context.scene.leapwright.com_bone = "no_such_bone"
+    bpy.context.scene.leapwright_plan.com_bone = "no_such_bone"
     before = snapshot()
     try:
         _check(rig)
@@ -149,6 +149,6 @@ def test_remove_written_takes_the_check_back_too():
     run_write(rig)
     _check(rig)
     bpy.context.view_layer.objects.active = rig
-    assert bpy.ops.leapwright.remove_written() == {"FINISHED"}
+    assert bpy.ops.leapwright.remove_plan() == {"FINISHED"}
     assert "lw_weight_measured_bw" not in rig
     assert snapshot() == before

@@ -1,7 +1,7 @@
 """Check Jump follows the whole-body centre of mass (COM) where the rig is read as a body.
 
 The scene: the demo mannequin (blend_examples/mannequin.py) keyed by hand on every
-frame, the hips on a planned jump (core.planner sampled at the scene's rate, vertical
+frame, the hips on a planned jump (core.plan.planner sampled at the scene's rate, vertical
 only), the foot controllers lifted with the hips in the air, and both arms swung up and
 down in flight; then Keep Body on Its Arc moves the body so the whole-body COM follows
 the take-off parabola.
@@ -47,11 +47,11 @@ def _hand_made_jump():
     objs = mannequin.build_demo_scene(fps=FPS)
     _enable()
     rig, scene = objs["rig"], bpy.context.scene
-    s = scene.leapwright
+    s = scene.leapwright_plan
     s.rig, s.com_bone = rig, mannequin.BODY_BONE
     s.foot_left, s.foot_right = mannequin.FOOT_CONTROLLERS
     core = addon().core
-    plan = core.planner.plan_jump(core.goals.JumpGoals(height=0.4))
+    plan = core.plan.planner.plan_jump(core.plan.goals.JumpGoals(height=0.4))
     samples = plan.sample(float(FPS))
     hop = plan.hops[0]
     up = Vector((0.0, 0.0, 1.0)) / scene.unit_settings.scale_length
@@ -127,7 +127,7 @@ def test_after_keep_body_on_arc_the_hips_are_off_arc_and_the_whole_body_com_is_a
     assert abs(c.implied_gravity - _scene_g(scene)) / _scene_g(scene) < 0.01
     # What was checked is the whole-body COM computed here independently (joints named by
     # hand, de Leva 1996 Table 4 male), sampled in metres over the scene range.
-    frames, points = addon().path_overlay._STATE["checked"][:2]
+    frames, points = addon().check.overlay._STATE["checked"][:2]
     assert np.array_equal(frames, np.arange(scene.frame_start, scene.frame_end + 1))
     com = _coms(rig, frames)[0] * scene.unit_settings.scale_length
     assert np.max(np.linalg.norm(points - com, axis=1)) < 1e-4
@@ -147,7 +147,7 @@ def _unmappable_rig():
 
     rig = build_rig()
     configure(rig, height=0.4)
-    assert bpy.ops.leapwright.write_blocking() == {"FINISHED"}
+    assert bpy.ops.leapwright.write_plan() == {"FINISHED"}
     bpy.context.view_layer.objects.active = rig
     return rig
 

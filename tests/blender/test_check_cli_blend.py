@@ -35,7 +35,7 @@ def late_arms(tmp_path):
     rig, scene = _jump(arm_raise=True)
     bpy.context.view_layer.objects.active = rig
     assert bpy.ops.leapwright.check_body_arc() == {"FINISHED"}
-    panel = list(addon().air_operators.LAST_CHECK[rig.name])
+    panel = list(addon().body.operators.LAST_CHECK[rig.name])
     path = str(tmp_path / "late_arms.blend")
     bpy.ops.wm.save_as_mainfile(filepath=path, copy=True)
     return rig, scene, panel, path
@@ -78,7 +78,7 @@ def test_cli_names_arms_that_start_moving_at_the_take_off_as_the_panel_does(tmp_
     rig, _scene = raise_at_takeoff()
     bpy.context.view_layer.objects.active = rig
     assert bpy.ops.leapwright.check_body_arc() == {"FINISHED"}
-    said = [line for line in addon().air_operators.LAST_CHECK[rig.name] if "take-off speed is read" in line]
+    said = [line for line in addon().body.operators.LAST_CHECK[rig.name] if "take-off speed is read" in line]
     path = str(tmp_path / "arms_at_takeoff.blend")
     bpy.ops.wm.save_as_mainfile(filepath=path, copy=True)
     arc = json.loads(_cli("check", path, "--object", rig.name, "--json").stdout)["body_arc"]

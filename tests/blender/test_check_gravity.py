@@ -56,4 +56,4 @@ def test_the_reference_follows_the_jump_panel_not_the_physics_setting():
     assert _check(rig) == {"FINISHED"}
     c = bpy.context.scene.leapwright_check
     assert not [f.kind for f in c.findings if "gravity" in f.kind], [f.message for f in c.findings]
-    assert addon().plan_link.exact_gravity(bpy.context.scene.leapwright.gravity) == 9.80665
+    assert addon().blender.scene_units.exact_gravity(bpy.context.scene.leapwright_plan.gravity) == 9.80665

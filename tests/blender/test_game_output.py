@@ -21,11 +21,11 @@ MODES = (("IN_PLACE", False), ("ROOT_BONE", False), ("ROOT_BONE", True), ("OBJEC
 
 
 def _plan():
-    return addon().plan_link.plan_for(bpy.context.scene)[0]
+    return addon().plan.link.plan_for(bpy.context.scene)[0]
 
 
 def _fps():
-    return addon().plan_link.scene_fps(bpy.context.scene)
+    return addon().blender.scene_units.scene_fps(bpy.context.scene)
 
 
 def _fresh():
@@ -46,8 +46,8 @@ def _write_mode(mode, vertical, style="SPLINE"):
     plan, fps = _plan(), _fps()
     whole = np.arange(1, int(np.floor(1 + plan.duration_s * fps)) + 1, dtype=float)
     sub = 1 + np.linspace(0.0, plan.duration_s, 173) * fps
-    model = addon().body_com.body_model(rig)[0]
-    com = addon().body_com.whole_body_com(bpy.context.scene, rig, model, whole)
+    model = addon().body.com.body_model(rig)[0]
+    com = addon().body.com.whole_body_com(bpy.context.scene, rig, model, whole)
     return {"com": com, "hips": world_path(rig, "hips", sub), "root": world_path(rig, "root", whole),
             "object": np.array([world_path(rig, "", [f])[0] for f in whole[[0, -1]]]),
             "feet": world_path(rig, "foot.L", whole)}
@@ -142,12 +142,12 @@ def test_asymmetric_gravity_rise_and_fall_fit_their_gravities_within_half_a_perc
     # The hang holds the top to within the core's Hermite key tolerance (5e-4 m): the spline keys
     # are not (yet) placed at the hang's two ends, so the span across each end rounds it off.
     assert np.ptp(held) < 5e-4
-    notes = addon().plan_link.plan_for(bpy.context.scene)[1]["stylisations"]
+    notes = addon().plan.link.plan_for(bpy.context.scene)[1]["stylisations"]
     assert any("falls as if g were 2 g" in n for n in notes) and any("hangs 0.1 s" in n for n in notes)
 
 
 def _kinds():
-    return {i.kind for i in addon().game_operators.LAST_CHECK[bpy.context.scene.as_pointer()][1]}
+    return {i.kind for i in addon().export.operators.LAST_CHECK[bpy.context.scene.as_pointer()][1]}
 
 
 def test_export_checks_find_each_problem_and_pass_a_clean_rig():
@@ -208,7 +208,7 @@ def _cli(*args):
 
 
 def _panel_issues():
-    return [(i.kind, i.message) for i in addon().game_operators.LAST_CHECK[bpy.context.scene.as_pointer()][1]]
+    return [(i.kind, i.message) for i in addon().export.operators.LAST_CHECK[bpy.context.scene.as_pointer()][1]]
 
 
 def test_check_export_on_the_command_line_says_what_the_panel_says(tmp_path):
@@ -219,12 +219,12 @@ def test_check_export_on_the_command_line_says_what_the_panel_says(tmp_path):
     path = str(tmp_path / "jump.blend")
     bpy.ops.wm.save_as_mainfile(filepath=path, copy=True)
     assert bpy.ops.leapwright.check_export() == {"FINISHED"}
-    code, report, err = _cli("check-export", path, "--object", rig.name, "--json")
+    code, report, err = _cli("export", path, "--object", rig.name, "--json")
     assert code == 1, err
     assert [(i["kind"], i["message"]) for i in report["issues"]] == _panel_issues()
     assert {k for k, _ in _panel_issues()} == {"fractional_keys"} and report["root_bone"] == "root"
     # Snap and Check from the command line: saved, and the panel then finds nothing either.
-    code, report, err = _cli("check-export", path, "--object", rig.name, "--snap-keys", "--json")
+    code, report, err = _cli("export", path, "--object", rig.name, "--snap-keys", "--json")
     assert code == 0 and report["issues"] == [] and report["snapped_keys"] > 0, (report, err)
     name = rig.name
     bpy.ops.wm.open_mainfile(filepath=path)
@@ -252,21 +252,21 @@ def test_check_export_on_the_command_line_finds_each_problem_the_panel_finds(tmp
     assert bpy.ops.leapwright.check_export() == {"FINISHED"}
     panel = _panel_issues()
     assert {k for k, _ in panel} == {"unit_scale", "object_scale", "bone_scale_keys", "root_axes"}
-    code, summary, err = _cli("check-export", *paths, "--object", rig.name, "--jobs", "2", "--json",
+    code, summary, err = _cli("export", *paths, "--object", rig.name, "--jobs", "2", "--json",
                               "--out-dir", str(tmp_path / "reports"))
     assert code == 1 and summary["files"] == 2 and summary["with_findings"] == 2, err
     for p in paths:
         import json
         one = json.loads((tmp_path / "reports" / (p.split("/")[-1] + ".json")).read_text())
         assert [(i["kind"], i["message"]) for i in one["report"]["issues"]] == panel
-    code, _out, err = _cli("check-export", paths[0], "--object", "NoSuchRig")
+    code, _out, err = _cli("export", paths[0], "--object", "NoSuchRig")
     assert code == 2 and "NoSuchRig" in err and "Traceback" not in err
 
 
 def test_panels_show_root_motion_stylisations_and_the_export_findings():
     rig = build_rig()
     configure(rig, height=0.4, fall_gravity_scale=2.0, root_motion="ROOT_BONE", key_style="TWOS")
-    log = draw_panel("LEAPWRIGHT_PT_jump")
+    log = draw_panel("LEAPWRIGHT_PT_plan")
     props = {n for kind, n in log if kind == "prop"}
     assert {"fall_gravity_scale", "apex_hang", "root_motion", "root_bone", "root_vertical", "key_style"} <= props
     labels = " ".join(t for kind, t in log if kind == "label")
@@ -274,7 +274,7 @@ def test_panels_show_root_motion_stylisations_and_the_export_findings():
     bpy.context.scene.unit_settings.scale_length = 0.01
     bpy.context.view_layer.objects.active = rig
     assert bpy.ops.leapwright.check_export() == {"FINISHED"}
-    log = draw_panel("LEAPWRIGHT_PT_game_export")
+    log = draw_panel("LEAPWRIGHT_PT_export")
     assert {"leapwright.check_export", "leapwright.split_clips"} <= {n for kind, n in log if kind == "operator"}
     labels = " ".join(t for kind, t in log if kind == "label")
     assert "unit scale is 0.01" in labels

@@ -173,9 +173,9 @@ def _operator_runs():
     rig = build_rig()
     configure(rig, height=0.4)
     bpy.context.view_layer.objects.active = rig
-    assert bpy.ops.leapwright.write_blocking() == {"FINISHED"}
+    assert bpy.ops.leapwright.write_plan() == {"FINISHED"}
     assert any(m.name.startswith("lw:") for m in bpy.context.scene.timeline_markers)
-    assert bpy.ops.leapwright.remove_written() == {"FINISHED"}
+    assert bpy.ops.leapwright.remove_plan() == {"FINISHED"}
 
 
 @pytest.fixture
@@ -196,8 +196,8 @@ def test_twenty_install_cycles_leave_nothing_behind(no_install):
             install()
             assert not conftest.enabled()
             enable()
-            assert "leapwright" in bpy.types.Scene.bl_rna.properties, n
-            assert "write_blocking" in dir(bpy.ops.leapwright), n
+            assert "leapwright_plan" in bpy.types.Scene.bl_rna.properties, n
+            assert "write_plan" in dir(bpy.ops.leapwright), n
             assert leftovers(), "the leftover check sees nothing even while the add-on is enabled"
             overlays += _switch_overlays_on()
             disable()

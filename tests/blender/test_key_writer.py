@@ -19,13 +19,13 @@ def _empty_with_action():
     obj = bpy.data.objects.new("Probe", None)
     bpy.context.scene.collection.objects.link(obj)
     action = bpy.data.actions.new("ProbeAction")
-    addon().blender_compat.assign_action(obj, action)
+    addon().blender.compat.assign_action(obj, action)
     return obj, action
 
 
 def test_free_handles_reproduce_a_parabola_under_fcurve_evaluate():
     obj, action = _empty_with_action()
-    compat, kw = addon().blender_compat, addon().key_writer
+    compat, kw = addon().blender.compat, addon().blender.key_writer
     v0, start = 2.8, 101.0
     t_keys = np.array([0.0, 0.21, 0.57])  # uneven spans, one key mid-arc
     z = lambda t: v0 * t - 0.5 * G * t * t
@@ -46,7 +46,7 @@ def test_free_handles_reproduce_a_parabola_under_fcurve_evaluate():
 def test_curve_made_through_the_compat_layer_animates_the_object():
     # The trap on 4.4/4.5: a legacy-made curve on an assigned action animates nothing.
     obj, action = _empty_with_action()
-    compat, kw = addon().blender_compat, addon().key_writer
+    compat, kw = addon().blender.compat, addon().blender.key_writer
     fc = compat.new_fcurve(action, obj, "location", 1, "lw:test")
     kw.write_curve(fc, [1.0, 11.0], [0.0, 5.0], None, "LINEAR")
     bpy.context.scene.frame_set(6)
@@ -56,7 +56,7 @@ def test_curve_made_through_the_compat_layer_animates_the_object():
 
 def test_read_and_restore_keys_are_byte_exact():
     obj, action = _empty_with_action()
-    compat, kw = addon().blender_compat, addon().key_writer
+    compat, kw = addon().blender.compat, addon().blender.key_writer
     for f, v in ((1, 0.0), (7, 1.3), (19, -0.4), (30, 2.0)):
         obj.location.x = v
         obj.keyframe_insert("location", index=0, frame=f)
@@ -72,7 +72,7 @@ def test_read_and_restore_keys_are_byte_exact():
 
 def test_bulk_write_of_many_keys_matches_every_value():
     obj, action = _empty_with_action()
-    compat, kw = addon().blender_compat, addon().key_writer
+    compat, kw = addon().blender.compat, addon().blender.key_writer
     n = 5000
     frames = np.arange(n, dtype=float)
     values = np.sin(frames / 50.0)
@@ -88,7 +88,7 @@ def test_writing_in_place_sets_the_interpolation_asked_for():
     # A re-bake writes into its own keys; a key whose interpolation differs (edited by
     # hand, or a bake that switched to held keys) gets the one asked for, the others stay.
     obj, action = _empty_with_action()
-    compat, kw = addon().blender_compat, addon().key_writer
+    compat, kw = addon().blender.compat, addon().blender.key_writer
     fc = compat.new_fcurve(action, obj, "location", 0, "lw:test")
     frames = np.arange(1.0, 11.0)
     kw.write_curve(fc, frames, np.zeros(10), None, "LINEAR")

@@ -43,12 +43,12 @@ def _ponytail_rig():
 
 def _bake(rig, **props):
     bpy.context.view_layer.objects.active = rig
-    return bpy.ops.leapwright.bake_lag(**props)
+    return bpy.ops.leapwright.bake_follow_through(**props)
 
 
 def _remove(rig):
     bpy.context.view_layer.objects.active = rig
-    return bpy.ops.leapwright.remove_lag()
+    return bpy.ops.leapwright.remove_follow_through()
 
 
 def _jumping_rig():
@@ -62,9 +62,9 @@ def _jumping_rig():
 
 
 def _lag_curves(rig):
-    track = rig.animation_data.nla_tracks.get("lw:lag")
+    track = rig.animation_data.nla_tracks.get("lw:follow_through")
     assert track is not None and len(track.strips) == 1
-    return list(addon().blender_compat.fcurves(track.strips[0].action, rig))
+    return list(addon().blender.compat.fcurves(track.strips[0].action, rig))
 
 
 def _key_values(fc):
@@ -107,10 +107,10 @@ def test_keys_only_on_chosen_bones_rebake_keeps_count_user_keys_untouched_and_un
     assert again.keys() == first.keys()
     for channel, values in first.items():
         np.testing.assert_allclose(again[channel], values, atol=1e-6, err_msg=str(channel))
-    assert len([t for t in rig.animation_data.nla_tracks if t.name == "lw:lag"]) == 1
+    assert len([t for t in rig.animation_data.nla_tracks if t.name == "lw:follow_through"]) == 1
     after = snapshot()
     assert dict(_user_curves(after, action)) == dict(_user_curves(before, action))
-    peaks = json.loads(scene.leapwright_lag.readout)
+    peaks = json.loads(scene.leapwright_follow_through.readout)
     assert set(peaks) == set(PONY[:2]) and all(v > 0.0 for v in peaks.values())
     assert _remove(rig) == {"FINISHED"}
     assert snapshot() == before
@@ -122,7 +122,7 @@ def test_euler_bones_get_the_same_rotation_as_quaternion_bones():
     rig, marks = _jumping_rig()
     scene = bpy.context.scene
     frames = np.arange(marks["lw:flight"] - 2, marks["lw:landing"] + 6)
-    sampling, compat = addon().rig_sampling, addon().blender_compat
+    sampling, compat = addon().rig.sampling, addon().blender.compat
     user = Euler((0.1, -0.2, 0.05), "ZXY")  # the animator's held pose of pony.2
     pb = rig.pose.bones["pony.2"]
     pb.rotation_quaternion = user.to_quaternion()
@@ -158,11 +158,11 @@ def test_ponytail_floats_in_flight_and_droops_past_standing_after_touchdown(pres
     rig, marks = _jumping_rig()
     scene = bpy.context.scene
     frames = np.arange(scene.frame_start, scene.frame_end + 1)
-    sampling = addon().rig_sampling
+    sampling = addon().rig.sampling
     animated, _ = sampling.sample_pose_world(scene, rig, frames, ["pony.3"])
     assert _bake(rig, bones=",".join(PONY), preset=preset) == {"FINISHED"}
     baked, _ = sampling.sample_pose_world(scene, rig, frames, ["pony.3"])
-    sag = addon().core.chain_presets.chain_preset(preset).sag
+    sag = addon().core.follow_through.presets.chain_preset(preset).sag
     lift = _angle_from_down(baked[:, 0]) - _angle_from_down(animated[:, 0])
     flight = (frames >= marks["lw:flight"]) & (frames < marks["lw:landing"])
     assert lift[flight].max() >= 0.5 * sag, (math.degrees(lift[flight].max()), math.degrees(sag))
@@ -178,9 +178,9 @@ def test_bad_selection_reports_and_changes_nothing(case):
     rig, _ = _jumping_rig()
     target, bones = rig, ",".join(PONY)
     if case == "no bones":
-        bpy.context.scene.leapwright_lag.source = "COLLECTION"
+        bpy.context.scene.leapwright_follow_through.source = "COLLECTION"
         rig.data.collections.new("empty")
-        bpy.context.scene.leapwright_lag.collection = "empty"
+        bpy.context.scene.leapwright_follow_through.collection = "empty"
         bones = ""
     elif case == "axis-angle":
         rig.pose.bones["pony.2"].rotation_mode = "AXIS_ANGLE"
@@ -194,7 +194,7 @@ def test_bad_selection_reports_and_changes_nothing(case):
     word = {"no bones": "no bones", "axis-angle": "axis-angle", "mesh": "not an armature"}[case]
     assert word in str(err.value)
     assert snapshot() == before
-    assert rig.animation_data.nla_tracks.get("lw:lag") is None
+    assert rig.animation_data.nla_tracks.get("lw:follow_through") is None
 
 
 def test_sampling_plays_nla_offsets_and_restores_meshes_and_frame():
@@ -212,7 +212,7 @@ def test_sampling_plays_nla_offsets_and_restores_meshes_and_frame():
     scene = bpy.context.scene
     scene.frame_set(7)
     frames = np.array([5.0, 11.0, 30.5, 50.0])
-    matrices, names = addon().rig_sampling.sample_pose_world(scene, rig, frames, ["hips"])
+    matrices, names = addon().rig.sampling.sample_pose_world(scene, rig, frames, ["hips"])
     assert names == ["hips"] and scene.frame_current == 7 and not mesh.hide_viewport
     from scene_probe import world_path
     np.testing.assert_allclose(matrices[:, 0, :3, 3], world_path(rig, "hips", frames), atol=1e-6)
@@ -228,8 +228,8 @@ def test_selected_pose_bones_are_the_default_choice():
         # Blender 5.0 moved bone selection from Bone to PoseBone.
         holder = pb if "select" in type(pb).bl_rna.properties else pb.bone
         holder.select = pb.name in PONY[1:]
-    bpy.context.scene.leapwright_lag.source = "SELECTED"
-    assert bpy.ops.leapwright.bake_lag() == {"FINISHED"}
+    bpy.context.scene.leapwright_follow_through.source = "SELECTED"
+    assert bpy.ops.leapwright.bake_follow_through() == {"FINISHED"}
     bpy.ops.object.mode_set(mode="OBJECT")
     assert {fc.data_path for fc in _lag_curves(rig)} == {
         f'pose.bones["{n}"].rotation_quaternion' for n in PONY[1:]}
@@ -246,12 +246,12 @@ def test_command_line_bake_saves_the_layer_and_remove_gives_the_file_back(tmp_pa
     bpy.ops.wm.save_mainfile(filepath=path)
     bpy.ops.wm.open_mainfile(filepath=path)
     before = snapshot()
-    assert main(["bake", path, "--bones", ",".join(PONY), "--preset", "cloth"]) == 0
+    assert main(["follow-through", path, "--bones", ",".join(PONY), "--preset", "cloth"]) == 0
     bpy.ops.wm.open_mainfile(filepath=path)
     rig = bpy.data.objects["Rig"]
     assert {fc.data_path for fc in _lag_curves(rig)} == {f'pose.bones["{n}"].rotation_quaternion' for n in PONY}
-    assert main(["bake", path, "--bones", "no_such_bone"]) == 2
-    assert main(["bake", path, "--bones", *PONY, "--remove"]) == 0
+    assert main(["follow-through", path, "--bones", "no_such_bone"]) == 2
+    assert main(["follow-through", path, "--bones", *PONY, "--remove"]) == 0
     bpy.ops.wm.open_mainfile(filepath=path)
     assert snapshot() == before
 
@@ -264,9 +264,9 @@ def _rotation_gap(a, b):
 
 def test_thinned_keys_stay_within_tolerance_and_twos_hold_as_blender_plays_them():
     rig, _ = _jumping_rig()
-    scene, lag = bpy.context.scene, bpy.context.scene.leapwright_lag
+    scene, lag = bpy.context.scene, bpy.context.scene.leapwright_follow_through
     frames = np.arange(scene.frame_start, scene.frame_end + 1)
-    sample = addon().rig_sampling.sample_pose_world
+    sample = addon().rig.sampling.sample_pose_world
     assert _bake(rig, bones=",".join(PONY), preset="hair") == {"FINISHED"}
     full, _ = sample(scene, rig, frames, list(PONY))
     tol = math.radians(0.5)
@@ -297,12 +297,12 @@ def test_loop_bake_agrees_at_its_ends_and_a_camera_cut_restarts_from_rest():
     for f in range(1, 26):  # a bob repeating every 24 frames
         hips.location = (0.0, 0.06 * math.sin(2 * math.pi * (f - 1) / 24.0), 0.0)
         hips.keyframe_insert("location", frame=f)
-    scene, lag = bpy.context.scene, bpy.context.scene.leapwright_lag
+    scene, lag = bpy.context.scene, bpy.context.scene.leapwright_follow_through
     scene.frame_start, scene.frame_end = 1, 25
     lag.cyclic = True
     assert _bake(rig, bones=",".join(PONY), preset="hair") == {"FINISHED"}
     assert max(json.loads(lag.readout).values()) > 1.0  # it does swing [deg]
-    ends, _ = addon().rig_sampling.sample_pose_world(scene, rig, [1, 25], list(PONY))
+    ends, _ = addon().rig.sampling.sample_pose_world(scene, rig, [1, 25], list(PONY))
     # 0.1 deg: the loop tolerance of the issue
     assert _rotation_gap(ends[0], ends[1]).max() < math.radians(0.1)
     lag.cyclic = False
@@ -334,18 +334,18 @@ def test_rebake_with_other_values_rewrites_the_layer_in_place_and_a_new_range_re
     curves = {(fc.data_path, fc.array_index): fc for fc in _lag_curves(rig)}
     pointers = {key: fc.as_pointer() for key, fc in curves.items()}
     cloth = {key: _key_values(fc) for key, fc in curves.items()}
-    rig.animation_data.nla_tracks["lw:lag"].mute = True  # muted to compare: the new bake is shown again
+    rig.animation_data.nla_tracks["lw:follow_through"].mute = True  # muted to compare: the new bake is shown again
     assert _bake(rig, bones=",".join(PONY), preset="hair") == {"FINISHED"}
-    assert not rig.animation_data.nla_tracks["lw:lag"].mute
+    assert not rig.animation_data.nla_tracks["lw:follow_through"].mute
     rewritten = {(fc.data_path, fc.array_index): fc for fc in _lag_curves(rig)}
     assert {key: fc.as_pointer() for key, fc in rewritten.items()} == pointers  # written in place
     for key, fc in rewritten.items():
         np.testing.assert_allclose(_key_values(fc), hair[key], atol=1e-6, err_msg=str(key))
     assert any(np.abs(cloth[key] - hair[key]).max() > 1e-3 for key in hair)  # the values did change
-    track = rig.animation_data.nla_tracks["lw:lag"]
+    track = rig.animation_data.nla_tracks["lw:follow_through"]
     track.strips[0].frame_start_ui += 3  # moved by hand: the re-bake puts it back where it belongs
     assert _bake(rig, bones=",".join(PONY), preset="hair") == {"FINISHED"}
-    strip = rig.animation_data.nla_tracks["lw:lag"].strips[0]
+    strip = rig.animation_data.nla_tracks["lw:follow_through"].strips[0]
     assert abs(strip.frame_start - strip.action.frame_range[0]) < 1e-6
     scene.frame_end -= 5
     assert _bake(rig, bones=",".join(PONY), preset="hair") == {"FINISHED"}

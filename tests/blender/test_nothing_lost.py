@@ -18,7 +18,8 @@ import bpy
 import pytest
 
 from rig_builder import build_rig, configure
-from scene_probe import _all_fcurve_sets, _fcurve_record, addon, file_state, first_difference, run_remove, run_write
+from scene_probe import (_all_fcurve_sets, _fcurve_record, addon, file_state, first_difference, run_remove,
+    run_write)
 
 REPO = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
 STYLES = ("POSES", "SPLINE", "EVERY_FRAME")
@@ -47,7 +48,7 @@ def _animators_rig(clash=True):
     rig["mood"] = 0.75
     rig.keyframe_insert('["mood"]', frame=25)
     rig.pose.bones["spine"]["stretch"] = 0.5
-    compat = addon().blender_compat
+    compat = addon().blender.compat
     action = rig.animation_data.action
     # Vary every key attribute leapwright must carry through untouched.
     types = ("FREE", "AUTO", "VECTOR", "ALIGNED", "AUTO_CLAMPED")
@@ -131,7 +132,7 @@ def test_use_active_bone_twice_gives_the_same_settings_as_once():
     bpy.context.view_layer.objects.active = rig
     before = file_state()
     assert bpy.ops.leapwright.use_active_bone() == {"FINISHED"}
-    s = bpy.context.scene.leapwright
+    s = bpy.context.scene.leapwright_plan
     once = (s.rig, s.com_bone)
     assert bpy.ops.leapwright.use_active_bone() == {"FINISHED"}
     assert (s.rig, s.com_bone) == once == (rig, "hips")
@@ -239,12 +240,12 @@ def test_bake_lag_twice_gives_the_same_file_as_once_and_remove_twice_as_before()
     rig = _baked_rig()
     bones = "pony.1,pony.2,pony.3"
     before, mine = file_state(), _user_curves()
-    assert bpy.ops.leapwright.bake_lag(bones=bones) == {"FINISHED"}
+    assert bpy.ops.leapwright.bake_follow_through(bones=bones) == {"FINISHED"}
     once = file_state()
     assert _user_curves() == mine
-    assert bpy.ops.leapwright.bake_lag(bones=bones) == {"FINISHED"}
+    assert bpy.ops.leapwright.bake_follow_through(bones=bones) == {"FINISHED"}
     assert file_state() == once, first_difference(file_state(), once)
-    assert bpy.ops.leapwright.remove_lag() == {"FINISHED"}
+    assert bpy.ops.leapwright.remove_follow_through() == {"FINISHED"}
     assert file_state() == before, first_difference(file_state(), before)
-    assert bpy.ops.leapwright.remove_lag() == {"CANCELLED"}
+    assert bpy.ops.leapwright.remove_follow_through() == {"CANCELLED"}
     assert file_state() == before, first_difference(file_state(), before)

@@ -36,7 +36,7 @@ def test_ask_reports_the_clash_and_changes_nothing():
 
 def _user_records(rig, action):
     a = addon()
-    return sorted(_record(fc) for fc in a.blender_compat.fcurves(action, rig)
+    return sorted(_record(fc) for fc in a.blender.compat.fcurves(action, rig)
                   if not (fc.group and fc.group.name.startswith("lw:")))
 
 
@@ -44,8 +44,8 @@ def _user_records(rig, action):
 def test_layer_keeps_user_keys_byte_identical_and_adds_the_plan_on_top(user_frames):
     # Keys off whole frames: the pushed strip must not shift them in time.
     rig = _rig_with_user_animation(user_frames)
-    plan = addon().plan_link.plan_for(bpy.context.scene)[0]
-    fps = addon().plan_link.scene_fps(bpy.context.scene)
+    plan = addon().plan.link.plan_for(bpy.context.scene)[0]
+    fps = addon().blender.scene_units.scene_fps(bpy.context.scene)
     frames = 1 + np.linspace(0.0, plan.duration_s, 61) * fps
     user_only = world_path(rig, "hips", frames)
     action = rig.animation_data.action
@@ -54,8 +54,8 @@ def test_layer_keeps_user_keys_byte_identical_and_adds_the_plan_on_top(user_fram
     assert run_write(rig, on_conflict="LAYER") == {"FINISHED"}
     assert _user_records(rig, action) == mine  # the animator's keys, byte for byte
     tracks = [t.name for t in rig.animation_data.nla_tracks]
-    assert tracks == [addon().ownership.USER_TRACK, "lw:blocking"]
-    assert rig.animation_data.nla_tracks["lw:blocking"].strips[0].blend_type == "COMBINE"
+    assert tracks == [addon().blender.ownership.USER_TRACK, "lw:plan"]
+    assert rig.animation_data.nla_tracks["lw:plan"].strips[0].blend_type == "COMBINE"
     # Evaluated: user + plan, in the world, at every sampled frame (plan within its key tolerance).
     layered = world_path(rig, "hips", frames)
     t = (frames - 1) / fps
@@ -103,18 +103,18 @@ def test_remove_on_a_rig_without_animation_leaves_no_trace():
 def test_layer_mechanism_is_generic_for_later_capabilities():
     # Two capabilities layered at once: the user's action comes back only when the last goes.
     rig = _rig_with_user_animation()
-    own = addon().ownership
-    spec_type = addon().blocking_pass.CurveSpec
+    own = addon().blender.ownership
+    spec_type = addon().blender.curves.CurveSpec
     delta = spec_type('pose.bones["spine"].location', 0, np.array([1.0, 30.0]), np.array([0.0, 0.2]),
                       np.zeros(2), "LINEAR")
     before = snapshot()
-    own.write_layer(rig, "lag", [delta])
-    own.write_layer(rig, "air", [delta])
-    assert [t.name for t in rig.animation_data.nla_tracks] == [own.USER_TRACK, "lw:lag", "lw:air"]
+    own.write_layer(rig, "follow_through", [delta])
+    own.write_layer(rig, "body", [delta])
+    assert [t.name for t in rig.animation_data.nla_tracks] == [own.USER_TRACK, "lw:follow_through", "lw:body"]
     assert rig.animation_data.action is None
-    own.clear(rig, "lag")
+    own.clear(rig, "follow_through")
     assert rig.animation_data.action is None
-    own.clear(rig, "air")
+    own.clear(rig, "body")
     assert snapshot() == before
 
 
@@ -128,11 +128,11 @@ def _refused(rig, match):
 def test_no_rig_reports_and_changes_nothing():
     rig = build_rig()
     configure(rig)
-    bpy.context.scene.leapwright.rig = None
+    bpy.context.scene.leapwright_plan.rig = None
     bpy.context.view_layer.objects.active = None
     before = snapshot()
     with pytest.raises(RuntimeError, match="no rig"):
-        bpy.ops.leapwright.write_blocking()
+        bpy.ops.leapwright.write_plan()
     assert snapshot() == before
 
 

@@ -1,4 +1,4 @@
-"""`leapwright check` and `leapwright bake` over several .blend files: the demo jump, four copies, in one call.
+"""`leapwright check` and `leapwright follow-through` over several .blend files: the demo jump, four copies, in one call.
 
 Run after ``make demo`` (reads ``blend_examples/out``, or ``$LW_DEMO_OUT``).
 """
@@ -70,7 +70,7 @@ KEYS_PROBE = """
 import json, sys, bpy
 bpy.ops.wm.open_mainfile(filepath=sys.argv[1])
 rig = bpy.data.objects[sys.argv[2]]
-track = rig.animation_data.nla_tracks["lw:lag"]
+track = rig.animation_data.nla_tracks["lw:follow_through"]
 out = {}
 for strip in track.strips:
     a = strip.action
@@ -96,7 +96,7 @@ def _bake_copies(copies, tmp_path, extra):
     for src, dst in zip(paths, mine):
         shutil.copy(src, dst)
     out_dir = tmp_path / "reports"
-    r = leapwright("bake", *map(str, mine), "--bones", PONYTAIL, "--preset", "hair", "--rig", rig_args[1],
+    r = leapwright("follow-through", *map(str, mine), "--bones", PONYTAIL, "--preset", "hair", "--rig", rig_args[1],
                    "--out-dir", str(out_dir), "--json", *extra)
     assert r.returncode == 0, r.stdout + r.stderr
     summary = json.loads(r.stdout)
@@ -111,7 +111,7 @@ def test_bake_batch_pool_and_dask_match_one_by_one(copies, tmp_path):
     rig = rig_args[1]
     alone_path = tmp_path / "alone.blend"
     shutil.copy(paths[0], alone_path)
-    r = leapwright("bake", str(alone_path), "--bones", PONYTAIL, "--preset", "hair", "--rig", rig, "--json")
+    r = leapwright("follow-through", str(alone_path), "--bones", PONYTAIL, "--preset", "hair", "--rig", rig, "--json")
     assert r.returncode == 0, r.stderr
     alone = json.loads(r.stdout)
     assert alone["keys"] > 0 and alone["largest_swing_deg"] > 1.0  # the jump does swing the ponytail
@@ -133,7 +133,7 @@ def test_bake_batch_with_a_broken_file_is_bad_input_for_that_file_only(copies, t
     good, bad = tmp_path / "good.blend", tmp_path / "bad.blend"
     shutil.copy(paths[0], good)
     (tmp_path / "bad.blend").write_bytes(b"not a blend file")
-    r = leapwright("bake", str(good), str(bad), "--bones", PONYTAIL, "--rig", rig_args[1], "--jobs", "2", "--json")
+    r = leapwright("follow-through", str(good), str(bad), "--bones", PONYTAIL, "--rig", rig_args[1], "--jobs", "2", "--json")
     summary = json.loads(r.stdout)
     assert r.returncode == 2 and summary["clean"] == 1 and summary["bad_input"] == 1
     assert summary["results"][1]["file"] == str(bad) and "bad.blend" in summary["results"][1]["error"]

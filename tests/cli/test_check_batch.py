@@ -7,8 +7,8 @@ import pathlib
 
 import pytest
 
-from core.goals import JumpGoals
-from core.planner import plan_jump
+from leapwright.core.plan.goals import JumpGoals
+from leapwright.core.plan.planner import plan_jump
 
 ROOT = pathlib.Path(__file__).resolve().parents[2]
 
@@ -79,7 +79,7 @@ def test_unwritable_report_folder_is_bad_input(shots):
     assert r.returncode == 2 and len(r.stderr.strip().splitlines()) == 1
 
 
-@pytest.mark.parametrize("command", [["check-export", "--object", "Rig"], ["bake", "--bones", "tail_1"]])
+@pytest.mark.parametrize("command", [["export", "--object", "Rig"], ["follow-through", "--bones", "tail_1"]])
 def test_blend_commands_refuse_a_missing_file_in_one_line(tmp_path, command):
     missing = str(tmp_path / "no_such_shot.blend")
     r = leapwright(command[0], missing, *command[1:])

@@ -19,8 +19,8 @@ import sys
 import numpy as np
 import pytest
 
-from core.goals import JumpGoals
-from core.planner import plan_jump
+from leapwright.core.plan.goals import JumpGoals
+from leapwright.core.plan.planner import plan_jump
 
 ROOT = pathlib.Path(__file__).resolve().parents[2]
 FPS = 24

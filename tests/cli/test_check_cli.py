@@ -16,12 +16,12 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from hypothesis.extra import numpy as hnp
 
-from cli.check_command import to_json_dict
-from core.analysis import analyse_trajectory
-from core.errors import LeapwrightError
+from cli.check import to_json_dict
+from leapwright.core.check.analysis import analyse_trajectory
+from leapwright.core.base.errors import LeapwrightError
 
-from core.goals import JumpGoals
-from core.planner import plan_jump
+from leapwright.core.plan.goals import JumpGoals
+from leapwright.core.plan.planner import plan_jump
 
 ROOT = pathlib.Path(__file__).resolve().parents[2]
 
@@ -179,7 +179,7 @@ def test_missing_file_exits_2(tmp_path):
 def test_run_can_be_called_directly(tmp_path, capsys):
     import argparse
 
-    from cli import check_command
+    from cli import check as check_command
 
     parser = argparse.ArgumentParser()
     check_command.add_parser(parser.add_subparsers())

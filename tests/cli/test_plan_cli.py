@@ -11,7 +11,7 @@ import pathlib
 import numpy as np
 import pytest
 
-from core import constants as C
+from leapwright.core.base import constants as C
 
 ROOT = pathlib.Path(__file__).resolve().parents[2]
 PHASES = ["weighing", "unweighting", "braking", "propulsion", "flight", "landing"]

@@ -6,10 +6,10 @@ code 2 (one line on stderr) counts as a rejection, any other failure as a crash.
 
 from hypothesis import strategies as st
 
-from core.errors import LeapwrightError
+from leapwright.core.base.errors import LeapwrightError
 
-from .motion_entry_points import trajectories
-from .planning_entry_points import FINITE
+from tests.fuzz.motion_entry_points import trajectories
+from tests.fuzz.planning_entry_points import FINITE
 
 
 class CliRejected(LeapwrightError):
@@ -115,7 +115,7 @@ def check_argv(draw):
 @st.composite
 def bake_argv(draw):
     """``bake``'s own checks (preset, key tolerance, files) come before Blender is loaded."""
-    argv = ["bake", draw(st.sampled_from(["/nonexistent/a.blend", ""])), "--bones",
+    argv = ["follow-through", draw(st.sampled_from(["/nonexistent/a.blend", ""])), "--bones",
             draw(st.sampled_from(["pony.1", "a,b", ","]))]
     if draw(st.booleans()):
         argv += ["--preset", draw(st.one_of(st.sampled_from(["hair", "Heavy_Prop", "cloth ", "moon", ""]),

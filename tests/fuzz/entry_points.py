@@ -13,7 +13,7 @@ errors (a rejection). Anything else is a crash. The entries live by area:
 
 import numpy as np
 
-from . import command_line_entry_points, export_entry_points, motion_entry_points, planning_entry_points
+from tests.fuzz import command_line_entry_points, export_entry_points, motion_entry_points, planning_entry_points
 
 ENTRY_POINTS = (planning_entry_points.ENTRY_POINTS + motion_entry_points.ENTRY_POINTS
                 + command_line_entry_points.ENTRY_POINTS + export_entry_points.ENTRY_POINTS)

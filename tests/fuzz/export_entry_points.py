@@ -11,9 +11,9 @@ import re
 import numpy as np
 from hypothesis import strategies as st
 
-from core.export_checks import ISSUE_KINDS, export_issues, snap_to_whole_frames
+from leapwright.core.export.game_checks import ISSUE_KINDS, export_issues, snap_to_whole_frames
 
-from .planning_entry_points import FINITE
+from tests.fuzz.planning_entry_points import FINITE
 
 _wild = st.floats()
 #: Key times: whole frames, between frames, near Blender's float32 limit, and wild numbers [frame].

@@ -10,11 +10,11 @@ import functools
 import numpy as np
 from hypothesis import strategies as st
 
-from core.errors import LeapwrightError
-from core.goals import JumpGoals
-from core.planner import plan_jump
+from leapwright.core.base.errors import LeapwrightError
+from leapwright.core.plan.goals import JumpGoals
+from leapwright.core.plan.planner import plan_jump
 
-from .planning_entry_points import FINITE
+from tests.fuzz.planning_entry_points import FINITE
 
 def _track_of(plan, fps):
     s = plan.sample(fps)
@@ -83,7 +83,7 @@ def trajectories(draw):
 
 
 def _analysis(example):
-    from core.analysis import analyse_trajectory
+    from leapwright.core.check.analysis import analyse_trajectory
 
     frames, xyz, fps = example
     a = analyse_trajectory(frames, xyz, fps)
@@ -96,7 +96,7 @@ def _analysis(example):
 @st.composite
 def chain_drives(draw):
     """One or two hanging chains driven by a planned jump's COM, or by random motion."""
-    from core.chain_presets import CHAIN_PRESETS
+    from leapwright.core.follow_through.presets import CHAIN_PRESETS
 
     fps = draw(st.sampled_from([24.0, 30.0, 60.0]))
     n_bones = draw(st.integers(1, 4))
@@ -124,8 +124,8 @@ def chain_drives(draw):
 
 
 def _chains(example):
-    from core.chain_presets import chain_preset
-    from core.chains import BakeOptions, bake_chains
+    from leapwright.core.follow_through.presets import chain_preset
+    from leapwright.core.follow_through.chains import BakeOptions, bake_chains
 
     times, heads, rotations, parents, preset, cyclic = example
     bake = bake_chains(times, heads, rotations, parents, chain_preset(preset),
@@ -150,7 +150,7 @@ def bone_clouds(draw):
 
 
 def _body_mass(example):
-    from core.body_mass import RigData, mass_model_from_bone_masses, whole_body_com
+    from leapwright.core.body.mass import RigData, mass_model_from_bone_masses, whole_body_com
 
     parents, masses, heads, tails = example
     names = [f"b{i}" for i in range(len(parents))]
@@ -164,7 +164,7 @@ def turned_mannequins(draw):
     """The test mannequin turned any way about any up axis, its bones jittered, some dropped."""
     from scipy.spatial.transform import Rotation
 
-    from tests.core.test_body_mass import _BONES
+    from tests.core.body.test_body_mass import _BONES
 
     seed = draw(st.integers(0, 2**31 - 1))
     rng = np.random.default_rng(seed)
@@ -185,8 +185,8 @@ def turned_mannequins(draw):
 
 
 def _faced_body(example):
-    from core.body_mass import RigData, mass_model, whole_body_com
-    from core.rig_facing import faced_rig
+    from leapwright.core.body.mass import RigData, mass_model, whole_body_com
+    from leapwright.core.rig.facing import faced_rig
 
     bones, up = example
     names = [b[0] for b in bones]
@@ -213,7 +213,7 @@ def com_tracks(draw):
 
 
 def _flight_correction(example):
-    from core.flight_correction import correct_flight
+    from leapwright.core.body.arc import correct_flight
 
     com, stretches, fps = example
     c = correct_flight(com, stretches, fps)
@@ -224,7 +224,7 @@ def _flight_correction(example):
 def posed_flights(draw):
     """The test mannequin carried along a planned (or still) root track with its arms
     swinging at random, and a flight stretch, frame rate and tolerance to check."""
-    from tests.core.test_body_mass import pose
+    from tests.core.body.test_body_mass import pose
 
     plan = _drive_plan(draw(_drive_index))
     root = _track_of(plan, 24.0)[1] if plan is not None else np.zeros((30, 3))
@@ -244,9 +244,9 @@ def posed_flights(draw):
 
 
 def _body_arc(example):
-    from core import body_mass as bm
-    from core.flight_correction import check_flight, takeoff_motion
-    from tests.core.test_body_mass import mannequin
+    from leapwright.core.body import mass as bm
+    from leapwright.core.body.arc import check_flight, takeoff_motion
+    from tests.core.body.test_body_mass import mannequin
 
     heads, tails, stretches, fps, tolerance = example
     model = bm.mass_model(bm.map_by_topology(mannequin()))
@@ -264,8 +264,8 @@ def overlay_inputs(draw):
 
 
 def _overlay(example):
-    from core.analysis import analyse_trajectory
-    from core.path_overlay import implied_flight_arc, spacing_ticks
+    from leapwright.core.check.analysis import analyse_trajectory
+    from leapwright.core.check.overlay import implied_flight_arc, spacing_ticks
 
     frames, xyz, fps, length = example
     out = [spacing_ticks(xyz, length=length)] if len(xyz) else []

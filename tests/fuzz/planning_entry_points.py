@@ -6,9 +6,9 @@ Each entry is ``(name, strategy, call)`` (see :mod:`tests.fuzz.entry_points`).
 import numpy as np
 from hypothesis import strategies as st
 
-from core.goals import JumpGoals
-from core.keys import held_pose_keys, hermite_keys
-from core.planner import plan_jump
+from leapwright.core.plan.goals import JumpGoals
+from leapwright.core.base.keys import held_pose_keys, hermite_keys
+from leapwright.core.plan.planner import plan_jump
 
 FINITE = dict(allow_nan=False, allow_infinity=False)
 # Wild values as well as sensible ones: fuzzing is for what users type by mistake.
@@ -75,7 +75,7 @@ def _keys(example):
 
 @st.composite
 def swing_inputs(draw):
-    from core.arm_swing import SwingAmplitudes
+    from leapwright.core.arms.swing import SwingAmplitudes
 
     kw = draw(sensible_goal_dicts())
     amps = dict(backswing_deg=draw(st.one_of(st.floats(0, 90, **FINITE), st.floats())),
@@ -84,8 +84,8 @@ def swing_inputs(draw):
 
 
 def _arm_swing(example):
-    from core.arm_swing import place_swing
-    from core.swing_timing import detect_swing
+    from leapwright.core.arms.swing import place_swing
+    from leapwright.core.arms.timing import detect_swing
 
     kw, amps, cls = example
     plan = plan_jump(JumpGoals(**kw))

@@ -17,7 +17,7 @@ sys.path.insert(0, str(pathlib.Path(__file__).resolve().parents[2]))
 
 from hypothesis import HealthCheck, Phase, given, settings  # noqa: E402
 
-from core.errors import LeapwrightError  # noqa: E402
+from leapwright.core.base.errors import LeapwrightError  # noqa: E402
 
 
 #: Entry points by falling cost per example (a chain bake of a whole jump is the dearest).

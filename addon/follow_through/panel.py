@@ -1,0 +1,72 @@
+"""Sub-panel of the Leapwright sidebar: drag and follow-through."""
+
+import json
+
+import bpy
+
+from ..blender.panel_parts import SubPanel
+
+
+class LEAPWRIGHT_PT_follow_through(SubPanel, bpy.types.Panel):
+    """Bake trailing parts (hair, cloth, tails, props) from the body's motion"""
+
+    bl_label = "Follow-Through"
+    bl_idname = "LEAPWRIGHT_PT_follow_through"
+
+    @classmethod
+    def poll(cls, context):
+        return getattr(context.scene, "leapwright_follow_through", None) is not None
+
+    def draw(self, context):
+        s = context.scene.leapwright_follow_through
+        layout = self.layout
+        layout.use_property_split = True
+        layout.use_property_decorate = False
+
+        box = layout.box()
+        box.prop(s, "source")
+        if s.source == "COLLECTION":
+            obj = context.active_object
+            if obj is not None and obj.type == "ARMATURE":
+                box.prop_search(s, "collection", obj.data, "collections")
+            else:
+                box.prop(s, "collection")
+        box.prop(s, "preset")
+        col = box.column(align=True)
+        col.enabled = s.preset == "custom"
+        for name in ("frequency", "damping_ratio", "sag", "angle_limit", "transmission"):
+            col.prop(s, name)
+
+        box = layout.box()
+        box.prop(s, "use_scene_range")
+        row = box.row(align=True)
+        row.enabled = not s.use_scene_range
+        row.prop(s, "frame_start")
+        row.prop(s, "frame_end")
+        box.prop(s, "key_tolerance")
+        box.prop(s, "on_twos")
+        box.prop(s, "cyclic")
+        box.prop(s, "reset_marker")
+
+        _draw_readout(layout, s.readout)
+        layout.operator("leapwright.bake_follow_through", icon="FORCE_WIND")
+        layout.operator("leapwright.remove_follow_through", icon="TRASH")
+
+
+def _draw_readout(layout, raw):
+    try:
+        peaks = json.loads(raw) if raw else {}
+    except ValueError:
+        peaks = {}
+    if not peaks:
+        return
+    box = layout.box()
+    box.label(text="Largest swing per bone", icon="INFO")
+    col = box.column(align=True)
+    for name, deg in sorted(peaks.items(), key=lambda kv: -kv[1])[:12]:
+        col.label(text=f"{name}: {deg:.1f}°")
+    if len(peaks) > 12:
+        col.label(text=f"… and {len(peaks) - 12} more")
+
+
+classes = (LEAPWRIGHT_PT_follow_through,)

@@ -1,0 +1,90 @@
+"""From the panel's values to the core's plan, and the plan's readout.
+
+Blender lengths become metres here (× ``unit_settings.scale_length``), and the
+scene's true frame rate is ``fps / fps_base``. The last plan is cached per
+scene, keyed by every value that shapes it, so redrawing the panel costs one
+dictionary look-up; a change of any value recomputes it once.
+"""
+
+import math
+
+from ..blender.scene_units import exact_gravity, metres_per_unit, scene_fps
+from ..core.base.errors import LeapwrightError
+from ..core.plan.goals import JumpGoals
+from ..core.plan.planner import plan_jump
+
+_CACHE = {}  # scene pointer -> (key, plan or None, readout dict)
+
+
+def goals_from(settings, scene):
+    """:class:`core.goals.JumpGoals` from ``scene.leapwright_plan`` (lengths in metres).
+
+    Raises
+    ------
+    core.errors.InvalidGoalError
+        For values the core refuses, with the values in the message.
+    """
+    m = metres_per_unit(scene)
+    aim = {"HEIGHT": {"height": settings.height * m},
+           "FLIGHT_TIME": {"flight_time": settings.flight_time},
+           "TAKEOFF_SPEED": {"takeoff_speed": settings.takeoff_speed}}[settings.goal]
+    timing = {}
+    if settings.custom_timing:
+        timing = {"depth": settings.depth * m, "dip_duration": settings.dip_duration,
+                  "push_duration": settings.push_duration, "landing_duration": settings.landing_duration}
+    return JumpGoals(standing_com_height=settings.standing_com_height * m, distance=settings.distance * m,
+                     landing_height=settings.landing_height * m, weighing_duration=settings.weighing_duration,
+                     gravity=exact_gravity(settings.gravity), hops=int(settings.hops),
+                     fall_gravity_scale=float(settings.fall_gravity_scale), apex_hang=float(settings.apex_hang),
+                     **aim, **timing)
+
+
+def _key(settings, scene):
+    names = ("goal", "height", "flight_time", "takeoff_speed", "distance", "landing_height", "hops",
+             "gravity", "standing_com_height", "custom_timing", "depth", "dip_duration", "push_duration",
+             "landing_duration", "weighing_duration", "fall_gravity_scale", "apex_hang")
+    return tuple(getattr(settings, n) for n in names) + (metres_per_unit(scene), scene_fps(scene))
+
+
+def plan_for(scene):
+    """``(plan, readout)`` for the scene's settings; plan is None when the core refused.
+
+    The readout holds what the panel shows: ``flight_frames`` (per hop),
+    ``peak_force_bw``, ``figures`` ((name, value, unit, grade) tuples),
+    ``warnings`` (sentences), ``stylisations`` (sentences naming each
+    deliberate departure from physics with its physical equivalent) and ``error`` (the core's message, or "").
+    """
+    settings = scene.leapwright_plan
+    key = _key(settings, scene)
+    hit = _CACHE.get(scene.as_pointer())
+    if hit is not None and hit[0] == key:
+        return hit[1], hit[2]
+    plan, readout = None, {"flight_frames": (), "peak_force_bw": math.nan, "figures": (), "warnings": (),
+                           "stylisations": (), "error": "", "duration_frames": 0.0}
+    try:
+        plan = plan_jump(goals_from(settings, scene))
+    except LeapwrightError as exc:
+        readout["error"] = str(exc)
+    if plan is not None:
+        fps = scene_fps(scene)
+        rep = plan.report
+        readout.update(
+            flight_frames=tuple(h.flight_time_s * fps for h in plan.hops),
+            peak_force_bw=max(rep.peak_push_force_bw, rep.peak_landing_force_bw),
+            figures=tuple((f.name, f.value, f.unit, f.grade) for f in rep.figures),
+            warnings=tuple(rep.warnings),
+            stylisations=tuple(rep.stylisations),
+            duration_frames=plan.duration_s * fps,
+        )
+    _CACHE[scene.as_pointer()] = (key, plan, readout)
+    return plan, readout
+
+
+def refresh(scene):
+    """Recompute the cached plan now (called when a panel value changes)."""
+    if scene is not None and hasattr(scene, "leapwright_plan"):
+        plan_for(scene)
+
+
+def clear_cache():
+    _CACHE.clear()

@@ -1,0 +1,164 @@
+"""Sampled paths from .blend files, with Blender as the ``bpy`` module (imported lazily).
+
+Only the command line uses this: ``leapwright plan`` and CSV checks never need Blender.
+"""
+
+import contextlib
+import os
+import sys
+
+from leapwright.core.base.constants import STANDARD_GRAVITY
+from leapwright.core.base.errors import InvalidTrajectoryError
+
+
+def _bpy():
+    try:
+        import bpy
+    except ImportError:
+        raise InvalidTrajectoryError(
+            "checking a .blend needs Blender as the bpy module (pip install bpy: 5.1+ on Python 3.13, "
+            "4.2-5.0 on Python 3.11); run it from the environment `make setup` made (.venv)") from None
+    return bpy
+
+
+@contextlib.contextmanager
+def _blender_chatter_to_stderr():
+    """Blender prints file-loading notes on stdout at the C level; keep stdout for reports."""
+    sys.stdout.flush()
+    saved = os.dup(1)
+    try:
+        os.dup2(2, 1)
+        yield
+    finally:
+        sys.stdout.flush()
+        os.dup2(saved, 1)
+        os.close(saved)
+
+
+def addon_module(name):
+    """A module of the add-on (e.g. ``"follow_through.bake"``), with Blender imported as ``bpy``.
+
+    The add-on is the package ``leapwright`` and its core ``leapwright.core``, as in the built
+    extension, so the command line runs exactly the add-on's code with one copy of the core.
+    """
+    import importlib
+
+    _bpy()
+    return importlib.import_module(f"leapwright.{name}")
+
+
+def named_object(bpy, name, path):
+    """The object ``name`` of the open file; bad input naming the file's objects when there is none."""
+    obj = bpy.data.objects.get(name)
+    if obj is None:
+        names = ", ".join(sorted(o.name for o in bpy.data.objects)[:12])
+        raise InvalidTrajectoryError(f"{path}: no object {name!r}; objects are: {names}")
+    return obj
+
+
+def input_errors():
+    """The error classes that mean bad input (the core's, one copy for the add-on and the command line)."""
+    from leapwright.core.base.errors import LeapwrightError
+
+    return (LeapwrightError,)
+
+
+def open_blend(path):
+    """Open a .blend in this process (Blender's loading notes go to stderr); returns ``bpy``."""
+    bpy = _bpy()
+    try:
+        with _blender_chatter_to_stderr():
+            bpy.ops.wm.open_mainfile(filepath=os.path.abspath(str(path)), load_ui=False)
+    except RuntimeError as exc:
+        raise InvalidTrajectoryError(f"{path}: cannot open it as a .blend ({str(exc).strip()[:120]})") from None
+    return bpy
+
+
+def save_blend(path):
+    """Save the open file in place (Blender's note goes to stderr)."""
+    bpy = _bpy()
+    with _blender_chatter_to_stderr():
+        bpy.ops.wm.save_mainfile(filepath=os.path.abspath(str(path)))
+
+
+def saved_setting(scene, name, group="leapwright_plan"):
+    """A panel setting the file keeps for ``scene``, or None when it was never set.
+
+    The add-on is not registered in the command line's Blender, so its settings are
+    read as the plain ID properties the file keeps: among the ID's custom properties
+    up to Blender 4.5, in the separate storage of add-on-defined properties from 5.0
+    (``bl_system_properties_get``; ``scene.get`` no longer sees them there).
+    """
+    system = getattr(scene, "bl_system_properties_get", None)
+    holder = system() if system is not None else scene
+    stored = holder.get(group) if holder is not None else None
+    return stored.get(name) if stored is not None and hasattr(stored, "get") else None
+
+
+def jump_gravity(scene):
+    """The jump panel's gravity saved in the file [m/s^2]; the add-on's default when unset."""
+    value = saved_setting(scene, "gravity")
+    return addon_module("blender.scene_units").exact_gravity(value) if value is not None else STANDARD_GRAVITY
+
+
+#: ``--follow`` values of ``leapwright check`` and the add-on's Follow setting they stand for.
+FOLLOW_OPTIONS = {"auto": "AUTO", "bone": "BONE", "body": "BODY"}
+
+
+def sample_blend_track(path, object_name, bone_name=None, follow="auto", table="de_leva_male"):
+    """The path the check follows, over the scene's frame range, as the panel's Check Jump samples it.
+
+    The choice is the add-on's (``addon.check.path``): ``auto`` follows the whole-body
+    centre of mass of a rig with a bone map, bone masses or the in-air correction layer,
+    else the bone (or the object); ``bone`` and ``body`` force one.
+
+    Parameters
+    ----------
+    path : str
+        The .blend file; opened read-only in this process (never saved).
+    object_name : str
+    bone_name : str, optional
+        A pose bone of ``object_name``; its head is the body bone's path.
+    follow : str
+        ``auto``, ``bone`` or ``body`` (:data:`FOLLOW_OPTIONS`).
+    table : str
+        Segment table of the whole-body COM (``core.segment_tables.TABLES``).
+
+    Returns
+    -------
+    frames : ndarray (n,)
+        Scene frames.
+    positions : ndarray (n, 3)
+        World positions [m] (Blender units x ``unit_settings.scale_length``), Z up.
+    fps : float
+        The scene's true rate ``fps / fps_base`` [frames/s].
+    gravity : float
+        The jump panel's gravity saved in the file [m/s^2] (:func:`jump_gravity`), the
+        one the jump was planned under; Blender's physics gravity is not read.
+    checked : dict
+        ``follows`` ("body", "bone" or "object"), ``text`` ("checked the whole-body COM
+        (map found from the bone tree)") and ``note`` (why Automatic fell back, or "").
+
+    Raises
+    ------
+    InvalidTrajectoryError
+        No such object or bone, an unknown ``follow``, or ``body`` on a rig that cannot
+        be read as a body (the add-on's message).
+    """
+    if follow not in FOLLOW_OPTIONS:
+        raise InvalidTrajectoryError(f"--follow {follow!r}: choose one of {', '.join(FOLLOW_OPTIONS)}")
+    bpy = open_blend(path)
+    scene = bpy.context.scene
+    obj = named_object(bpy, object_name, path)
+    if bone_name and (obj.type != "ARMATURE" or bone_name not in obj.pose.bones):
+        raise InvalidTrajectoryError(f"{path}: {object_name!r} has no pose bone {bone_name!r}; "
+                                     "give --bone with the body (COM) bone's name")
+    choose = addon_module("check.path")
+    try:
+        found = choose.checked_path(scene, obj, bone_name or "", FOLLOW_OPTIONS[follow], table)
+    except addon_module("body.com").BodyError as exc:
+        raise InvalidTrajectoryError(f"{path}: {choose.body_refusal(exc, 'give --follow bone')}") from None
+    fps = scene.render.fps / scene.render.fps_base
+    gravity = jump_gravity(scene)
+    checked = {"follows": found.follows, "text": found.text, "note": found.note}
+    return found.frames, found.points, fps, gravity, checked

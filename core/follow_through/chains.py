@@ -1,0 +1,245 @@
+"""Drag and follow-through of bone chains, driven by the apparent weight they feel.
+
+The add-on samples the evaluated rig once per frame, in world space and scene
+time, and calls :func:`bake_chains`; it gets back, per frame and bone, the rotation
+to multiply onto the bone's animated local rotation (key it as a delta).
+
+Calling from the add-on (F samples, B chosen bones)::
+
+    bake = bake_chains(
+        times,        # (F,) scene seconds of each sample (NLA offsets already applied)
+        heads,        # (F, B, 3) world head positions [m] (matrix_world @ pose head)
+        rotations,    # (F, B, 3, 3) world rotation of each bone (matrix_world @ pose matrix,
+                      #   3x3 part; scale is removed here); the bone points along column 1 (+Y)
+        parents,      # (B,) index of the nearest chosen ancestor, -1 for a chain's first bone
+        chain_preset("hair"),            # or ChainParameters(...), or one per bone
+        gravity=(0, 0, -9.80665),        # scene gravity [m/s^2], world axes
+        options=BakeOptions(cyclic=False, resets=(), key_tolerance=0.0, on_twos=False),
+    )
+    bake.quaternions  # (F, B, 4) w, x, y, z: key pose_bone basis' = basis @ delta
+    bake.rotvecs      # (F, B, 3) the same as rotation vectors [rad], bone-local axes
+    bake.key_mask     # (F, B) which samples to key; bake.stepped -> CONSTANT interpolation
+    bake.peak_offsets # (B,) largest delta angle [rad], for the readout
+
+With the NLA COMBINE blend, quaternions multiply on the right (``lower @ delta``),
+which is the convention of the deltas here.
+
+Model (details in :mod:`.spring_integrator`): every chosen bone is a point mass on
+a rigid link held by a damped rotational spring to its chain parent. It feels the
+effective gravity ``g_eff = g - a_head`` (``|g_eff| = W/m``, zero in flight) and the
+animated turning of its own bone. The animated pose is the loaded shape at 1 g, so
+
+* a rig standing still gets exactly zero offset;
+* in free fall each joint floats up to its unloaded shape: ``-sag`` for a bone
+  whose loaded direction is horizontal (``-sag * sin(angle from straight down)``
+  in general, as a pendulum's lever gives);
+* on landing the extra weight bends it further, in proportion to the force.
+
+The parameters are defined operationally, on one bone:
+
+* ``frequency`` f_n [Hz] and ``damping_ratio`` zeta of the spring alone (gravity off);
+* ``sag`` [rad]: static bend at standard gravity, standing still, of a bone held
+  horizontal, measured from its unloaded shape. It fixes the swing length
+  ``l = g0 / (sag * omega_n^2)`` (``g0`` standard gravity): sag is a property of
+  the object, so under moon gravity the same hair swings slower and sags less;
+* ``angle_limit`` [rad]: largest bend of a joint away from its animated rotation;
+* ``transmission`` mu in [0, 1]: the share of a joint's damping that works across
+  the joint, against the parent's swing rate, and so carries the parent's motion
+  into the child; the rest works against the world, as still air would. 1 is
+  internal friction only (a loose whip); lower values make the chain trail in
+  space (drag). Statics do not depend on it, so the sag stays the sag.
+
+Simplifications, each kept on purpose: a bone carries only its own weight (so
+each joint sags by the same ``sag``), and the offsets do not move the heads below
+them (the drive is the animated motion; the coupling runs parent to child only).
+"""
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..base.constants import STANDARD_GRAVITY
+from .chain_keys import hold_on_twos, reduce_keys
+from .parameters import ChainParameters, LinkCoefficients, coefficient_arrays
+from .samples import check_drive, check_samples, frame_accelerations, midpoint_values, split_segments
+from ..base.errors import InvalidGoalError
+from ..base.rotation_vectors import (quaternion_conjugate, quaternion_multiply, quaternion_to_rotvec,
+    rotvec_to_quaternion)
+from .integrator import ChainSlots, integrate
+
+__all__ = ["BakeOptions", "ChainBake", "ChainParameters", "LinkCoefficients", "bake_chains"]
+
+@dataclass(frozen=True)
+class BakeOptions:
+    """How to run and thin a bake.
+
+    Parameters
+    ----------
+    cyclic : bool
+        Loop the samples: the last sample is the same moment of the cycle as the
+        first (frames ``start..end`` with ``end`` keyed like ``start``). The chains
+        start in their periodic steady state, so the first and last frames agree.
+    resets : tuple of int
+        Sample indices where the chains start over from the animated pose at rest
+        (camera cuts, markers). Motion is never differenced across a reset.
+    substeps : int
+        Exact steps per frame interval (1 is enough for stability at any stiffness;
+        more refines large, fast swings).
+    key_tolerance : float
+        Drop keys whose removal changes no rotation by more than this [rad]; 0
+        keeps every frame.
+    on_twos : bool
+        Hold each result for two samples (keys on samples 0, 2, 4, ... relative to
+        each segment's start, interpolation constant).
+    """
+
+    cyclic: bool = False
+    resets: tuple = ()
+    substeps: int = 1
+    key_tolerance: float = 0.0
+    on_twos: bool = False
+
+
+@dataclass(frozen=True)
+class ChainBake:
+    """Result of :func:`bake_chains`; F samples, B bones, in the order given.
+
+    Parameters
+    ----------
+    times : numpy.ndarray, shape (F,)
+        Sample times [s].
+    rotvecs : numpy.ndarray, shape (F, B, 3)
+        Delta rotation of each bone in its own local axes [rad]: the baked local
+        rotation is ``R_animated_local @ R(delta)`` (multiply on the right).
+    quaternions : numpy.ndarray, shape (F, B, 4)
+        The same deltas as unit quaternions ``(w, x, y, z)``, ``w >= 0``.
+    world_offsets : numpy.ndarray, shape (F, B, 3)
+        Simulated world rotation of each bone is ``R(world_offset) @ W_animated`` [rad].
+    key_mask : numpy.ndarray of bool, shape (F, B)
+        Samples to key per bone (all True unless reduced or on twos).
+    stepped : bool
+        Key with constant interpolation (on twos); otherwise linear between keys.
+    peak_offsets : numpy.ndarray, shape (B,)
+        Largest delta angle of each bone over the bake [rad].
+    cyclic_mismatch : float
+        Largest first/last frame difference of a cyclic bake [rad] (0 otherwise).
+    passes : int
+        Sweeps over the whole range the integrator ran (the most of any segment).
+    """
+
+    times: np.ndarray
+    rotvecs: np.ndarray
+    quaternions: np.ndarray
+    world_offsets: np.ndarray
+    key_mask: np.ndarray
+    stepped: bool
+    peak_offsets: np.ndarray
+    cyclic_mismatch: float
+    passes: int
+
+
+def bake_chains(times, heads, rotations, parents, parameters, gravity=(0.0, 0.0, -STANDARD_GRAVITY), options=BakeOptions()):
+    """Simulate drag and follow-through for the chosen bones.
+
+    Parameters
+    ----------
+    times : array_like, shape (F,)
+        Scene time of each sample [s], strictly increasing (F >= 2). Non-uniform
+        steps are fine (a sample per frame, or per subframe).
+    heads : array_like, shape (F, B, 3)
+        World position of each bone's head [m], from the evaluated rig.
+    rotations : array_like, shape (F, B, 3, 3)
+        Animated world rotation of each bone (its world matrix's 3x3 part; scale is
+        removed here). The bone points along its local +Y axis (column 1).
+    parents : sequence of int, length B
+        Index (into these B bones) of each bone's nearest simulated ancestor, or -1
+        when its parent is not simulated (a chain's first bone). Children must
+        inherit their parent's rotation.
+    parameters : ChainParameters or LinkCoefficients, or a sequence of B of them
+        One set for all bones, or one per bone.
+    gravity : array_like, shape (3,)
+        Scene gravity [m/s^2], world frame; the animated pose is the loaded shape
+        under it.
+    options : BakeOptions
+
+    Returns
+    -------
+    ChainBake
+
+    Raises
+    ------
+    InvalidGoalError
+        For bad parameters or options (the value and a fix in the message).
+    InvalidTrajectoryError
+        For samples of the wrong shape, non-finite, non-increasing or mirrored.
+    """
+    times, heads, rots, parents, g_ref = check_samples(times, heads, rotations, parents, gravity)
+    frames, bones = heads.shape[:2]
+    coeffs = coefficient_arrays(parameters, bones)
+    substeps, tolerance = _check_options(options, frames)
+    slots = ChainSlots.from_parents(parents)
+    slot_coeffs = {name: slots.to_slots(value[:, None], 0.0)[:, 0] for name, value in coeffs.items()}
+    slot_coeffs["limit"] = slots.to_slots(coeffs["limit"][:, None], math.pi)[:, 0]
+    padding = np.setdiff1d(np.arange(slots.trees * slots.size), slots.slot)
+    world = np.zeros((frames, bones, 3))
+    mismatch, passes = 0.0, 1
+    for lo, hi in split_segments(frames, options.resets):
+        if hi - lo < 2:
+            continue  # a lone sample after a cut is the animated pose itself
+        seg_times = times[lo:hi]
+        accel, alpha = frame_accelerations(seg_times, heads[lo:hi], rots[lo:hi], options.cyclic)
+        check_drive(accel, alpha, seg_times, lo)
+        per_frame = {"directions": rots[lo:hi, :, :, 1], "g_eff": accel, "alpha": alpha}
+        drive = {}
+        for name, value in per_frame.items():
+            drive[name] = slots.to_slots(value)
+            drive[name + "_mid"] = slots.to_slots(midpoint_values(seg_times, value, options.cyclic))
+        for name in ("g_eff", "g_eff_mid"):
+            # from the accelerations, so a still rig feels g_ref exactly (zero offset)
+            drive[name] = g_ref - drive[name]
+        for name in ("directions", "directions_mid"):
+            drive[name][:, padding, 1] = 1.0  # unused slots get any unit direction
+        offsets, sweeps, _ = integrate(slots, slot_coeffs, seg_times, drive, g_ref, options.cyclic, substeps)
+        passes = max(passes, sweeps)
+        world[lo:hi] = offsets[:, slots.slot]
+    # joint rotation in world axes, R(psi_p)^T R(psi_c), then in the bone's own axes
+    q_world = rotvec_to_quaternion(world)
+    q_parent = np.where((parents >= 0)[None, :, None], q_world[:, np.maximum(parents, 0)], np.array([1.0, 0, 0, 0]))
+    joint = quaternion_to_rotvec(quaternion_multiply(quaternion_conjugate(q_parent), q_world))
+    rotvecs = np.einsum("fbji,fbj->fbi", rots, joint)
+    if options.cyclic:
+        mismatch = float(np.max(np.linalg.norm(rotvecs[-1] - rotvecs[0], axis=-1)))
+    quats = rotvec_to_quaternion(rotvecs)
+    stepped = bool(options.on_twos)
+    mask = np.ones((frames, bones), dtype=bool)
+    if stepped:
+        rotvecs, quats, mask = hold_on_twos(rotvecs, quats, split_segments(frames, options.resets))
+    if tolerance > 0.0:
+        mask = reduce_keys(quats, tolerance, mask, stepped, split_segments(frames, options.resets))
+    peaks = np.max(np.linalg.norm(rotvecs, axis=-1), axis=0) if bones else np.zeros(0)
+    return ChainBake(times, rotvecs, quats, world, mask, stepped, peaks, mismatch, passes)
+
+
+def _check_options(options, frames):
+    if not isinstance(options, BakeOptions):
+        raise InvalidGoalError(f"options must be BakeOptions, got {type(options).__name__}; build one with BakeOptions(...)")
+    substeps = options.substeps
+    if isinstance(substeps, bool) or not isinstance(substeps, (int, np.integer)) or not 1 <= substeps <= 64:
+        raise InvalidGoalError(f"substeps must be a whole number from 1 to 64, got {substeps!r}; 1 is stable at any stiffness")
+    try:
+        tolerance = float(options.key_tolerance)
+    except (TypeError, ValueError):
+        tolerance = math.nan
+    if not (0.0 <= tolerance <= math.pi):
+        raise InvalidGoalError(
+            f"key_tolerance must be from 0 to pi rad, got {options.key_tolerance!r}; e.g. 0.0017 rad (0.1 deg), or 0 to keep all"
+        )
+    if options.cyclic and len(tuple(options.resets)):
+        raise InvalidGoalError(
+            f"a cyclic bake cannot also reset at {tuple(options.resets)}; bake the loop without resets, or turn cyclic off"
+        )
+    if options.cyclic and frames < 3:
+        raise InvalidGoalError(f"a cyclic bake needs at least 3 samples, got {frames}; sample the whole cycle")
+    split_segments(frames, options.resets)  # validates the indices
+    return int(substeps), tolerance

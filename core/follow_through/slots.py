@@ -1,0 +1,104 @@
+"""Where each bone of the chains sits in the padded per-chain arrays the integrator steps,
+and the joints' bend held within its limit.
+"""
+
+from dataclasses import dataclass
+
+import numpy as np
+
+
+@dataclass(frozen=True)
+class ChainSlots:
+    """Where each bone sits in the padded per-chain arrays the integrator steps.
+
+    Parameters
+    ----------
+    parents : numpy.ndarray of int, shape (B,)
+        Chain parent of each bone (index into the bones, -1 for a chain's first bone).
+    slot : numpy.ndarray of int, shape (B,)
+        Flat slot ``tree * size + position`` of each bone.
+    trees, size : int
+        Number of independent chains (trees) and bones per padded tree.
+    parent_matrix : numpy.ndarray, shape (trees, size, size)
+        ``P[t, i, j] = 1`` when slot ``j`` is the parent of slot ``i``.
+    path_matrix : numpy.ndarray, shape (trees, size, size)
+        ``(I - P)^-1``: sums a bone's own and its ancestors' joint rotations.
+    """
+
+    parents: np.ndarray
+    slot: np.ndarray
+    trees: int
+    size: int
+    parent_matrix: np.ndarray
+    path_matrix: np.ndarray
+
+    @classmethod
+    def from_parents(cls, parents):
+        """Group bones into trees, parents before children (parents already checked acyclic)."""
+        parents = np.asarray(parents, dtype=int)
+        count = len(parents)
+        root = np.arange(count)
+        for _ in range(count):  # pointer jumping: at most depth rounds
+            up = np.where(parents[root] >= 0, parents[root], root)
+            if np.array_equal(up, root):
+                break
+            root = up
+        depth = np.zeros(count, dtype=int)
+        node = parents.copy()
+        while np.any(node >= 0):
+            depth += node >= 0
+            node = np.where(node >= 0, parents[np.maximum(node, 0)], -1)
+        roots, tree_of = np.unique(root, return_inverse=True)
+        trees = len(roots)
+        order = np.lexsort((np.arange(count), depth, tree_of))
+        position = np.empty(count, dtype=int)
+        sizes = np.bincount(tree_of, minlength=trees)
+        size = int(sizes.max()) if count else 0
+        start = np.concatenate([[0], np.cumsum(sizes)[:-1]])
+        position[order] = np.arange(count) - start[tree_of[order]]
+        slot = tree_of * size + position
+        pm = np.zeros((trees, size, size))
+        child = np.nonzero(parents >= 0)[0]
+        pm[tree_of[child], position[child], position[parents[child]]] = 1.0
+        path = np.linalg.inv(np.eye(size) - pm)
+        return cls(parents, slot, trees, size, pm, np.rint(path))
+
+    @property
+    def depth(self):
+        """Longest parent-to-child path in any tree (0 for lone bones)."""
+        return int(self.path_matrix.sum(axis=-1).max()) - 1 if self.size else 0
+
+    def to_slots(self, per_bone, fill=0.0):
+        """Scatter (..., B, k) per-bone values into (..., trees * size, k) slots."""
+        per_bone = np.asarray(per_bone, dtype=float)
+        shape = per_bone.shape[:-2] + (self.trees * self.size,) + per_bone.shape[-1:]
+        out = np.empty(shape)
+        out[...] = fill
+        out[..., self.slot, :] = per_bone
+        return out
+
+
+def limit_joints(psi, flat, limit):
+    """Offsets (3, nodes, trees * size), component-first, with every joint's bend
+    (its offset relative to its parent's) held within ``limit`` (trees * size,) [rad];
+    ``flat`` from :func:`flat_matrices`."""
+    joint_of, path_of = flat
+    rel = psi @ joint_of
+    angle2 = rel[0] * rel[0] + rel[1] * rel[1] + rel[2] * rel[2]
+    over = angle2 > limit * limit
+    if not np.any(over):
+        return psi
+    shrink = np.where(over, limit / np.sqrt(np.where(over, angle2, 1.0)) - 1.0, 0.0)
+    # each joint pulled back moves itself and everything below it by the same rotation
+    return psi + (rel * shrink) @ path_of
+
+
+def flat_matrices(slots):
+    """``(I - P)^T`` and ``path^T`` over all slots: joint rotations and their sums by matmul."""
+    count = slots.trees * slots.size
+    joint, path = np.zeros((count, count)), np.zeros((count, count))
+    for t in range(slots.trees):
+        cut = slice(t * slots.size, (t + 1) * slots.size)
+        joint[cut, cut] = (np.eye(slots.size) - slots.parent_matrix[t]).T
+        path[cut, cut] = slots.path_matrix[t].T
+    return joint, path

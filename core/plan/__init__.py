@@ -1,0 +1,6 @@
+"""Planning a jump: goals -> phases -> centre-of-mass curves. Take-off speed from a height or
+hang-time goal (goals.py), the C2 contact shapes and their ground force (contact_shapes.py),
+the flight (flight_path.py), the feet (feet.py), plausibility grades and stylised timing.
+
+May import: base
+"""

@@ -1,0 +1,5 @@
+"""Reading a rig as a body: landmarks (head, shoulders, hips, ...) found from the bone tree
+or given by hand, and the way the rig faces, from its rest pose.
+
+May import: base
+"""
