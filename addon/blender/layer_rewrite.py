@@ -13,7 +13,7 @@ import numpy as np
 
 from . import compat as compat
 from . import ownership
-from .key_writer import write_curve
+from .key_writer import INTERPOLATION, write_curve
 
 
 def _layer_track(obj, capability):
@@ -57,8 +57,41 @@ def rewrite_in_place(obj, capability, specs):
     last = max(float(s.frames[-1]) for s in specs)
     if not np.allclose(tuple(action.frame_range), (first, last)):
         return False  # the strip would have to move: build it again
-    for spec in specs:
-        write_curve(curves[(spec.data_path, spec.index)], spec.frames, spec.values, spec.slopes, spec.interpolation,
-                    in_place=True)
-    track.mute = False  # a bake is shown, as a rebuilt layer is
+    _write_values(curves, specs)
+    track.mute = False  # a bake is shown, as a rebuilt layer is (and the setting tags the animation for evaluation)
     return True
+
+
+def _write_values(curves, specs):
+    """Write each spec into its curve in place: linear and constant keys of a curve's own count in bulk.
+
+    In the tuning loop every curve keeps its keys and only their values change,
+    so the keys of all such curves of one length go into one array and each curve
+    gets one ``foreach_set``; the interpolation is read and written only where it
+    differs (a key edited by hand). Anything else goes through :func:`write_curve`.
+    """
+    groups = {}
+    for spec in specs:
+        fc = curves[(spec.data_path, spec.index)]
+        n = len(spec.frames)
+        if spec.slopes is None and spec.interpolation != "BEZIER" and len(fc.keyframe_points) == n:
+            groups.setdefault(n, []).append((fc, spec))
+        else:
+            write_curve(fc, spec.frames, spec.values, spec.slopes, spec.interpolation, in_place=True)
+    for n, group in groups.items():
+        co = np.empty((len(group), n, 2), dtype=np.float32)
+        co[:, :, 0] = [spec.frames for _, spec in group]
+        co[:, :, 1] = [spec.values for _, spec in group]
+        held = np.empty(n, dtype=np.int32)
+        wanted = {}  # interpolation code -> (keys' codes, their bytes)
+        for (fc, spec), row in zip(group, co.reshape(len(group), 2 * n)):
+            points = fc.keyframe_points
+            points.foreach_set("co", row)
+            code = INTERPOLATION[spec.interpolation]
+            if code not in wanted:
+                codes = np.full(n, code, dtype=np.int32)
+                wanted[code] = (codes, codes.tobytes())
+            points.foreach_get("interpolation", held)
+            if held.tobytes() != wanted[code][1]:
+                points.foreach_set("interpolation", wanted[code][0])
+            fc.update()

@@ -14,6 +14,7 @@ every keyed frame. Axis-angle values would add as four plain numbers, which is
 not a rotation, and are refused.
 """
 
+import functools
 import math
 from dataclasses import dataclass
 
@@ -116,6 +117,51 @@ def marker_resets(scene, frame_start, frame_end, name_contains):
     return tuple(sorted(out))
 
 
+def _selected_bones(context, rig):
+    chosen = getattr(context, "selected_pose_bones", None)
+    if chosen is None:
+        raise LagError("the pose-bone selection cannot be read here; name the bones "
+                                "(bones='a,b,c') or pick a bone collection")
+    picked = {pb.name for pb in chosen}
+    return tuple(pb.name for pb in rig.pose.bones if pb.name in picked)
+
+
+def request_from_panel(context, rig, bones=None, preset="SETTINGS", frame_range=None):
+    """The bake the panel's settings ask for.
+
+    Parameters
+    ----------
+    bones : sequence of str or None
+        The bones to bake; None takes the panel's choice (selected pose bones or a collection).
+    preset : str
+        'SETTINGS' for the panel's preset or values, else a preset's name.
+    frame_range : (int, int) or None
+        First and last frame; None takes the panel's range.
+
+    Returns
+    -------
+    bake.LagRequest
+    """
+    s = context.scene.leapwright_follow_through
+    if rig is None or rig.type != "ARMATURE":
+        check(rig, None)
+    if bones is None:
+        bones = bones_of_collection(rig, s.collection) if s.source == "COLLECTION" \
+            else _selected_bones(context, rig)
+    preset = s.preset if preset == "SETTINGS" else preset
+    params = parameters_for(preset, s.frequency, s.damping_ratio, s.sag, s.angle_limit, s.transmission)
+    scene = context.scene
+    if frame_range is None:
+        frame_range = (scene.frame_start, scene.frame_end) if s.use_scene_range else (s.frame_start, s.frame_end)
+    start, end = frame_range
+    jump = getattr(scene, "leapwright_plan", None)
+    gravity = jump.gravity if jump is not None else STANDARD_GRAVITY
+    return LagRequest(bones=tuple(bones), parameters=params, frame_start=int(start), frame_end=int(end),
+                               key_tolerance=s.key_tolerance, on_twos=s.on_twos, cyclic=s.cyclic,
+                               reset_frames=marker_resets(scene, start, end, s.reset_marker),
+                               gravity=gravity)
+
+
 def check(rig, request):
     """Raise :class:`LagError` for anything that would stop the bake; returns nothing."""
     if rig is None:
@@ -143,12 +189,16 @@ def check(rig, request):
         raise LagError("the rig's NLA is in tweak mode; leave tweak mode (Tab in the NLA editor) and bake again")
 
 
-def _muted_lag(rig):
+def mute_layer(rig):
     """The previous bake's track muted, so sampling sees the animation without it.
 
     A muted track stops writing, and Blender leaves an un-keyed channel at its
     last value, which is the layer's: those channels get the values they had
     before the layer (what :mod:`ownership` remembered for removal).
+
+    Returns
+    -------
+    (track, was) : the track (or None) and its mute state before, for :func:`unmute_layer`.
     """
     track = ownership.layer_track(rig, CAPABILITY)
     was = track.mute if track is not None else None
@@ -159,8 +209,79 @@ def _muted_lag(rig):
     return track, was
 
 
+def unmute_layer(scene, track, was, frame=None):
+    """Undo :func:`mute_layer` and evaluate ``frame`` ((frame, subframe); the current one when None)."""
+    if track is not None:
+        track.mute = was
+    if track is not None or frame is not None:
+        whole, sub = frame or (scene.frame_current, scene.frame_subframe)
+        scene.frame_set(whole, subframe=sub)  # the layer's values again
+
+
+def sampling_plan(rig, request):
+    """What a checked request samples: ``(names, frames, Euler bone names, channels)``."""
+    names = list(request.bones)
+    frames = np.arange(request.frame_start, request.frame_end + 1)
+    eulers = [n for n in names if rig.pose.bones[n].rotation_mode not in ("QUATERNION", "AXIS_ANGLE")]
+    channels = (("rotation_euler", 3),) if eulers else ()
+    return names, frames, eulers, channels
+
+
+def simulation(scene, rig, request, matrices):
+    """The core's simulation of ``request`` on sampled ``matrices``, as a call that reads no Blender data.
+
+    Everything taken from Blender (units, frame rate, the bone tree) is read here,
+    so the returned callable can run on a worker thread.
+
+    Parameters
+    ----------
+    matrices : ndarray (F, B, 4, 4)
+        World matrices of the request's bones at its frames [Blender units].
+
+    Returns
+    -------
+    callable
+        ``call() -> ChainBake``.
+    """
+    unit = scene.unit_settings.scale_length or 1.0
+    fps = scene.render.fps / scene.render.fps_base
+    times = np.arange(request.frame_start, request.frame_end + 1) / fps
+    heads = matrices[:, :, :3, 3] * unit
+    rotations = matrices[:, :, :3, :3]
+    _, parents, _, _ = rig_sampling.bone_rest_data(rig, request.bones)
+    resets = tuple(sorted({f - request.frame_start for f in request.reset_frames
+                           if request.frame_start < f <= request.frame_end}))
+    options = BakeOptions(cyclic=request.cyclic, resets=resets, key_tolerance=float(request.key_tolerance),
+                          on_twos=bool(request.on_twos))
+    return functools.partial(bake_chains, times, heads, rotations, parents, request.parameters,
+                             gravity=(0.0, 0.0, -float(request.gravity)), options=options)
+
+
+def curves_for(rig, names, eulers, frames, values, bake):
+    """The curves of a simulated bake (``bake`` a ChainBake), as :class:`LagWork`."""
+    interpolation = "CONSTANT" if bake.stepped else "LINEAR"
+    specs = []
+    for b, name in enumerate(names):
+        keep = bake.key_mask[:, b]
+        pb = rig.pose.bones[name]
+        path = pb.path_from_id()
+        if name in eulers:
+            deltas = _euler_deltas(values["rotation_euler"][keep, b], bake.quaternions[keep, b], pb.rotation_mode)
+            specs += [CurveSpec(f"{path}.rotation_euler", i, frames[keep].astype(float), deltas[:, i], None,
+                                interpolation) for i in range(3)]
+        else:
+            q = bake.quaternions[keep, b]
+            specs += [CurveSpec(f"{path}.rotation_quaternion", i, frames[keep].astype(float), q[:, i], None,
+                                interpolation) for i in range(4)]
+    peaks = {n: float(p) for n, p in zip(names, bake.peak_offsets)}
+    return LagWork(tuple(specs), peaks, int(sum(len(s.frames) for s in specs)))
+
+
 def prepare(scene, rig, request, progress=None):
-    """Sample, simulate and build the curves; writes nothing.
+    """Sample, simulate and build the curves in one go, sampling afresh; writes nothing.
+
+    (The operator goes through :class:`.bake_job.BakeJob`, which can stop between
+    steps and reuses the motion of the last bake.)
 
     Parameters
     ----------
@@ -183,45 +304,13 @@ def prepare(scene, rig, request, progress=None):
     """
     check(rig, request)
     request.parameters.coefficients()  # bad values are reported before the slow part
-    names = list(request.bones)
-    frames = np.arange(request.frame_start, request.frame_end + 1)
-    eulers = [n for n in names if rig.pose.bones[n].rotation_mode not in ("QUATERNION", "AXIS_ANGLE")]
-    channels = (("rotation_euler", 3),) if eulers else ()
-    track, was = _muted_lag(rig)
+    names, frames, eulers, channels = sampling_plan(rig, request)
+    track, was = mute_layer(rig)
     try:
         matrices, _, values = rig_sampling.sample_pose(scene, rig, frames, names, channels, progress)
     finally:
-        if track is not None:
-            track.mute = was
-            scene.frame_set(scene.frame_current, subframe=scene.frame_subframe)  # the layer's values again
-    unit = scene.unit_settings.scale_length or 1.0
-    fps = scene.render.fps / scene.render.fps_base
-    times = frames / fps
-    heads = matrices[:, :, :3, 3] * unit
-    rotations = matrices[:, :, :3, :3]
-    _, parents, _, _ = rig_sampling.bone_rest_data(rig, names)
-    resets = tuple(sorted({f - request.frame_start for f in request.reset_frames
-                           if request.frame_start < f <= request.frame_end}))
-    options = BakeOptions(cyclic=request.cyclic, resets=resets, key_tolerance=float(request.key_tolerance),
-                          on_twos=bool(request.on_twos))
-    bake = bake_chains(times, heads, rotations, parents, request.parameters,
-                       gravity=(0.0, 0.0, -float(request.gravity)), options=options)
-    interpolation = "CONSTANT" if bake.stepped else "LINEAR"
-    specs = []
-    for b, name in enumerate(names):
-        keep = bake.key_mask[:, b]
-        pb = rig.pose.bones[name]
-        path = pb.path_from_id()
-        if name in eulers:
-            deltas = _euler_deltas(values["rotation_euler"][keep, b], bake.quaternions[keep, b], pb.rotation_mode)
-            specs += [CurveSpec(f"{path}.rotation_euler", i, frames[keep].astype(float), deltas[:, i], None,
-                                interpolation) for i in range(3)]
-        else:
-            q = bake.quaternions[keep, b]
-            specs += [CurveSpec(f"{path}.rotation_quaternion", i, frames[keep].astype(float), q[:, i], None,
-                                interpolation) for i in range(4)]
-    peaks = {n: float(p) for n, p in zip(names, bake.peak_offsets)}
-    return LagWork(tuple(specs), peaks, int(sum(len(s.frames) for s in specs)))
+        unmute_layer(scene, track, was)
+    return curves_for(rig, names, eulers, frames, values, simulation(scene, rig, request, matrices)())
 
 
 def _euler_deltas(animated, deltas, order):

@@ -1,8 +1,11 @@
 """Operators for drag and follow-through: bake it, take it back.
 
 Everything (checks, sampling, simulation, curves) is done before the first key
-is written, so a refused bake leaves the file as it was. No ``bpy.ops`` inside
-``execute``.
+is written, so a refused or cancelled bake leaves the file as it was. No
+``bpy.ops`` inside ``execute``. Pressed in the panel (invoke), a bake that is
+not done within :data:`FIRST_STEP` goes on as a modal operator: a progress bar,
+and Esc cancels with nothing written. A bake that reuses the motion kept from
+the last one (changing only chain settings) finishes in that first step.
 """
 
 import json
@@ -11,8 +14,15 @@ import bpy
 from bpy.props import EnumProperty, StringProperty
 
 from . import bake as lag_bake
+from .bake_job import BakeJob
 from ..core.base.errors import LeapwrightError
 from .settings import PRESET_ITEMS
+
+#: Longest first step before the bake shows a progress bar and listens for Esc [s].
+FIRST_STEP = 0.1
+#: Work done between two looks at the events while a long bake runs [s].
+MODAL_STEP = 0.05
+PROGRESS_STEPS = 1000
 
 PRESET_CHOICES = (("SETTINGS", "As set in the panel", "The panel's preset or values"),) + PRESET_ITEMS
 
@@ -29,35 +39,9 @@ def _rig(context):
     return jump.rig if jump is not None else None
 
 
-def _selected_bones(context, rig):
-    chosen = getattr(context, "selected_pose_bones", None)
-    if chosen is None:
-        raise lag_bake.LagError("the pose-bone selection cannot be read here; name the bones "
-                                "(bones='a,b,c') or pick a bone collection")
-    picked = {pb.name for pb in chosen}
-    return tuple(pb.name for pb in rig.pose.bones if pb.name in picked)
-
-
 def _request(context, op, rig):
-    s = context.scene.leapwright_follow_through
-    if rig is None or rig.type != "ARMATURE":
-        lag_bake.check(rig, None)
-    if op.bones.strip():
-        bones = tuple(n.strip() for n in op.bones.split(",") if n.strip())
-    elif s.source == "COLLECTION":
-        bones = lag_bake.bones_of_collection(rig, s.collection)
-    else:
-        bones = _selected_bones(context, rig)
-    preset = s.preset if op.preset == "SETTINGS" else op.preset
-    params = lag_bake.parameters_for(preset, s.frequency, s.damping_ratio, s.sag, s.angle_limit, s.transmission)
-    scene = context.scene
-    start, end = (scene.frame_start, scene.frame_end) if s.use_scene_range else (s.frame_start, s.frame_end)
-    jump = getattr(scene, "leapwright_plan", None)
-    gravity = jump.gravity if jump is not None else lag_bake.STANDARD_GRAVITY
-    return lag_bake.LagRequest(bones=bones, parameters=params, frame_start=int(start), frame_end=int(end),
-                               key_tolerance=s.key_tolerance, on_twos=s.on_twos, cyclic=s.cyclic,
-                               reset_frames=lag_bake.marker_resets(scene, start, end, s.reset_marker),
-                               gravity=gravity)
+    named = tuple(n.strip() for n in op.bones.split(",") if n.strip())
+    return lag_bake.request_from_panel(context, rig, named or None, op.preset)
 
 
 def _can_run(cls, context):
@@ -84,30 +68,76 @@ class LEAPWRIGHT_OT_bake_lag(bpy.types.Operator):
 
     def execute(self, context):
         rig = _rig(context)
-        wm = context.window_manager
-        shown = context.window is not None
         try:
-            request = _request(context, self, rig)
-            lag_bake.check(rig, request)
-            if shown:
-                wm.progress_begin(0, request.frame_end - request.frame_start + 1)
-            try:
-                work = lag_bake.prepare(context.scene, rig, request, wm.progress_update if shown else None)
-            finally:
-                if shown:
-                    wm.progress_end()
+            job = BakeJob(context.scene, rig, _request(context, self, rig))
+            job.run()
         except (lag_bake.LagError, LeapwrightError) as exc:
             self.report({"ERROR"}, str(exc))
             return {"CANCELLED"}
+        return self._write(context, job)
+
+    def invoke(self, context, event):
+        if context.window is None:
+            return self.execute(context)
+        rig = _rig(context)
         try:
-            lag_bake.apply(rig, work)
+            self._job = BakeJob(context.scene, rig, _request(context, self, rig), threaded=True)
+            done = self._job.step(FIRST_STEP)
+        except (lag_bake.LagError, LeapwrightError) as exc:
+            self.report({"ERROR"}, str(exc))
+            return {"CANCELLED"}
+        if done:  # a tuning re-bake, or a small one: no bar, nothing to cancel
+            return self._write(context, self._job)
+        wm = context.window_manager
+        self._timer = wm.event_timer_add(0.001, window=context.window)
+        wm.progress_begin(0, PROGRESS_STEPS)
+        wm.modal_handler_add(self)
+        context.workspace.status_text_set("Baking follow-through: Esc to cancel (nothing is written)")
+        return {"RUNNING_MODAL"}
+
+    def modal(self, context, event):
+        if event.type == "ESC":
+            self.cancel(context)
+            self.report({"WARNING"}, "Follow-through bake cancelled; nothing was written")
+            return {"CANCELLED"}
+        if event.type != "TIMER" or event.timer is not self._timer:
+            return {"RUNNING_MODAL"}  # the scene stays as it is while the bake reads it
+        try:
+            done = self._job.step(MODAL_STEP)
+        except (lag_bake.LagError, LeapwrightError) as exc:
+            self._end_modal(context)
+            self.report({"ERROR"}, str(exc))
+            return {"CANCELLED"}
+        context.window_manager.progress_update(int(self._job.progress * PROGRESS_STEPS))
+        if not done:
+            return {"RUNNING_MODAL"}
+        self._end_modal(context)
+        return self._write(context, self._job)
+
+    def cancel(self, context):
+        self._job.cancel()
+        self._end_modal(context)
+
+    def _end_modal(self, context):
+        wm = context.window_manager
+        if getattr(self, "_timer", None) is not None:
+            wm.event_timer_remove(self._timer)
+            self._timer = None
+        wm.progress_end()
+        context.workspace.status_text_set(None)
+
+    def _write(self, context, job):
+        try:
+            job.write()
         except lag_bake.ownership.LayerError as exc:
             self.report({"ERROR"}, str(exc))
             return {"CANCELLED"}
+        work = job.work
         peaks = lag_bake.degrees(work.peaks)
         context.scene.leapwright_follow_through.readout = json.dumps(peaks)
         top = max(peaks, key=peaks.get)
-        self.report({"INFO"}, f"Baked {len(peaks)} bones, {work.keys} keys on {lag_bake.TRACK}; "
+        kept = " (motion kept from the last bake)" if job.reused else ""
+        self.report({"INFO"}, f"Baked {len(peaks)} bones, {work.keys} keys on {lag_bake.TRACK}{kept}; "
                               f"largest swing {peaks[top]:.1f}° ({top})")
         return {"FINISHED"}
 

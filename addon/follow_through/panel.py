@@ -4,7 +4,8 @@ import json
 
 import bpy
 
-from ..blender.panel_parts import SubPanel
+from ..blender.panel_parts import SubPanel, wrap_text
+from . import live_tuning
 
 
 class LEAPWRIGHT_PT_follow_through(SubPanel, bpy.types.Panel):
@@ -48,9 +49,21 @@ class LEAPWRIGHT_PT_follow_through(SubPanel, bpy.types.Panel):
         box.prop(s, "cyclic")
         box.prop(s, "reset_marker")
 
+        row = layout.row()
+        row.prop(s, "live_rebake")
+        _draw_live_status(layout, context.scene)
         _draw_readout(layout, s.readout)
         layout.operator("leapwright.bake_follow_through", icon="FORCE_WIND")
         layout.operator("leapwright.remove_follow_through", icon="TRASH")
+
+
+def _draw_live_status(layout, scene):
+    message, ms = live_tuning.status(scene)
+    if message:
+        for line in wrap_text(message, 40):
+            layout.label(text=line, icon="INFO")
+    elif ms is not None and scene.leapwright_follow_through.live_rebake:
+        layout.label(text=f"Re-baked in {ms:.0f} ms", icon="TIME")
 
 
 def _draw_readout(layout, raw):

@@ -7,7 +7,16 @@ rotation units). ``readout`` is written by the bake: JSON ``{bone: peak [deg]}``
 import math
 
 import bpy
+from bpy.app.handlers import persistent
 from bpy.props import BoolProperty, EnumProperty, FloatProperty, IntProperty, PointerProperty, StringProperty
+
+from . import live_tuning, sampled_motion
+
+
+def _tuned(self, context):
+    # A chain setting changed: with "re-bake as you tune" on, bake the last bake again at once.
+    live_tuning.retune(self, context)
+
 
 SOURCE_ITEMS = (
     ("SELECTED", "Selected bones", "The pose bones selected now"),
@@ -27,37 +36,51 @@ class LeapwrightFollowThroughSettings(bpy.types.PropertyGroup):
 
     source: EnumProperty(name="Bones", items=SOURCE_ITEMS, default="SELECTED")
     collection: StringProperty(name="Bone collection", description="Name of the rig's bone collection to bake")
-    preset: EnumProperty(name="Behaves like", items=PRESET_ITEMS, default="hair")
-    frequency: FloatProperty(name="Springiness (Hz)", default=1.5, min=0.01, soft_max=10.0,
+    preset: EnumProperty(update=_tuned, name="Behaves like", items=PRESET_ITEMS, default="hair")
+    frequency: FloatProperty(update=_tuned, name="Springiness (Hz)", default=1.5, min=0.01, soft_max=10.0,
                              description="Swings per second of the spring alone, gravity off")
-    damping_ratio: FloatProperty(name="Damping", default=0.25, min=0.0, soft_max=2.0,
+    damping_ratio: FloatProperty(update=_tuned, name="Damping", default=0.25, min=0.0, soft_max=2.0,
                                  description="1 settles without overshoot; lower swings longer")
-    sag: FloatProperty(name="Sag", subtype="ANGLE", default=math.radians(20.0), min=0.0,
+    sag: FloatProperty(update=_tuned, name="Sag", subtype="ANGLE", default=math.radians(20.0), min=0.0,
                        max=math.radians(89.0), description="How far its weight bends a bone held level, standing still")
-    angle_limit: FloatProperty(name="Angle limit", subtype="ANGLE", default=math.radians(80.0),
+    angle_limit: FloatProperty(update=_tuned, name="Angle limit", subtype="ANGLE", default=math.radians(80.0),
                                min=math.radians(0.1), max=math.pi)
-    transmission: FloatProperty(name="Carry-through", default=1.0, min=0.0, max=1.0,
+    transmission: FloatProperty(update=_tuned, name="Carry-through", default=1.0, min=0.0, max=1.0,
                                 description="1: a loose whip, the parent's swing carries into the child; "
                                             "lower: the chain trails in still air")
     use_scene_range: BoolProperty(name="Scene frame range", default=True)
     frame_start: IntProperty(name="Start", default=1)
     frame_end: IntProperty(name="End", default=250)
-    key_tolerance: FloatProperty(name="Thin keys within", subtype="ANGLE", default=0.0, min=0.0,
+    key_tolerance: FloatProperty(update=_tuned, name="Thin keys within", subtype="ANGLE", default=0.0, min=0.0,
                                  max=math.radians(10.0), description="0 keeps a key on every frame")
-    on_twos: BoolProperty(name="On twos", default=False)
+    on_twos: BoolProperty(update=_tuned, name="On twos", default=False)
     cyclic: BoolProperty(name="Loop", default=False, description="The range is one cycle of a looping action")
     reset_marker: StringProperty(name="Restart at markers named",
                                  description="Markers whose name contains this restart the chains "
                                              "(camera-switch markers always do)")
+    live_rebake: BoolProperty(name="Re-bake as you tune", default=False,
+                              description="Bake the last bake again at once whenever a chain setting changes "
+                                          "(its motion is kept in memory, so only the chains are simulated)")
     readout: StringProperty(name="Peak offsets", options={"HIDDEN"})
 
 
 classes = (LeapwrightFollowThroughSettings,)
 
 
+@persistent
+def _forget_kept_motion(*_args):
+    # another file: the kept motion and the live re-bake's status belong to the one closed
+    sampled_motion.forget()
+    live_tuning.forget_status()
+
+
 def register_properties():
     bpy.types.Scene.leapwright_follow_through = PointerProperty(type=LeapwrightFollowThroughSettings)
+    bpy.app.handlers.load_pre.append(_forget_kept_motion)
 
 
 def unregister_properties():
+    if _forget_kept_motion in bpy.app.handlers.load_pre:
+        bpy.app.handlers.load_pre.remove(_forget_kept_motion)
+    _forget_kept_motion()
     del bpy.types.Scene.leapwright_follow_through

@@ -1,9 +1,12 @@
 """From the panel's values to the core's plan, and the plan's readout.
 
 Blender lengths become metres here (× ``unit_settings.scale_length``), and the
-scene's true frame rate is ``fps / fps_base``. The last plan is cached per
-scene, keyed by every value that shapes it, so redrawing the panel costs one
-dictionary look-up; a change of any value recomputes it once.
+scene's true frame rate is ``fps / fps_base``. Plans are cached per scene,
+keyed by every value that shapes them, so redrawing the panel costs one
+dictionary look-up; a change of any value re-plans once, in the property's
+update callback, so the readout is current by the time the panel redraws while
+a value is dragged. The last :data:`RECENT` plans are kept, so dragging back
+over values already seen costs a look-up.
 """
 
 import math
@@ -13,7 +16,10 @@ from ..core.base.errors import LeapwrightError
 from ..core.plan.goals import JumpGoals
 from ..core.plan.planner import plan_jump
 
-_CACHE = {}  # scene pointer -> (key, plan or None, readout dict)
+#: Plans kept per file session (the most recently used; a drag back and forth re-plans nothing).
+RECENT = 64
+
+_CACHE = {}  # (scene pointer, key) -> (plan or None, readout dict), oldest first
 
 
 def goals_from(settings, scene):
@@ -56,9 +62,11 @@ def plan_for(scene):
     """
     settings = scene.leapwright_plan
     key = _key(settings, scene)
-    hit = _CACHE.get(scene.as_pointer())
-    if hit is not None and hit[0] == key:
-        return hit[1], hit[2]
+    slot = (scene.as_pointer(), key)
+    hit = _CACHE.pop(slot, None)
+    if hit is not None:
+        _CACHE[slot] = hit  # now the most recent
+        return hit
     plan, readout = None, {"flight_frames": (), "peak_force_bw": math.nan, "figures": (), "warnings": (),
                            "stylisations": (), "error": "", "duration_frames": 0.0}
     try:
@@ -76,7 +84,9 @@ def plan_for(scene):
             stylisations=tuple(rep.stylisations),
             duration_frames=plan.duration_s * fps,
         )
-    _CACHE[scene.as_pointer()] = (key, plan, readout)
+    _CACHE[slot] = (plan, readout)
+    while len(_CACHE) > RECENT:
+        _CACHE.pop(next(iter(_CACHE)))
     return plan, readout
 
 

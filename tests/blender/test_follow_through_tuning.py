@@ -1,0 +1,173 @@
+"""Live tuning of follow-through in real Blender: kept motion, cancel, re-bake as you tune, sampling.
+
+Checks against things outside the add-on: Blender's own per-bone matrices
+(``matrix_world @ pose_bone.matrix`` read one bone at a time), a bake that samples
+afresh (the kept motion must give the same keys), the file's own bytes
+(scene_probe snapshots) after a cancel, and the thread count OpenBLAS itself reports.
+"""
+
+import math
+
+import bpy
+import numpy as np
+
+from scene_probe import addon, snapshot
+from test_lag_bake import PONY, _bake, _jumping_rig, _key_values, _lag_curves, _ponytail_rig
+
+
+def _ft():
+    return addon().follow_through
+
+
+def _keys(rig):
+    return {(fc.data_path, fc.array_index): _key_values(fc) for fc in _lag_curves(rig)}
+
+
+def _request(rig, preset="hair", **values):
+    bake = _ft().bake
+    scene = bpy.context.scene
+    return bake.LagRequest(bones=PONY, parameters=bake.parameters_for(preset, 1.5, 0.25, 0.3, 1.4, 1.0),
+                           frame_start=scene.frame_start, frame_end=scene.frame_end, **values)
+
+
+def _same_keys(a, b, atol=1e-6):
+    assert a.keys() == b.keys()
+    for key in a:
+        np.testing.assert_allclose(a[key], b[key], atol=atol, err_msg=str(key))
+
+
+def test_sampling_in_chunks_gives_blenders_own_matrices_on_a_moving_rig_at_subframes():
+    rig = _ponytail_rig()
+    add_user_keys(rig, bone="hips", frames=(1, 20, 40))
+    rig.location = (0.0, 0.0, 0.0)
+    rig.keyframe_insert("location", frame=1)
+    rig.rotation_euler = (0.2, 0.1, 0.9)
+    rig.location = (1.0, -2.0, 0.5)
+    rig.keyframe_insert("location", frame=30)
+    rig.keyframe_insert("rotation_euler", frame=30)
+    scene = bpy.context.scene
+    scene.frame_set(4)
+    frames = np.array([1.0, 7.25, 15.0, 22.5, 30.0, 33.0, 40.0])
+    sampling = addon().rig.sampling.PoseSampling(scene, rig, frames, list(PONY) + ["hips"])
+    sampling.step(2)
+    sampling.step(3)
+    assert not sampling.finished
+    sampling.step()
+    sampling.close()
+    matrices, names, _ = sampling.result()
+    assert scene.frame_current == 4 and names == list(PONY) + ["hips"]
+    for i, frame in enumerate(frames):
+        whole = int(math.floor(frame))
+        scene.frame_set(whole, subframe=float(frame - whole))
+        for b, name in enumerate(names):
+            own = np.array(rig.matrix_world @ rig.pose.bones[name].matrix)  # Blender's own product, bone by bone
+            np.testing.assert_allclose(matrices[i, b], own, atol=2e-6, err_msg=f"{name} at {frame}")
+
+
+def test_a_tuning_rebake_uses_the_kept_motion_and_writes_what_a_fresh_bake_writes():
+    rig, _ = _jumping_rig()
+    ft, scene = _ft(), bpy.context.scene
+    assert _bake(rig, bones=",".join(PONY), preset="hair") == {"FINISHED"}
+    job = ft.bake_job.BakeJob(scene, rig, _request(rig, "cloth"))
+    assert job.reused  # springiness, damping or the preset alone: nothing is sampled again
+    job.run()
+    job.write()
+    kept = _keys(rig)
+    ft.sampled_motion.forget()
+    assert _bake(rig, bones=",".join(PONY), preset="cloth") == {"FINISHED"}
+    _same_keys(kept, _keys(rig))
+
+
+def test_kept_motion_is_sampled_again_after_a_key_a_pose_or_the_range_changes():
+    rig, _ = _jumping_rig()
+    ft, scene = _ft(), bpy.context.scene
+
+    def reused_and_same():
+        job = ft.bake_job.BakeJob(scene, rig, _request(rig))
+        reused = job.reused
+        job.run()
+        job.write()
+        mine = _keys(rig)
+        ft.sampled_motion.forget()
+        fresh = ft.bake_job.BakeJob(scene, rig, _request(rig))
+        fresh.run()
+        fresh.write()
+        _same_keys(mine, _keys(rig))
+        return reused
+
+    assert not reused_and_same()
+    assert reused_and_same()
+    # a key of the body moved, in the animator's action (played from its NLA track while the layer exists)
+    track = rig.animation_data.nla_tracks["lw:your animation"]
+    curve = next(fc for fc in addon().blender.compat.fcurves(track.strips[0].action, rig)
+                 if fc.data_path.endswith("location") and fc.array_index == 2)
+    key = curve.keyframe_points[len(curve.keyframe_points) // 2]
+    key.co.y += 0.02
+    curve.update()
+    assert not reused_and_same()
+    # a pose set without a key on a bone the chain hangs from
+    rig.pose.bones["head"].rotation_mode = "XYZ"
+    rig.pose.bones["head"].rotation_euler = (0.3, 0.0, 0.0)
+    assert not reused_and_same()
+    assert reused_and_same()
+    scene.frame_end -= 3
+    assert not reused_and_same()
+
+
+def test_cancel_while_sampling_or_simulating_writes_nothing_and_puts_the_scene_back():
+    rig, _ = _jumping_rig()
+    ft, scene = _ft(), bpy.context.scene
+    mesh = bpy.data.objects.new("Skin", bpy.data.meshes.new("SkinMesh"))
+    scene.collection.objects.link(mesh)
+    mesh.modifiers.new("Armature", "ARMATURE").object = rig
+    scene.frame_set(12)
+    for baked_before in (False, True):
+        ft.sampled_motion.forget()
+        before = snapshot()
+        job = ft.bake_job.BakeJob(scene, rig, _request(rig, "cloth"))
+        assert not job.reused
+        job._sampling.step(5)  # part of the frames, as a modal step leaves it
+        assert mesh.hide_viewport  # hidden while sampling
+        job.cancel()
+        assert snapshot() == before and scene.frame_current == 12 and not mesh.hide_viewport
+        # the simulation on its worker thread: cancelled before its result is taken
+        job = ft.bake_job.BakeJob(scene, rig, _request(rig, "cloth"), threaded=True)
+        while job._sampling is not None:
+            job.step(0.0)
+        job.cancel()
+        assert snapshot() == before and scene.frame_current == 12
+        if not baked_before:
+            assert _bake(rig, bones=",".join(PONY), preset="hair") == {"FINISHED"}
+    track = rig.animation_data.nla_tracks[_ft().bake.TRACK]
+    assert not track.mute
+
+
+def test_rebake_as_you_tune_writes_the_new_values_at_once_and_only_when_asked():
+    rig, _ = _jumping_rig()
+    ft, scene = _ft(), bpy.context.scene
+    s = scene.leapwright_follow_through
+    s.preset = "custom"
+    assert _bake(rig, bones=",".join(PONY)) == {"FINISHED"}
+    first = _keys(rig)
+    s.frequency = 2.5  # re-bake as you tune is off: nothing changes
+    _same_keys(first, _keys(rig), atol=0.0)
+    s.live_rebake = True
+    s.frequency = 1.1
+    message, ms = ft.live_tuning.status(scene)
+    assert message == "" and ms is not None
+    live = _keys(rig)
+    assert any(np.abs(live[k] - first[k]).max() > 1e-3 for k in first)
+    ft.sampled_motion.forget()
+    assert _bake(rig, bones=",".join(PONY)) == {"FINISHED"}  # the panel's values, sampled afresh
+    _same_keys(live, _keys(rig))
+
+
+def test_blas_runs_on_one_thread_inside_the_simulation_and_as_before_after():
+    rig, _ = _jumping_rig()
+    ft = _ft()
+    threads = ft.blas_threads.blas_threads()
+    assert threads is not None  # numpy's OpenBLAS was found (the wheels ship it)
+    job = ft.bake_job.BakeJob(bpy.context.scene, rig, _request(rig))
+    job.run()
+    assert ft.bake_job.LAST_BLAS_THREADS[0] == 1  # what OpenBLAS reported from inside the simulation
+    assert ft.blas_threads.blas_threads() == threads
