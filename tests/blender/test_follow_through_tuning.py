@@ -11,6 +11,7 @@ import math
 import bpy
 import numpy as np
 
+from rig_builder import add_user_keys
 from scene_probe import addon, snapshot
 from test_lag_bake import PONY, _bake, _jumping_rig, _key_values, _lag_curves, _ponytail_rig
 
