@@ -21,6 +21,8 @@ from .blas_threads import blas_threads, one_blas_thread
 
 #: BLAS threads reported from inside the last simulation (None: no OpenBLAS found), for the benchmark and tests.
 LAST_BLAS_THREADS = [None]
+#: :attr:`BakeJob.timings` of the last job that got its curves ready, and whether it reused kept motion.
+LAST_TIMINGS = {}
 
 
 def simulate_on_one_blas_thread(call):
@@ -128,6 +130,8 @@ class BakeJob:
         start = time.perf_counter()
         self.work = bake.curves_for(self.rig, self.names, self.eulers, self.frames, self._take.values, result)
         self.timings["curves"] = time.perf_counter() - start
+        LAST_TIMINGS.clear()
+        LAST_TIMINGS.update(self.timings, reused=self.reused)
         return True
 
     def _sample(self, seconds):

@@ -100,7 +100,7 @@ class LEAPWRIGHT_OT_bake_lag(bpy.types.Operator):
             self.cancel(context)
             self.report({"WARNING"}, "Follow-through bake cancelled; nothing was written")
             return {"CANCELLED"}
-        if event.type != "TIMER" or event.timer is not self._timer:
+        if event.type != "TIMER":
             return {"RUNNING_MODAL"}  # the scene stays as it is while the bake reads it
         try:
             done = self._job.step(MODAL_STEP)

@@ -153,14 +153,30 @@ def test_rebake_as_you_tune_writes_the_new_values_at_once_and_only_when_asked():
     s.frequency = 2.5  # re-bake as you tune is off: nothing changes
     _same_keys(first, _keys(rig), atol=0.0)
     s.live_rebake = True
+    scene.frame_set(scene.frame_end - 10)
+    shown_before = np.array(rig.pose.bones[PONY[2]].matrix)
     s.frequency = 1.1
     message, ms = ft.live_tuning.status(scene)
     assert message == "" and ms is not None
     live = _keys(rig)
     assert any(np.abs(live[k] - first[k]).max() > 1e-3 for k in first)
+    # the viewport's next evaluation shows the new keys, without a frame change
+    bpy.context.view_layer.update()
+    shown = np.array(rig.pose.bones[PONY[2]].matrix)
+    scene.frame_set(scene.frame_current)
+    np.testing.assert_allclose(shown, np.array(rig.pose.bones[PONY[2]].matrix), atol=1e-6)
+    assert np.abs(shown - shown_before).max() > 1e-4
     ft.sampled_motion.forget()
     assert _bake(rig, bones=",".join(PONY)) == {"FINISHED"}  # the panel's values, sampled afresh
     _same_keys(live, _keys(rig))
+
+
+def test_the_panel_button_bakes_at_once_where_there_is_no_window():
+    # invoked as from the panel: headless there is no window for a progress bar, so it bakes at once
+    rig, _ = _jumping_rig()
+    bpy.context.view_layer.objects.active = rig
+    assert bpy.ops.leapwright.bake_follow_through("INVOKE_DEFAULT", bones=",".join(PONY)) == {"FINISHED"}
+    assert len(_lag_curves(rig)) == 4 * len(PONY)
 
 
 def test_blas_runs_on_one_thread_inside_the_simulation_and_as_before_after():
