@@ -14,6 +14,10 @@ held to one thread while the simulation runs (:mod:`.blas_threads`).
 import threading
 import time
 
+# numpy imports numpy.ma lazily inside np.unique (which the chain set-up calls): ≈40 ms, paid here when
+# the add-on loads instead of inside the first bake of a session
+import numpy.ma  # noqa: F401
+
 from ..rig.fingerprint import motion_fingerprint
 from ..rig.sampling import PoseSampling
 from . import bake, sampled_motion
