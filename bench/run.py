@@ -78,7 +78,7 @@ def summary(demo, large, plan_ms, check_s):
         tune_rebake_ms=_r(max(demo["tune_rebake_live_s"], demo["tune_rebake_operator_s"]) * 1e3, 2),
         tune_rebake_live_ms=_r(demo["tune_rebake_live_s"] * 1e3, 2),
         tune_rebake_operator_ms=_r(demo["tune_rebake_operator_s"] * 1e3, 2),
-        sampling_floor_ratio=_r(demo["parts_s"]["sampling"] / fl),
+        sampling_floor_ratio=_r(demo["sampling_alone_s"] / demo["sampling_floor_s"]),
         simulation_ms=_r(demo["parts_s"]["simulation"] * 1e3, 2),
         speedup_vs_builtin_bake=_r(demo["builtin_bake_s"] / demo["rebake_s"]),
         first_bake_speedup_vs_builtin_bake=_r(demo["builtin_bake_s"] / demo["first_bake_s"]),

@@ -324,12 +324,16 @@ def _euler_deltas(animated, deltas, order):
 
 
 def apply(rig, work):
-    """Replace the previous bake (if any) by ``work`` on the track ``lw:follow_through``."""
+    """Replace the previous bake (if any) by ``work`` on the track ``lw:follow_through``.
+
+    Returns True when the keys were re-written inside the existing layer (nothing else changed).
+    """
     if layer_rewrite.rewrite_in_place(rig, CAPABILITY, work.specs):
-        return
+        return True
     if CAPABILITY in ownership.capabilities_written(rig):
         ownership.clear(rig, CAPABILITY)
     ownership.write_layer(rig, CAPABILITY, list(work.specs))
+    return False
 
 
 def remove(rig):

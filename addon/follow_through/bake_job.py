@@ -168,9 +168,9 @@ class BakeJob:
 
     def write(self):
         """Write the prepared curves (after :meth:`step` returned True)."""
-        bake.apply(self.rig, self.work)
-        sampled_motion.restamp(self.scene, self.rig,
-                               motion_fingerprint(self.scene, self.rig, skip_tracks=(bake.TRACK,)))
+        if not bake.apply(self.rig, self.work):  # a new layer may have moved the animator's action to a track
+            sampled_motion.restamp(self.scene, self.rig,
+                                   motion_fingerprint(self.scene, self.rig, skip_tracks=(bake.TRACK,)))
 
     def run(self):
         """Prepare to the end in this thread; returns the work (not yet written)."""
