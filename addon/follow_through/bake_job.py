@@ -26,7 +26,7 @@ from .blas_threads import blas_threads, one_blas_thread
 #: BLAS threads reported from inside the last simulation (None: no OpenBLAS found), for the benchmark and tests.
 LAST_BLAS_THREADS = [None]
 #: :attr:`BakeJob.timings` of the last job that got its curves ready, and whether it reused kept motion.
-LAST_TIMINGS = {}
+LAST_TIMINGS: dict = {}
 
 
 def simulate_on_one_blas_thread(call):

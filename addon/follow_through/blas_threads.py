@@ -21,7 +21,7 @@ import numpy as np
 _PREFIXES = ("scipy_openblas", "openblas")
 _SUFFIXES = ("64_", "_64", "")
 
-_FOUND = []  # [(get, set)] or [None] once looked up
+_FOUND: list = []  # [(get, set)] or [None] once looked up
 
 
 def _library_paths():

@@ -22,7 +22,7 @@ from .bake_job import BakeJob
 #: Longest sampling a live re-bake repeats by itself [s]; a longer one waits for the Bake button.
 LIVE_SAMPLING_LIMIT = 0.25
 
-_STATUS = {}  # scene pointer -> (message, milliseconds of the last live re-bake)
+_STATUS: dict = {}  # scene pointer -> (message, milliseconds of the last live re-bake)
 
 
 def status(scene):

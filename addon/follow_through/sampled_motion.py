@@ -25,7 +25,7 @@ SAME_MOTION = 1e-5
 #: Takes kept at most (one per rig; the oldest goes first).
 KEPT = 4
 
-_TAKES = {}  # (scene pointer, rig pointer) -> SampledMotion
+_TAKES: dict = {}  # (scene pointer, rig pointer) -> SampledMotion
 
 
 @dataclass

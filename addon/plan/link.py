@@ -19,7 +19,7 @@ from ..core.plan.planner import plan_jump
 #: Plans kept per file session (the most recently used; a drag back and forth re-plans nothing).
 RECENT = 64
 
-_CACHE = {}  # (scene pointer, key) -> (plan or None, readout dict), oldest first
+_CACHE: dict = {}  # (scene pointer, key) -> (plan or None, readout dict), oldest first
 
 
 def goals_from(settings, scene):
