@@ -137,7 +137,7 @@ def main(argv=None):
     demo = last_json([sys.executable, script, "--zip", args.zip, "--size", "demo"], 300)
     if demo is None:
         sys.exit("the demo-size benchmark failed")
-    large = None if args.skip_large else last_json([sys.executable, script, "--zip", args.zip, "--size", "large"], 600)
+    large = None if args.skip_large else last_json([sys.executable, script, "--zip", args.zip, "--size", "large"], 1200)
     out = summary(demo, large, optional_figure("plan_speed.py", "plan_ms"),
                   optional_figure("check_path.py", "check_1e6_s"))
     _print(out, demo, large)
