@@ -10,7 +10,7 @@ import json
 import bpy
 from bpy.props import EnumProperty, StringProperty
 
-from . import bake as lag_bake
+from . import bake as follow_bake
 from ..core.base.errors import LeapwrightError
 from .settings import PRESET_ITEMS
 
@@ -32,7 +32,7 @@ def _rig(context):
 def _selected_bones(context, rig):
     chosen = getattr(context, "selected_pose_bones", None)
     if chosen is None:
-        raise lag_bake.LagError("the pose-bone selection cannot be read here; name the bones "
+        raise follow_bake.LagError("the pose-bone selection cannot be read here; name the bones "
                                 "(bones='a,b,c') or pick a bone collection")
     picked = {pb.name for pb in chosen}
     return tuple(pb.name for pb in rig.pose.bones if pb.name in picked)
@@ -41,22 +41,22 @@ def _selected_bones(context, rig):
 def _request(context, op, rig):
     s = context.scene.leapwright_follow_through
     if rig is None or rig.type != "ARMATURE":
-        lag_bake.check(rig, None)
+        follow_bake.check(rig, None)
     if op.bones.strip():
         bones = tuple(n.strip() for n in op.bones.split(",") if n.strip())
     elif s.source == "COLLECTION":
-        bones = lag_bake.bones_of_collection(rig, s.collection)
+        bones = follow_bake.bones_of_collection(rig, s.collection)
     else:
         bones = _selected_bones(context, rig)
     preset = s.preset if op.preset == "SETTINGS" else op.preset
-    params = lag_bake.parameters_for(preset, s.frequency, s.damping_ratio, s.sag, s.angle_limit, s.transmission)
+    params = follow_bake.parameters_for(preset, s.frequency, s.damping_ratio, s.sag, s.angle_limit, s.transmission)
     scene = context.scene
     start, end = (scene.frame_start, scene.frame_end) if s.use_scene_range else (s.frame_start, s.frame_end)
     jump = getattr(scene, "leapwright_plan", None)
-    gravity = jump.gravity if jump is not None else lag_bake.STANDARD_GRAVITY
-    return lag_bake.LagRequest(bones=bones, parameters=params, frame_start=int(start), frame_end=int(end),
+    gravity = jump.gravity if jump is not None else follow_bake.STANDARD_GRAVITY
+    return follow_bake.LagRequest(bones=bones, parameters=params, frame_start=int(start), frame_end=int(end),
                                key_tolerance=s.key_tolerance, on_twos=s.on_twos, cyclic=s.cyclic,
-                               reset_frames=lag_bake.marker_resets(scene, start, end, s.reset_marker),
+                               reset_frames=follow_bake.marker_resets(scene, start, end, s.reset_marker),
                                gravity=gravity)
 
 
@@ -88,26 +88,26 @@ class LEAPWRIGHT_OT_bake_lag(bpy.types.Operator):
         shown = context.window is not None
         try:
             request = _request(context, self, rig)
-            lag_bake.check(rig, request)
+            follow_bake.check(rig, request)
             if shown:
                 wm.progress_begin(0, request.frame_end - request.frame_start + 1)
             try:
-                work = lag_bake.prepare(context.scene, rig, request, wm.progress_update if shown else None)
+                work = follow_bake.prepare(context.scene, rig, request, wm.progress_update if shown else None)
             finally:
                 if shown:
                     wm.progress_end()
-        except (lag_bake.LagError, LeapwrightError) as exc:
+        except (follow_bake.LagError, LeapwrightError) as exc:
             self.report({"ERROR"}, str(exc))
             return {"CANCELLED"}
         try:
-            lag_bake.apply(rig, work)
-        except lag_bake.ownership.LayerError as exc:
+            follow_bake.apply(rig, work)
+        except follow_bake.ownership.LayerError as exc:
             self.report({"ERROR"}, str(exc))
             return {"CANCELLED"}
-        peaks = lag_bake.degrees(work.peaks)
+        peaks = follow_bake.degrees(work.peaks)
         context.scene.leapwright_follow_through.readout = json.dumps(peaks)
         top = max(peaks, key=peaks.get)
-        self.report({"INFO"}, f"Baked {len(peaks)} bones, {work.keys} keys on {lag_bake.TRACK}; "
+        self.report({"INFO"}, f"Baked {len(peaks)} bones, {work.keys} keys on {follow_bake.TRACK}; "
                               f"largest swing {peaks[top]:.1f}° ({top})")
         return {"FINISHED"}
 
@@ -125,7 +125,7 @@ class LEAPWRIGHT_OT_remove_lag(bpy.types.Operator):
 
     def execute(self, context):
         rig = _rig(context)
-        if not lag_bake.remove(rig):
+        if not follow_bake.remove(rig):
             self.report({"WARNING"}, "nothing to remove: this object has no baked follow-through")
             return {"CANCELLED"}
         context.scene.leapwright_follow_through.readout = ""
