@@ -104,7 +104,7 @@ fuzz: $(STAMP)/core
 	$(VPY) tests/fuzz/run_fuzz.py
 
 bench: build
-	$(VPY) bench/lag_bake.py --zip "$$(ls -t dist/leapwright-*.zip | head -n 1)"
+	$(VPY) bench/follow_through.py --zip "$$(ls -t dist/leapwright-*.zip | head -n 1)"
 
 clean:
 	rm -rf dist build $(STAMP) blend_examples/out .pytest_cache

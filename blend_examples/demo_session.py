@@ -1,7 +1,7 @@
 """The demo's shared pieces: its jump, the extension installed as a user would, the scene's
 objects, calling an operator on the rig, and the blocking pass (the first pass of every demo).
 
-``run_demo.py`` runs the passes; ``demo_swing.py``, ``demo_lag.py`` and the picture scripts use
+``run_demo.py`` runs the passes; ``demo_arms.py``, ``demo_follow_through.py`` and the picture scripts use
 these pieces, so none of them imports ``run_demo``.
 """
 

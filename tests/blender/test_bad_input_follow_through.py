@@ -16,7 +16,7 @@ from scene_probe import file_state, first_difference, refused, reports
 
 
 def _lag_rig(**lag):
-    from test_lag_bake import _ponytail_rig  # the lag tests' own chain rig, not rebuilt here
+    from test_follow_through import _ponytail_rig  # the lag tests' own chain rig, not rebuilt here
     rig = _ponytail_rig()
     configure(rig, height=0.4)
     s = bpy.context.scene.leapwright_follow_through

@@ -95,7 +95,7 @@ def test_linked_rig_is_refused(mode):
 
 
 def test_bake_lag_on_a_linked_rig_is_refused():
-    from test_lag_bake import _ponytail_rig
+    from test_follow_through import _ponytail_rig
     rig = _link_rig(_library_file(_ponytail_rig))
     assert rig.library is not None
     bpy.context.scene.frame_end = 40
@@ -117,7 +117,7 @@ def test_library_override_is_refused_and_says_how_to_go_on(mode):
 
 
 def test_bake_lag_on_a_library_override_is_refused():
-    from test_lag_bake import _ponytail_rig
+    from test_follow_through import _ponytail_rig
     rig = _link_rig(_library_file(_ponytail_rig)).override_create(remap_local_usages=True)
     bpy.context.view_layer.objects.active = rig
     bpy.context.scene.frame_end = 40

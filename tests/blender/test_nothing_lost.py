@@ -230,7 +230,7 @@ def test_cli_chart_to_an_unwritable_path_exits_2_with_one_line(where):
 
 
 def _baked_rig():
-    from test_lag_bake import _jumping_rig  # the lag tests' chain rig with a jump written on it
+    from test_follow_through import _jumping_rig  # the lag tests' chain rig with a jump written on it
     rig, _marks = _jumping_rig()
     bpy.context.view_layer.objects.active = rig
     return rig

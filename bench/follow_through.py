@@ -13,7 +13,7 @@ Each is the best of a few repeats. The last line is one JSON object.
 
 Usage::
 
-    .venv/bin/python bench/lag_bake.py --zip dist/leapwright-<version>.zip
+    .venv/bin/python bench/follow_through.py --zip dist/leapwright-<version>.zip
 """
 
 import argparse
