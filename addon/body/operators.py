@@ -12,7 +12,7 @@ from ..rig import space as rig_space
 from . import com as body_com
 
 #: Rig name -> lines of the last check (shown in the panel; not saved in the file).
-LAST_CHECK = {}
+LAST_CHECK: dict = {}
 
 
 def _gravity(scene):

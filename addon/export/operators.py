@@ -23,7 +23,7 @@ from ..rig import space as rig_space
 from ..core.base.errors import LeapwrightError
 
 #: Last check per scene pointer: (rig name, tuple of ExportIssue), for the panel.
-LAST_CHECK = {}
+LAST_CHECK: dict = {}
 
 
 class LEAPWRIGHT_OT_check_export(bpy.types.Operator):

@@ -13,7 +13,7 @@ from ..core.base.errors import LeapwrightError
 from ..core.plan.goals import JumpGoals
 from ..core.plan.planner import plan_jump
 
-_CACHE = {}  # scene pointer -> (key, plan or None, readout dict)
+_CACHE: dict = {}  # scene pointer -> (key, plan or None, readout dict)
 
 
 def goals_from(settings, scene):
