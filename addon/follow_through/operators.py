@@ -68,7 +68,7 @@ def _can_run(cls, context):
     return _lag(context) is not None
 
 
-class LEAPWRIGHT_OT_bake_lag(bpy.types.Operator):
+class LEAPWRIGHT_OT_bake_follow_through(bpy.types.Operator):
     """Bake drag and follow-through on the chosen bones, as keys on a layer above yours"""
 
     bl_idname = "leapwright.bake_follow_through"
@@ -112,7 +112,7 @@ class LEAPWRIGHT_OT_bake_lag(bpy.types.Operator):
         return {"FINISHED"}
 
 
-class LEAPWRIGHT_OT_remove_lag(bpy.types.Operator):
+class LEAPWRIGHT_OT_remove_follow_through(bpy.types.Operator):
     """Remove the baked follow-through and put the bones back as they were"""
 
     bl_idname = "leapwright.remove_follow_through"
@@ -133,4 +133,4 @@ class LEAPWRIGHT_OT_remove_lag(bpy.types.Operator):
         return {"FINISHED"}
 
 
-classes = (LEAPWRIGHT_OT_bake_lag, LEAPWRIGHT_OT_remove_lag)
+classes = (LEAPWRIGHT_OT_bake_follow_through, LEAPWRIGHT_OT_remove_follow_through)

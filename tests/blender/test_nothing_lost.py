@@ -236,7 +236,7 @@ def _baked_rig():
     return rig
 
 
-def test_bake_lag_twice_gives_the_same_file_as_once_and_remove_twice_as_before():
+def test_bake_follow_through_twice_gives_the_same_file_as_once_and_remove_twice_as_before():
     rig = _baked_rig()
     bones = "pony.1,pony.2,pony.3"
     before, mine = file_state(), _user_curves()
