@@ -157,18 +157,21 @@ def _const(value):
 def _forward_unit_paths(z_piece, duration, gravity, absorbing):
     """Forward position polynomials for a unit change of forward speed.
 
-    The horizontal acceleration is ``k w(s) (g + z'')`` (push) or
-    ``-k (1 - w(s)) (g + z'')`` (absorption), with k making the speed change 1 m/s.
-    Returns ``(x_unit, k)``: position for 1 m/s [m per m/s], and k, the largest
-    Fx/Fz ratio per m/s.
+    The horizontal acceleration is ``k w(s) (g + z'')`` (push) or ``-k (1 - w(s)) (g + z'')``
+    (absorption), with k making the speed change 1 m/s. Returns ``(x_unit, k)``: position for
+    1 m/s [m per m/s], and k, the largest Fx/Fz ratio per m/s. Plain coefficient arrays
+    (ascending powers) keep it quick: the panel re-plans while a value is dragged.
     """
-    w = smoothstep(duration)
-    support = (g_plus := z_piece.deriv(2) + gravity) * (Polynomial([1.0]) - w if absorbing else w)
-    impulse = support.integ()(duration)
-    k = 1.0 / impulse
-    speed = (Polynomial([1.0]) - k * support.integ()) if absorbing else k * support.integ()
-    del g_plus
-    return speed.integ(), k
+    T, c = float(duration), z_piece.coef
+    support = c[2:] * np.arange(2, c.size) * np.arange(1, c.size - 1)  # z'' + g
+    support[0] += gravity
+    w = smoothstep(T).coef
+    support = np.convolve(support, np.array([1.0, 0.0, 0.0, 0.0]) - w if absorbing else w)
+    pushed = np.concatenate([[0.0], support / np.arange(1, support.size + 1)])  # its integral from 0
+    k = 1.0 / float(np.polynomial.polynomial.polyval(T, pushed))
+    speed = -k * pushed if absorbing else k * pushed
+    speed[0] += 1.0 if absorbing else 0.0
+    return Polynomial(np.concatenate([[0.0], speed / np.arange(1, speed.size + 1)])), k
 
 
 def _infeasible_stretch_message(goals, kind, stretch_spec):
