@@ -154,8 +154,40 @@ class LineTables:
                                                np.where(feasible, lo, 0.0), np.where(feasible, hi, 1.0),
                                                self.hint)
         if self.dip:
-            feasible &= self._dip_turns_once(powers, a_b)
+            turns = self._dip_turns_once(powers, a_b)
+            if not np.all(turns | ~feasible):
+                a_b, peak, turns = self._turn_once(powers, a_b, peak, turns, lo, hi, feasible)
+            feasible &= turns
         return a_b, np.where(feasible, peak, np.inf)
+
+    def _turn_once(self, powers, a_b, peak, turns, lo, hi, feasible):
+        """Where the least-peak bottom acceleration makes the dip turn twice, the nearest one that turns once.
+
+        The peak is convex in a_b, so the best a_b that turns once is the edge of the
+        turning-once set nearest the unconstrained best: found by bisection towards
+        whichever interval end turns once (the lower peak first).
+        """
+        rows = np.flatnonzero(~turns & feasible)
+        p, x0 = powers[rows], a_b[rows]
+        alpha = p @ self.envelope_offset
+        ends = []
+        for end in (lo[rows], hi[rows]):
+            ok = self._dip_turns_once(p, end)
+            ends.append((end, ok, np.max(alpha + self.envelope_slope * end[:, None], axis=1)))
+        (lo_x, lo_ok, lo_peak), (hi_x, hi_ok, hi_peak) = ends
+        use_hi = hi_ok & (~lo_ok | (hi_peak <= lo_peak))
+        good = np.where(use_hi, hi_x, lo_x)
+        bad = x0.copy()
+        for _ in range(48):
+            mid = 0.5 * (good + bad)
+            ok = self._dip_turns_once(p, mid)
+            good, bad = np.where(ok, mid, good), np.where(ok, bad, mid)
+        found = lo_ok | hi_ok
+        a_b, peak, turns = a_b.copy(), peak.copy(), turns.copy()
+        a_b[rows] = np.where(found, good, a_b[rows])
+        peak[rows] = np.where(found, np.max(alpha + self.envelope_slope * good[:, None], axis=1), peak[rows])
+        turns[rows] = found
+        return a_b, peak, turns
 
     def _dip_turns_once(self, powers, a_b):
         """The dip must unweight (a < 0) then brake (a > 0): one sign change only."""
