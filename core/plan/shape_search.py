@@ -178,16 +178,39 @@ class LineTables:
         use_hi = hi_ok & (~lo_ok | (hi_peak <= lo_peak))
         good = np.where(use_hi, hi_x, lo_x)
         bad = x0.copy()
-        for _ in range(48):
+        for _ in range(14):
             mid = 0.5 * (good + bad)
             ok = self._dip_turns_once(p, mid)
             good, bad = np.where(ok, mid, good), np.where(ok, bad, mid)
+        good = self._snap_to_turn(p, good, bad)
         found = lo_ok | hi_ok
         a_b, peak, turns = a_b.copy(), peak.copy(), turns.copy()
         a_b[rows] = np.where(found, good, a_b[rows])
         peak[rows] = np.where(found, np.max(alpha + self.envelope_slope * good[:, None], axis=1), peak[rows])
         turns[rows] = found
         return a_b, peak, turns
+
+    def _snap_to_turn(self, powers, good, bad):
+        """The exact edge in each bracket: where a checked sample of the dip crosses its zero band.
+
+        The sign pattern only changes where a sample's acceleration crosses +-1e-9 g, a line in
+        a_b; of those crossings inside (bad, good], the one nearest ``bad`` that turns once.
+        """
+        band = 1e-9 * self.spec.gravity
+        offsets = powers @ self.turn_offset
+        out = good.copy()
+        for row in range(len(good)):
+            lo, hi = sorted((bad[row], good[row]))
+            cross = np.concatenate([(band - offsets[row]) / self.turn_slope, (-band - offsets[row]) / self.turn_slope])
+            cross = cross[np.isfinite(cross) & (cross > lo) & (cross <= hi)]
+            step = 1e-12 * max(1.0, abs(good[row]))
+            trial = np.sort(cross + np.sign(good[row] - bad[row]) * step)
+            trial = trial[::-1] if bad[row] > good[row] else trial
+            if trial.size:
+                ok = self._dip_turns_once(np.repeat(powers[row:row + 1], trial.size, axis=0), trial)
+                if ok.any():
+                    out[row] = trial[np.argmax(ok)]
+        return out
 
     def _dip_turns_once(self, powers, a_b):
         """The dip must unweight (a < 0) then brake (a > 0): one sign change only."""
