@@ -27,7 +27,7 @@ DEFAULT_WEIGHING_S = 0.25
 #: stretch below body weight (McMahon et al. 2018 recommend 5 SD).
 ONSET_SD = 5.0
 _ONSET_HOLD_S = 0.175  # the drop must last this long, so one noisy sample is not a start
-_SMOOTHING_S = 0.05  # moving-average window for finding the start of movement
+_SMOOTHING_S = 0.02  # moving-average window for finding the start of movement
 #: The feet are off the plate below this fraction of body weight (plate noise is a few newtons).
 UNLOADED_BW = 0.03
 
