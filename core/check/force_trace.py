@@ -151,6 +151,8 @@ def _check_trace(times, force):
 
 def _weigh(t, f, quiet, mass_kg, g):
     """Body weight [N] and the quiet stretch's force SD [N]."""
+    if mass_kg is not None and not (np.isfinite(mass_kg) and mass_kg > 0):
+        raise ForceTraceError(f"body mass must be a positive number of kilograms, got {mass_kg!r}")
     start, end = quiet if quiet is not None else (t[0], t[0] + DEFAULT_WEIGHING_S)
     w = (t >= start) & (t <= end)
     if np.count_nonzero(w) < 10:
