@@ -1,7 +1,7 @@
 """The demo's shared pieces: its jump, the extension installed as a user would, the scene's
 objects, calling an operator on the rig, and the blocking pass (the first pass of every demo).
 
-``run_demo.py`` runs the passes; ``demo_swing.py``, ``demo_lag.py`` and the picture scripts use
+``run_demo.py`` runs the passes; ``demo_arms.py``, ``demo_follow_through.py`` and the picture scripts use
 these pieces, so none of them imports ``run_demo``.
 """
 
@@ -65,7 +65,7 @@ def blocking_pass(demo):
     import bpy
 
     scene, o = demo.scene, demo.objects
-    s = scene.leapwright
+    s = scene.leapwright_plan
     s.rig = o["rig"]
     s.com_bone = o["body_bone"]
     s.foot_left, s.foot_right = o["foot_controllers"]
@@ -79,7 +79,7 @@ def blocking_pass(demo):
     s.key_style = "SPLINE"
     s.start_frame = START_FRAME
     bpy.context.view_layer.objects.active = o["rig"]
-    operator_call(bpy.ops.leapwright.write_blocking, o["rig"], on_conflict="ASK")
+    operator_call(bpy.ops.leapwright.write_plan, o["rig"], on_conflict="ASK")
     action = o["rig"].animation_data.action
     scene.frame_start = START_FRAME
     scene.frame_end = int(round(action.frame_range[1])) + HOLD_FRAMES

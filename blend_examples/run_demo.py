@@ -23,13 +23,13 @@ import sys
 import tempfile
 import time
 
-from demo_lag import lag_pass
+from demo_follow_through import follow_through_pass
 from demo_session import (FPS, HERE, HOLD_FRAMES, JUMP_DISTANCE, JUMP_HEIGHT, MODULE, START_FRAME,  # noqa: F401
                           STRIP_COLUMNS, Demo, blocking_pass, install_extension, private_user_dirs)
-from demo_swing import swing_pass
+from demo_arms import arms_pass
 
 #: The demo's passes, in order. Later capabilities append theirs.
-PASSES = (blocking_pass, swing_pass, lag_pass)
+PASSES = (blocking_pass, arms_pass, follow_through_pass)
 
 
 def _write_manifest(demo, out_dir, frame_size, moments):

@@ -122,7 +122,7 @@ def sample_blend_track(path, object_name, bone_name=None, follow="auto", table="
     follow : str
         ``auto``, ``bone`` or ``body`` (:data:`FOLLOW_OPTIONS`).
     table : str
-        Segment table of the whole-body COM (``core.segment_tables.TABLES``).
+        Segment table of the whole-body COM (``core.body.segment_tables.TABLES``).
 
     Returns
     -------

@@ -4,7 +4,7 @@ In the air the whole-body centre of mass (COM) follows one parabola whatever the
 do; limbs keyed to move in flight while the hips keep their own path break that. The
 check reports each stretch where the COM leaves its arc by more than a tolerance, with
 the frames and the torso drop that would restore it, in the words of the panel's
-Check Body Arc (the messages come from ``core.flight_correction.check_flight``).
+Check Body Arc (the messages come from ``core.body.arc.check_flight``).
 
 Two sources:
 
@@ -12,7 +12,7 @@ Two sources:
   own layer playing), run on the file opened by :mod:`blend_tracks`;
 * a CSV with landmark columns ``LANDMARK_x,LANDMARK_y,LANDMARK_z`` [m] for the joints a
   segment table needs (``vertex``, ``skull_base``, ``neck_base``, ``shoulder.L`` ... ``toe_tip.R``;
-  see ``core.segment_tables.LANDMARKS``). ``hip_mid`` and ``shoulder_mid`` default to the
+  see ``core.body.segment_tables.LANDMARKS``). ``hip_mid`` and ``shoulder_mid`` default to the
   midpoints of the two sides.
 
 Take-off velocity from a CSV

@@ -35,6 +35,7 @@ from leapwright.core.base.timebase import parse_fps
 
 from cli import body as body_arc
 from cli.batch import add_batch_arguments, is_batch, report_batch, run_files
+from cli.force_trace import add_force_trace_arguments, run_force_trace
 
 REQUIRED_COLUMNS = ("frame", "x", "y", "z")
 
@@ -68,6 +69,7 @@ def add_parser(subparsers):
                    help="body arc: published segment masses (default de_leva_male)")
     p.add_argument("--json", action="store_true", help="print one JSON object instead of the report")
     p.add_argument("--chart", metavar="PATH", help="write a PNG: height and force [BW] against frames")
+    add_force_trace_arguments(p)
     p.set_defaults(func=run)
     return p
 
@@ -370,6 +372,8 @@ def _run_batch(args):
 
 def run(args):
     """Run ``check``; returns the exit code (0, 1, or 2 with one line on stderr)."""
+    if args.force_trace:
+        return run_force_trace(args)
     try:
         if is_batch(args):
             return _run_batch(args)

@@ -1,7 +1,7 @@
 """``leapwright export``: what would break a rig's export to a game engine, headless.
 
 The same checks as the panel's Check Export (``addon.export.checks``, rules in
-``core.export_checks``): the scene's unit scale, a mirrored or stretched rig object,
+``core.export.game_checks``): the scene's unit scale, a mirrored or stretched rig object,
 keys between frames, a root bone whose axes do not stand on the scene's up axis, and
 bone scale keys. ``--snap-keys`` first moves leapwright's own keys between frames onto
 whole frames (each by at most half a frame, the animator's keys untouched) and saves

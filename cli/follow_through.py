@@ -65,7 +65,7 @@ def _options(args, bones, preset):
 def bake_file(path, options):
     """Bake (or remove) follow-through in one .blend and save it in place.
 
-    Exactly what ``bpy.ops.leapwright.bake_follow_through`` does (the add-on's ``lag_bake`` module,
+    Exactly what ``bpy.ops.leapwright.bake_follow_through`` does (the add-on's ``follow_bake`` module,
     same layer, re-baking replaces). Returns ``{"file", "exit_code", "report" or
     "error"}`` and never raises for the input's faults: a worker of a batch.
     """
@@ -74,7 +74,7 @@ def bake_file(path, options):
     from cli.blend import jump_gravity, open_blend, save_blend
 
     path = str(path)
-    lag_bake = addon_module("follow_through.bake")
+    follow_bake = addon_module("follow_through.bake")
     bones = tuple(options["bones"])
     try:
         open_blend(path)
@@ -82,26 +82,26 @@ def bake_file(path, options):
         rig = _find_rig(bpy, options["rig"], bones)
         report = {"rig": rig.name, "bones": list(bones)}
         if options["remove"]:
-            report["removed"] = bool(lag_bake.remove(rig))
+            report["removed"] = bool(follow_bake.remove(rig))
             message = "removed the bake" if report["removed"] else "had no bake"
         else:
             start, end = options["frames"] or (scene.frame_start, scene.frame_end)
-            request = lag_bake.LagRequest(
-                bones=bones, parameters=lag_bake.chain_preset(options["preset"]), frame_start=start,
+            request = follow_bake.LagRequest(
+                bones=bones, parameters=follow_bake.chain_preset(options["preset"]), frame_start=start,
                 frame_end=end, key_tolerance=math.radians(options["key_tolerance_deg"]),
-                on_twos=options["on_twos"], reset_frames=lag_bake.marker_resets(scene, start, end, ""),
+                on_twos=options["on_twos"], reset_frames=follow_bake.marker_resets(scene, start, end, ""),
                 gravity=jump_gravity(scene))
-            work = lag_bake.prepare(scene, rig, request)
-            lag_bake.apply(rig, work)
+            work = follow_bake.prepare(scene, rig, request)
+            follow_bake.apply(rig, work)
             top = max(work.peaks, key=work.peaks.get)
             report.update(preset=options["preset"], frames=[int(start), int(end)], keys=int(work.keys),
-                          layer=lag_bake.TRACK, largest_swing_deg=math.degrees(work.peaks[top]),
+                          layer=follow_bake.TRACK, largest_swing_deg=math.degrees(work.peaks[top]),
                           largest_swing_bone=top,
                           swing_deg={b: math.degrees(v) for b, v in sorted(work.peaks.items())})
-            message = (f"{len(bones)} bones, {work.keys} keys on {lag_bake.TRACK}, largest swing "
+            message = (f"{len(bones)} bones, {work.keys} keys on {follow_bake.TRACK}, largest swing "
                        f"{report['largest_swing_deg']:.1f} deg ({top})")
     except Exception as exc:  # noqa: BLE001 - sorted just below: the input's fault, or a bug
-        if not _expected(exc, lag_bake):
+        if not _expected(exc, follow_bake):
             raise
         return file_error(path, exc)
     save_blend(path)
@@ -131,7 +131,7 @@ def run(args):
     return result["exit_code"]
 
 
-def _expected(exc, lag_bake):
+def _expected(exc, follow_bake):
     """Errors that are the input's fault (reported in one line), not bugs."""
     from cli.blend import input_errors
-    return isinstance(exc, (lag_bake.LagError, lag_bake.ownership.LayerError, *input_errors()))
+    return isinstance(exc, (follow_bake.LagError, follow_bake.ownership.LayerError, *input_errors()))

@@ -9,7 +9,7 @@ import sys
 
 from leapwright.core.base.errors import LeapwrightError
 
-from cli import plan as plan_command
+from cli import plan as cli_plan
 
 
 class _Parser(argparse.ArgumentParser):
@@ -20,15 +20,15 @@ class _Parser(argparse.ArgumentParser):
 
 
 def _subcommands():
-    modules = [plan_command]
+    modules = [cli_plan]
     try:
-        from cli import check as check_command
+        from cli import check as cli_check
     except ImportError:  # the checker is optional while it is being built
-        check_command = None
-    if check_command is not None:
-        modules.append(check_command)
-    from cli import follow_through as bake_command, export as export_command
-    modules += [bake_command, export_command]
+        cli_check = None
+    if cli_check is not None:
+        modules.append(cli_check)
+    from cli import follow_through, export as cli_export
+    modules += [follow_through, cli_export]
     return modules
 
 

@@ -38,6 +38,9 @@ def add_parser(subparsers):
     for flag, _, text in _NUMBER_GOALS:
         p.add_argument(flag, type=float, help=text)
     p.add_argument("--flight-frames", type=float, help="flight time in frames at --fps")
+    p.add_argument("--like", metavar="TRACE",
+                   help="take take-off speed, depth, extension and phase durations from a force-plate trace "
+                        "(time [s], vertical force [N]); goals given as well override it")
     p.add_argument("--gravity", default="earth", help="m/s^2 or a preset: earth, moon, mars (default earth)")
     p.add_argument("--hops", type=int, default=1, help="number of hops (default 1)")
     p.add_argument("--fps", default="24", help="frame rate: 24, 23.976 or 24000/1001 (default 24)")
@@ -63,6 +66,9 @@ def goals_from_args(args, fps):
         if not math.isfinite(args.flight_frames) or args.flight_frames <= 0:
             raise InvalidGoalError(f"--flight-frames must be a positive number, got {args.flight_frames:g}")
         values["flight_time"] = args.flight_frames / fps
+    if getattr(args, "like", None) is not None:
+        from cli.force_trace import goals_like, merged_with
+        values = merged_with(goals_like(args.like), values)
     return JumpGoals(gravity=gravity_from(args.gravity), hops=args.hops, **values)
 
 

@@ -9,10 +9,10 @@ The swing plane is the character's sagittal plane found from the rest pose, in
 armature space: the character's left is the line from the right shoulder to the left
 one (the heads of the two upper-arm bones, or of the bones the bone tree maps to the
 shoulders), up is the armature's Z made square to it (Blender's armature convention,
-as :mod:`core.rig_landmarks` reads rigs), and forward is left x up. So a rig turned in
+as :mod:`core.rig.landmarks` reads rigs), and forward is left x up. So a rig turned in
 the world, or built facing another way, swings towards its own front. With a forearm
 both pieces are laid in that plane and the elbow bends on the swing's timing
-(:mod:`core.elbow_bend`), the shoulder-to-hand line keeping the planned elevation.
+(:mod:`core.arms.elbow`), the shoulder-to-hand line keeping the planned elevation.
 """
 
 from dataclasses import dataclass
@@ -72,7 +72,7 @@ def suggested_arms(rig):
     """``{'left': (upper arm, forearm), 'right': (...)}`` from the bone tree (names never read).
 
     No armature axis is taken as the character's side: the side-to-side line is the
-    normal of the rest pose's mirror plane (:func:`core.rig_facing.faced_rig`), made exact by the
+    normal of the rest pose's mirror plane (:func:`core.rig.facing.faced_rig`), made exact by the
     rest shoulders the bone tree then gives, and which end is left comes from the
     feet, which point forward (left = up x forward, right-handed).
 
@@ -157,7 +157,7 @@ def rest_facing(rig, arms):
 
 
 def amplitudes_from(settings):
-    """:class:`core.arm_swing.SwingAmplitudes` from the panel (radians -> degrees)."""
+    """:class:`core.arms.swing.SwingAmplitudes` from the panel (radians -> degrees)."""
     try:
         return SwingAmplitudes(backswing_deg=round(math.degrees(settings.backswing), 4),
                                upswing_deg=round(math.degrees(settings.upswing), 4),
@@ -218,7 +218,7 @@ def _bend_times(bend):
 
 
 def _forearm_curves(rig, arm, planes, bent, timeline):
-    """The forearm laid in the swing plane, bent on the swing's timing (:mod:`core.elbow_bend`)."""
+    """The forearm laid in the swing plane, bent on the swing's timing (:mod:`core.arms.elbow`)."""
     mode, path = _rotation_channel(rig, arm.forearm)
     rest = np.array(rig.data.bones[arm.forearm].matrix_local.to_3x3())
 
@@ -238,7 +238,7 @@ def _elbow(rig, arm):
 
 
 def _bent_swing(rig, arm, placed, amplitude_deg):
-    """:class:`core.elbow_bend.BentArmSwing` of an arm with a forearm (straight for 0 deg)."""
+    """:class:`core.arms.elbow.BentArmSwing` of an arm with a forearm (straight for 0 deg)."""
     elbow = _elbow(rig, arm)
     return BentArmSwing(placed, elbow_bend_keys(placed, amplitude_deg), float(np.linalg.norm(elbow - arm.shoulder)),
                         float(np.linalg.norm(arm.hand - elbow)))
@@ -249,8 +249,8 @@ class PlacedWork:
     """Everything the place operator writes, computed before anything changes.
 
     specs : list of CurveSpec  rotation curves of every chosen bone
-    placed : core.arm_swing.PlacedSwing  the elevation curve (plan time [s])
-    planes : dict side -> core.swing_plane.SwingPlane  of the upper arm (shoulder to elbow, or to hand)
+    placed : core.arms.swing.PlacedSwing  the elevation curve (plan time [s])
+    planes : dict side -> core.arms.plane.SwingPlane  of the upper arm (shoulder to elbow, or to hand)
     forward, up : (3,) armature-space facing
     timeline : blocking_pass.Timeline
     """

@@ -12,7 +12,7 @@ from ..blender import scene_units
 from ..blender import ownership
 from ..plan import link as plan_link
 from ..rig import space as rig_space
-from . import keys as swing_keys, retime as swing_retime
+from . import keys as arm_keys, retime
 from ..core.base.errors import LeapwrightError
 from ..core.arms.timing import plan_swing_report
 
@@ -86,8 +86,8 @@ class LEAPWRIGHT_OT_find_arm_bones(_ArmOperator, bpy.types.Operator):
     def execute(self, context):
         rig = rig_space.chosen_rig(context)
         try:
-            found = swing_keys.suggested_arms(rig)
-        except swing_keys.SwingError as exc:
+            found = arm_keys.suggested_arms(rig)
+        except arm_keys.SwingError as exc:
             return self._refuse(str(exc))
         s = context.scene.leapwright_arms
         for side, (upper, fore) in found.items():
@@ -109,9 +109,9 @@ class LEAPWRIGHT_OT_place_arm_swing(_KeyWritingOperator, bpy.types.Operator):
             return self._refuse(f"no plan to time the swing to: {readout['error']}")
         fps = scene_units.scene_fps(scene)
         try:
-            work = swing_keys.place(rig, s, plan, scene.leapwright_plan.start_frame, fps)
-            lines = plan_swing_report(plan, swing_keys.amplitudes_from(s), fps)
-        except (swing_keys.SwingError, LeapwrightError) as exc:
+            work = arm_keys.place(rig, s, plan, scene.leapwright_plan.start_frame, fps)
+            lines = plan_swing_report(plan, arm_keys.amplitudes_from(s), fps)
+        except (arm_keys.SwingError, LeapwrightError) as exc:
             return self._refuse(str(exc))
         clashes = ownership.conflicts(rig, work.specs)
         if clashes and s.on_conflict == "ASK":
@@ -120,8 +120,8 @@ class LEAPWRIGHT_OT_place_arm_swing(_KeyWritingOperator, bpy.types.Operator):
                                      "Choose 'Replace my keys' under Arm Swing, or Re-time Arm Swing to keep them")
             return {"CANCELLED"}
         # Nothing above wrote anything; from here on the run changes the file.
-        ownership.clear(rig, swing_keys.CAPABILITY)
-        ownership.write_into_action(rig, swing_keys.CAPABILITY, work.specs, replace=bool(clashes))
+        ownership.clear(rig, arm_keys.CAPABILITY)
+        ownership.write_into_action(rig, arm_keys.CAPABILITY, work.specs, replace=bool(clashes))
         frame = work.timeline.frames
         up, off = work.placed.upswing_starts_s[0], work.placed.takeoffs_s[0]
         push = next(p.start_s for p in plan.phases if p.name == "propulsion")
@@ -131,7 +131,7 @@ class LEAPWRIGHT_OT_place_arm_swing(_KeyWritingOperator, bpy.types.Operator):
                            (where, "INFO")] + [(x, "ERROR" if i > 1 else "INFO") for i, x in enumerate(lines) if i])
         n_keys = sum(len(x.frames) for x in work.specs)
         how = " over your keys" if clashes else ""
-        self.report({"INFO"}, f"wrote {n_keys} arm keys in '{ownership.group_name(swing_keys.CAPABILITY)}'{how}; "
+        self.report({"INFO"}, f"wrote {n_keys} arm keys in '{ownership.group_name(arm_keys.CAPABILITY)}'{how}; "
                               f"elevation peaks at take-off, frame {frame(off):.1f}")
         for line in lines[1:]:
             self.report({"INFO"}, line)
@@ -148,8 +148,8 @@ class LEAPWRIGHT_OT_check_arm_swing(_ArmOperator, bpy.types.Operator):
     def execute(self, context):
         rig = rig_space.chosen_rig(context)
         try:
-            reading = swing_retime.read_swing(context.scene, rig, context.scene.leapwright_arms)
-        except swing_keys.SwingError as exc:
+            reading = retime.read_swing(context.scene, rig, context.scene.leapwright_arms)
+        except arm_keys.SwingError as exc:
             return self._refuse(str(exc))
         LAST[rig.name] = reading_lines(reading)
         for w in reading.warnings:
@@ -167,8 +167,8 @@ class LEAPWRIGHT_OT_retime_arm_swing(_KeyWritingOperator, bpy.types.Operator):
 
     def run(self, scene, rig, s):
         try:
-            work = swing_retime.prepare_retime(scene, rig, s)
-        except swing_keys.SwingError as exc:
+            work = retime.prepare_retime(scene, rig, s)
+        except arm_keys.SwingError as exc:
             return self._refuse(str(exc))
         rep = work.report
         if max(abs(rep.peak_shift_frames), abs(rep.start_shift_frames)) < ON_TIME_FRAMES:
@@ -176,13 +176,13 @@ class LEAPWRIGHT_OT_retime_arm_swing(_KeyWritingOperator, bpy.types.Operator):
             self.report({"INFO"}, f"the swing on '{rig.name}' is already on time; no key moved")
             return {"FINISHED"}
         # Nothing above wrote anything; from here on the run changes the file.
-        backup = swing_retime.write(work)
+        backup = retime.write(work)
         moved = (f"moved {rep.keys_moved} keys on {len(work.curves)} curves by up to {rep.max_frames_moved:.1f} "
                  f"frames (peak {rep.peak_shift_frames:+.1f}, upswing start {rep.start_shift_frames:+.1f}); "
                  f"your keys before are kept in the action '{backup}'")
         try:
-            after = reading_lines(swing_retime.read_swing(scene, rig, s))
-        except swing_keys.SwingError as exc:
+            after = reading_lines(retime.read_swing(scene, rig, s))
+        except arm_keys.SwingError as exc:
             after = [(f"could not read the swing again: {exc}", "ERROR")]
         LAST[rig.name] = [(moved, "INFO")] + after
         self.report({"INFO"}, moved)
@@ -203,7 +203,7 @@ class LEAPWRIGHT_OT_remove_arm_swing(_ArmOperator, bpy.types.Operator):
 
     def execute(self, context):
         rig = rig_space.chosen_rig(context)
-        mine = [c for c in (swing_keys.CAPABILITY, swing_retime.CAPABILITY)
+        mine = [c for c in (arm_keys.CAPABILITY, retime.CAPABILITY)
                 if c in ownership.capabilities_written(rig)]
         if not mine:
             self.report({"INFO"}, f"no arm swing from leapwright on '{rig.name}'")

@@ -4,7 +4,7 @@ import bpy
 
 from ..blender import ownership
 from ..rig import space as rig_space
-from . import keys as swing_keys, operators as swing_operators, retime as swing_retime
+from . import keys as arm_keys, operators, retime as arm_retime
 from ..blender.panel_parts import SubPanel, wrap_text
 
 
@@ -63,11 +63,11 @@ class LEAPWRIGHT_PT_arms(SubPanel, bpy.types.Panel):
         if rig is None:
             return
         written = ownership.capabilities_written(rig)
-        if swing_retime.CAPABILITY in written:
+        if arm_retime.CAPABILITY in written:
             layout.label(text="Your arm keys are re-timed; a copy of the original is kept", icon="FILE_BACKUP")
-        if swing_keys.CAPABILITY in written:
-            layout.label(text=f"Placed swing in '{ownership.group_name(swing_keys.CAPABILITY)}'", icon="ACTION")
-        lines = swing_operators.LAST.get(rig.name, [])
+        if arm_keys.CAPABILITY in written:
+            layout.label(text=f"Placed swing in '{ownership.group_name(arm_keys.CAPABILITY)}'", icon="ACTION")
+        lines = operators.LAST.get(rig.name, [])
         if lines:
             box = layout.box()
             box.label(text="Last run", icon="INFO")

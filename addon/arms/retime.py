@@ -4,9 +4,9 @@ Flow: sample the chosen arms' world matrices once per frame in scene time
 (:mod:`rig_sampling`), measure the elevation of each shoulder-to-hand line in the
 torso's sagittal frame (the rest facing of :func:`swing_keys.rest_facing` carried by
 the upper arm's parent bone), find the contact window (the ``lw:`` markers, the body
-bone's free fall or the foot heights), let :mod:`core.swing_timing` detect the swing
+bone's free fall or the foot heights), let :mod:`core.arms.timing` detect the swing
 and warp every key time of the arm bones' own curves, wherever they play: the active
-action, or an NLA strip whose offset, scale and repeat :mod:`swing_strip_time` maps
+action, or an NLA strip whose offset, scale and repeat :mod:`strip_time` maps
 back to the action's frames. Values stay as they were; only times and handle times
 move. Nothing here writes: :func:`write` does, after :mod:`action_backup` has kept
 the original action.
@@ -21,7 +21,7 @@ from ..blender.curves import Timeline
 from ..blender import action_backup
 from ..plan import blocking_pass as bp, link as plan_link
 from ..rig import sampling as rig_sampling
-from . import strip_time as swing_strip_time
+from . import strip_time
 from ..core.arms.swing import arm_com_distance
 from ..core.base.errors import LeapwrightError
 from ..core.base.keys import BezierKeys
@@ -135,8 +135,8 @@ def contact_window(scene, rig, contact_from, hop, frames, fps):
     raise SwingError("no contact window found: " + "; ".join(reasons))
 
 
-def bezier_of(fc, fps, timing=swing_strip_time.SCENE_TIME):
-    """An F-curve's keys as :class:`core.keys.BezierKeys` in scene seconds (scene frame / fps).
+def bezier_of(fc, fps, timing=strip_time.SCENE_TIME):
+    """An F-curve's keys as :class:`core.base.keys.BezierKeys` in scene seconds (scene frame / fps).
 
     ``timing`` maps the curve's action frames to scene frames (an NLA strip's offset and scale).
     """
@@ -152,8 +152,8 @@ def bezier_of(fc, fps, timing=swing_strip_time.SCENE_TIME):
 class SwingReading:
     """An arm swing read from the evaluated rig against its contact window.
 
-    swing : core.swing_timing.DetectedSwing  (times [s] = scene frame / fps)
-    window : core.swing_timing.ContactWindow
+    swing : core.arms.timing.DetectedSwing  (times [s] = scene frame / fps)
+    window : core.arms.timing.ContactWindow
     warnings : tuple of str
     """
 
@@ -202,7 +202,7 @@ class RetimeWork:
     curves: list
     new_keys: tuple
     report: object
-    timing: object = swing_strip_time.SCENE_TIME
+    timing: object = strip_time.SCENE_TIME
 
 
 def prepare_retime(scene, rig, settings):
@@ -210,7 +210,7 @@ def prepare_retime(scene, rig, settings):
     arms = chosen_arms(rig, settings)
     if rig.animation_data is not None and rig.animation_data.use_tweak_mode:
         raise SwingError(f"'{rig.name}' is in NLA tweak mode; leave it (Tab in the NLA editor) and run again")
-    sources = swing_strip_time.key_sources(rig, arms)
+    sources = strip_time.key_sources(rig, arms)
     if not sources:
         names = ", ".join(b for a in arms for b in a.bones)
         raise SwingError(f"no keys of yours on {names} in '{rig.name}''s action or NLA strips: key the arm swing "
@@ -220,14 +220,14 @@ def prepare_retime(scene, rig, settings):
                          + "; ".join(x.where() for x in sources) + ". Re-timing one would leave the others off "
                          "the swing: mute the ones to leave alone (or move the keys into one action) and run again")
     source = sources[0]
-    swing_strip_time.check_mapping(source)
+    strip_time.check_mapping(source)
     action, curves = source.action, source.curves
     if action.library is not None:
         raise SwingError(f"the action '{action.name}' is linked from '{action.library.filepath}', so re-timed keys "
                          "would be lost on save; make it local (Object > Relations > Make Local) and run again")
     reading = read_swing(scene, rig, settings)
     sw, w = reading.swing, reading.window
-    timing = swing_strip_time.strip_time(source, [reading.frame(x) for x in
+    timing = strip_time.strip_time(source, [reading.frame(x) for x in
                                                   (sw.upswing_start_s, sw.peak_s, w.push_start_s, w.takeoff_s)])
     try:
         new, report = retime_swing([bezier_of(fc, reading.fps, timing) for fc in curves], reading.swing,

@@ -7,7 +7,7 @@ from typing import Any
 
 
 class SubPanel:
-    """Mixin for a sub-panel under the Jump panel in the 3D viewport's Leapwright tab.
+    """Mixin for a sub-panel under the Plan the Jump panel in the 3D viewport's Leapwright tab.
 
     Put it before ``bpy.types.Panel`` in the bases (Blender reads these class attributes).
     """

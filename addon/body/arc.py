@@ -2,7 +2,7 @@
 
 Flow: find the flight stretches (the ``lw:flight`` markers the blocking pass left,
 or the COM's own ballistic stretches, else the torso's), sample the evaluated rig
-over the scene's frame range, let :mod:`core.flight_correction` give the world offset per frame,
+over the scene's frame range, let :mod:`core.body.arc` give the world offset per frame,
 and write it on the carrier's location channels as deltas on the NLA track
 ``lw:body`` (blend COMBINE, :mod:`ownership`). The carrier is a bone every
 mass-bearing bone follows (the top of the tree, so IK foot controllers under it
@@ -48,17 +48,17 @@ class AirWork:
     Attributes
     ----------
     rig : bpy.types.Object
-    model : core.body_mass.MassModel
+    model : core.body.mass.MassModel
     how : str  how the bones were mapped
     frames : ndarray (F,)  scene frames sampled
     stretches : list of (int, int)  scene frames (take-off, last in the air)
     source : str  where the flights were found ("markers", "the body's free fall", ...)
-    fix : core.flight_correction.FlightCorrection
-    departures : list of core.flight_correction.ArcDeparture
+    fix : core.body.arc.FlightCorrection
+    departures : list of core.body.arc.ArcDeparture
     channels : rig_space.Channels  the carrier's location channels
     metres_per_unit : float  [m/BU]
     settle_frames : int
-    takeoff_motion : list of core.flight_correction.TakeoffMotion  flights whose launch speed,
+    takeoff_motion : list of core.body.arc.TakeoffMotion  flights whose launch speed,
         read at the first frame in the air, takes in a limb starting to move
     """
 

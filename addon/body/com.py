@@ -1,6 +1,6 @@
 """The character's body as masses: bones to segments, and its centre of mass (COM) over frames.
 
-A rig's rest layout (armature space) goes to the core as :class:`core.body_mass.RigData`.
+A rig's rest layout (armature space) goes to the core as :class:`core.body.mass.RigData`.
 The segment map is found from the tree (``map_by_topology``: bone names are never read,
 so renamed bones map the same, and the rig's facing comes from its rest pose, so a rig
 built facing +Y or turned inside its armature maps the same) unless the rig carries a map of its own in the custom
@@ -36,10 +36,10 @@ class BodyError(Exception):
 
 
 def rig_data(rig):
-    """:class:`core.body_mass.RigData` of an armature's rest pose [BU, armature space].
+    """:class:`core.body.mass.RigData` of an armature's rest pose [BU, armature space].
 
     Up is the armature's Z (Blender's convention); which way the character faces is
-    read from the rest pose where it matters (:func:`core.rig_facing.faced_rig`).
+    read from the rest pose where it matters (:func:`core.rig.facing.faced_rig`).
     """
     if rig is None or rig.type != "ARMATURE":
         what = "nothing" if rig is None else f"'{rig.name}' (a {rig.type.lower()})"
@@ -73,7 +73,7 @@ def _pairs(text):
 
 
 def map_text(landmarks):
-    """A :class:`core.body_mass.Landmarks` as the editable text of :data:`MAP_PROPERTY`."""
+    """A :class:`core.body.mass.Landmarks` as the editable text of :data:`MAP_PROPERTY`."""
     return "; ".join(f"{k}={v}" for k, v in landmarks.as_text().items())
 
 
@@ -114,12 +114,12 @@ def body_model(rig, table="de_leva_male"):
     Parameters
     ----------
     rig : bpy.types.Object  an armature
-    table : str  segment table key (``core.segment_tables.TABLES``)
+    table : str  segment table key (``core.body.segment_tables.TABLES``)
 
     Returns
     -------
-    model : core.body_mass.MassModel
-    landmarks : core.body_mass.Landmarks or None  (None for per-bone masses)
+    model : core.body.mass.MassModel
+    landmarks : core.body.mass.Landmarks or None  (None for per-bone masses)
     how : str  "found from the bone tree", "set by hand" or "per-bone masses"
 
     Raises

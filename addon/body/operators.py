@@ -12,7 +12,7 @@ from ..rig import space as rig_space
 from . import com as body_com
 
 #: Rig name -> lines of the last check (shown in the panel; not saved in the file).
-LAST_CHECK = {}
+LAST_CHECK: dict = {}
 
 
 def _gravity(scene):
@@ -102,7 +102,7 @@ class LEAPWRIGHT_OT_keep_body_on_arc(bpy.types.Operator):
         return {"FINISHED"}
 
 
-class LEAPWRIGHT_OT_remove_arc_fix(bpy.types.Operator):
+class LEAPWRIGHT_OT_remove_body_arc(bpy.types.Operator):
     """Remove the in-air correction layer, leaving the animation as it was before"""
 
     bl_idname = "leapwright.remove_body_arc"
@@ -152,5 +152,5 @@ class LEAPWRIGHT_OT_edit_body_map(bpy.types.Operator):
         return {"FINISHED"}
 
 
-classes = (LEAPWRIGHT_OT_check_body_arc, LEAPWRIGHT_OT_keep_body_on_arc, LEAPWRIGHT_OT_remove_arc_fix,
+classes = (LEAPWRIGHT_OT_check_body_arc, LEAPWRIGHT_OT_keep_body_on_arc, LEAPWRIGHT_OT_remove_body_arc,
            LEAPWRIGHT_OT_edit_body_map)

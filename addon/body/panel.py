@@ -2,7 +2,7 @@
 
 import bpy
 
-from . import arc as air_correction, operators as air_operators, com as body_com
+from . import arc, operators as body_operators, com as body_com
 from ..blender import ownership
 from ..rig import space as rig_space
 from ..blender.panel_parts import SubPanel, wrap_text
@@ -41,15 +41,15 @@ class LEAPWRIGHT_PT_body(SubPanel, bpy.types.Panel):
         row.operator("leapwright.keep_body_on_arc", icon="FORCE_FORCE")
         col.operator("leapwright.remove_body_arc", icon="TRASH")
         if rig is not None:
-            lines = air_operators.LAST_CHECK.get(rig.name, [])
+            lines = body_operators.LAST_CHECK.get(rig.name, [])
             if lines:
                 box = layout.box()
                 box.label(text="Last check", icon="INFO")
                 for k, text in enumerate(lines):
                     for i, line in enumerate(wrap_text(text)):
                         box.label(text=line, icon=("ERROR" if k else "INFO") if i == 0 else "BLANK1")
-            if air_correction.CAPABILITY in ownership.capabilities_written(rig):
-                layout.label(text=f"Correction layer '{air_correction.TRACK}' is on", icon="NLA")
+            if arc.CAPABILITY in ownership.capabilities_written(rig):
+                layout.label(text=f"Correction layer '{arc.TRACK}' is on", icon="NLA")
 
 
 def _draw_map(box, rig, table):

@@ -127,7 +127,7 @@ def checked_path(scene, rig, bone, follow="AUTO", table="de_leva_male"):
     rig : bpy.types.Object  the character (an armature, or any object)
     bone : str  the body bone ("" for the object); the caller has made sure the rig has it
     follow : str  one of :data:`FOLLOW_KEYS`
-    table : str  segment table for the whole-body COM (``core.segment_tables.TABLES``)
+    table : str  segment table for the whole-body COM (``core.body.segment_tables.TABLES``)
 
     Returns
     -------

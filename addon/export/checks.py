@@ -1,4 +1,4 @@
-"""The rig's numbers for the export rules in ``core.export_checks``, and the snap of written keys.
+"""The rig's numbers for the export rules in ``core.export.game_checks``, and the snap of written keys.
 
 Gathers, without changing anything: the scene's unit scale, the rig's world
 scale, the key times of every F-curve that animates it (its action and any
@@ -36,7 +36,7 @@ def _frames(fc):
 
 
 def gather(scene, rig, root_bone):
-    """The plain numbers :func:`core.export_checks.export_issues` takes, as keyword arguments."""
+    """The plain numbers :func:`core.export.game_checks.export_issues` takes, as keyword arguments."""
     key_frames, scale_keys = {}, {}
     for action, _ours in _actions(rig):
         for fc in compat.fcurves(action, rig):
@@ -60,7 +60,7 @@ def gather(scene, rig, root_bone):
 
 
 def issues(scene, rig, root_bone):
-    """``core.export_checks.export_issues`` for the rig as it is now."""
+    """``core.export.game_checks.export_issues`` for the rig as it is now."""
     return export_issues(**gather(scene, rig, root_bone))
 
 

@@ -5,7 +5,7 @@
 ``<rig>-leap<k>-start`` / ``-air`` / ``-land`` for hop k >= 2 (see :mod:`jump_clips`).
 
 ``leapwright.check_export(snap_keys=False)`` lists what would break the export
-(see ``core.export_checks``) as warnings and in the panel; with ``snap_keys``
+(see ``core.export.game_checks``) as warnings and in the panel; with ``snap_keys``
 it first moves leapwright's own keys between frames onto whole frames (each by
 at most half a frame, so take-off and touchdown stay within half a frame of
 the plan). It never changes the animator's keys. A number the checks refuse
@@ -23,7 +23,7 @@ from ..rig import space as rig_space
 from ..core.base.errors import LeapwrightError
 
 #: Last check per scene pointer: (rig name, tuple of ExportIssue), for the panel.
-LAST_CHECK = {}
+LAST_CHECK: dict = {}
 
 
 class LEAPWRIGHT_OT_check_export(bpy.types.Operator):

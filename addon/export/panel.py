@@ -4,7 +4,7 @@ import bpy
 
 from ..blender.panel_parts import SubPanel, wrap_text
 
-from . import operators as game_operators
+from . import operators
 
 
 class LEAPWRIGHT_PT_export(SubPanel, bpy.types.Panel):
@@ -23,7 +23,7 @@ class LEAPWRIGHT_PT_export(SubPanel, bpy.types.Panel):
         row.operator("leapwright.check_export", icon="CHECKMARK")
         row.operator("leapwright.check_export", text="Snap and Check", icon="SNAP_ON").snap_keys = True
         layout.operator("leapwright.split_clips", icon="NLA")
-        last = game_operators.LAST_CHECK.get(context.scene.as_pointer())
+        last = operators.LAST_CHECK.get(context.scene.as_pointer())
         col = layout.column(align=True)
         if last is None:
             col.label(text="Not checked yet")

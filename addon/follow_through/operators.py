@@ -13,7 +13,7 @@ import json
 import bpy
 from bpy.props import EnumProperty, StringProperty
 
-from . import bake as lag_bake
+from . import bake as follow_bake
 from .bake_job import BakeJob
 from ..core.base.errors import LeapwrightError
 from .settings import PRESET_ITEMS
@@ -41,7 +41,7 @@ def _rig(context):
 
 def _request(context, op, rig):
     named = tuple(n.strip() for n in op.bones.split(",") if n.strip())
-    return lag_bake.request_from_panel(context, rig, named or None, op.preset)
+    return follow_bake.request_from_panel(context, rig, named or None, op.preset)
 
 
 def _can_run(cls, context):
@@ -52,7 +52,7 @@ def _can_run(cls, context):
     return _lag(context) is not None
 
 
-class LEAPWRIGHT_OT_bake_lag(bpy.types.Operator):
+class LEAPWRIGHT_OT_bake_follow_through(bpy.types.Operator):
     """Bake drag and follow-through on the chosen bones, as keys on a layer above yours"""
 
     bl_idname = "leapwright.bake_follow_through"
@@ -71,7 +71,7 @@ class LEAPWRIGHT_OT_bake_lag(bpy.types.Operator):
         try:
             job = BakeJob(context.scene, rig, _request(context, self, rig))
             job.run()
-        except (lag_bake.LagError, LeapwrightError) as exc:
+        except (follow_bake.LagError, LeapwrightError) as exc:
             self.report({"ERROR"}, str(exc))
             return {"CANCELLED"}
         return self._write(context, job)
@@ -83,7 +83,7 @@ class LEAPWRIGHT_OT_bake_lag(bpy.types.Operator):
         try:
             self._job = BakeJob(context.scene, rig, _request(context, self, rig), threaded=True)
             done = self._job.step(FIRST_STEP)
-        except (lag_bake.LagError, LeapwrightError) as exc:
+        except (follow_bake.LagError, LeapwrightError) as exc:
             self.report({"ERROR"}, str(exc))
             return {"CANCELLED"}
         if done:  # a tuning re-bake, or a small one: no bar, nothing to cancel
@@ -104,7 +104,7 @@ class LEAPWRIGHT_OT_bake_lag(bpy.types.Operator):
             return {"RUNNING_MODAL"}  # the scene stays as it is while the bake reads it
         try:
             done = self._job.step(MODAL_STEP)
-        except (lag_bake.LagError, LeapwrightError) as exc:
+        except (follow_bake.LagError, LeapwrightError) as exc:
             self._end_modal(context)
             self.report({"ERROR"}, str(exc))
             return {"CANCELLED"}
@@ -129,20 +129,20 @@ class LEAPWRIGHT_OT_bake_lag(bpy.types.Operator):
     def _write(self, context, job):
         try:
             job.write()
-        except lag_bake.ownership.LayerError as exc:
+        except follow_bake.ownership.LayerError as exc:
             self.report({"ERROR"}, str(exc))
             return {"CANCELLED"}
         work = job.work
-        peaks = lag_bake.degrees(work.peaks)
+        peaks = follow_bake.degrees(work.peaks)
         context.scene.leapwright_follow_through.readout = json.dumps(peaks)
         top = max(peaks, key=peaks.get)
         kept = " (motion kept from the last bake)" if job.reused else ""
-        self.report({"INFO"}, f"Baked {len(peaks)} bones, {work.keys} keys on {lag_bake.TRACK}{kept}; "
+        self.report({"INFO"}, f"Baked {len(peaks)} bones, {work.keys} keys on {follow_bake.TRACK}{kept}; "
                               f"largest swing {peaks[top]:.1f}° ({top})")
         return {"FINISHED"}
 
 
-class LEAPWRIGHT_OT_remove_lag(bpy.types.Operator):
+class LEAPWRIGHT_OT_remove_follow_through(bpy.types.Operator):
     """Remove the baked follow-through and put the bones back as they were"""
 
     bl_idname = "leapwright.remove_follow_through"
@@ -155,7 +155,7 @@ class LEAPWRIGHT_OT_remove_lag(bpy.types.Operator):
 
     def execute(self, context):
         rig = _rig(context)
-        if not lag_bake.remove(rig):
+        if not follow_bake.remove(rig):
             self.report({"WARNING"}, "nothing to remove: this object has no baked follow-through")
             return {"CANCELLED"}
         context.scene.leapwright_follow_through.readout = ""
@@ -163,4 +163,4 @@ class LEAPWRIGHT_OT_remove_lag(bpy.types.Operator):
         return {"FINISHED"}
 
 
-classes = (LEAPWRIGHT_OT_bake_lag, LEAPWRIGHT_OT_remove_lag)
+classes = (LEAPWRIGHT_OT_bake_follow_through, LEAPWRIGHT_OT_remove_follow_through)

@@ -10,7 +10,7 @@ import numpy as np
 
 from ..core.plan.feet import foot_ball_path
 from ..blender.curves import MARKER_PREFIX, WEIGHT_PROPERTY, CurveSpec  # noqa: F401  (re-exported as bp.*)
-from ..core.base.keys import frame_keys, held_pose_keys, hermite_keys, phase_pose_keys
+from ..core.base.keys import evaluate_hermite, frame_keys, held_pose_keys, hermite_keys, phase_pose_keys
 
 _UP = np.array([0.0, 0.0, 1.0])
 _NEGLIGIBLE = 1e-12  # channel change per metre below which a channel is left alone
@@ -90,12 +90,7 @@ def keyed_path(plan, part, style, fps, t):
         return k.values[i]
     if interp == "LINEAR":
         return np.interp(t, k.times, k.values)
-    tc = np.clip(t, k.times[0], k.times[-1])
-    i = np.clip(np.searchsorted(k.times, tc, side="right") - 1, 0, len(k.times) - 2)
-    h = k.times[i + 1] - k.times[i]
-    u = (tc - k.times[i]) / h
-    h00, h10, h01, h11 = 2 * u**3 - 3 * u**2 + 1, u**3 - 2 * u**2 + u, -2 * u**3 + 3 * u**2, u**3 - u**2
-    return (h00 * k.values[i] + h10 * h * k.slopes[i] + h01 * k.values[i + 1] + h11 * h * k.slopes[i + 1])
+    return evaluate_hermite(k, t)
 
 
 def body_curves(plan, channels, forward, metres_per_unit, timeline, style, as_delta, parts=BOTH):
@@ -103,7 +98,7 @@ def body_curves(plan, channels, forward, metres_per_unit, timeline, style, as_de
 
     Parameters
     ----------
-    plan : core.planner.JumpPlan
+    plan : core.plan.planner.JumpPlan
     channels : rig_space.Channels
     forward : array (3,)
         Unit world direction of forward travel.

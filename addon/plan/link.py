@@ -23,11 +23,11 @@ _CACHE: dict = {}  # (scene pointer, key) -> (plan or None, readout dict), oldes
 
 
 def goals_from(settings, scene):
-    """:class:`core.goals.JumpGoals` from ``scene.leapwright_plan`` (lengths in metres).
+    """:class:`core.plan.goals.JumpGoals` from ``scene.leapwright_plan`` (lengths in metres).
 
     Raises
     ------
-    core.errors.InvalidGoalError
+    core.base.errors.InvalidGoalError
         For values the core refuses, with the values in the message.
     """
     m = metres_per_unit(scene)

@@ -61,7 +61,7 @@ def _channel_label(path, index):
     return f"{path}[{index}]"
 
 
-class LEAPWRIGHT_OT_write_blocking(bpy.types.Operator):
+class LEAPWRIGHT_OT_write_plan(bpy.types.Operator):
     """Write the planned jump as keys on the character: body, feet, phase markers and weight"""
 
     bl_idname = "leapwright.write_plan"
@@ -171,7 +171,7 @@ class LEAPWRIGHT_OT_write_blocking(bpy.types.Operator):
         return {"FINISHED"}
 
 
-class LEAPWRIGHT_OT_remove_written(bpy.types.Operator):
+class LEAPWRIGHT_OT_remove_plan(bpy.types.Operator):
     """Remove every key, layer, marker and property leapwright wrote on the rig, restoring your keys"""
 
     bl_idname = "leapwright.remove_plan"
@@ -217,4 +217,4 @@ class LEAPWRIGHT_OT_use_active_bone(bpy.types.Operator):
         return {"FINISHED"}
 
 
-classes = (LEAPWRIGHT_OT_write_blocking, LEAPWRIGHT_OT_remove_written, LEAPWRIGHT_OT_use_active_bone)
+classes = (LEAPWRIGHT_OT_write_plan, LEAPWRIGHT_OT_remove_plan, LEAPWRIGHT_OT_use_active_bone)

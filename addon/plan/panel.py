@@ -12,7 +12,7 @@ from . import link as plan_link
 class LEAPWRIGHT_PT_plan(bpy.types.Panel):
     """Plan a jump and write it on the character"""
 
-    bl_label = "Jump"
+    bl_label = "Plan the Jump"
     bl_idname = "LEAPWRIGHT_PT_plan"
     bl_space_type = "VIEW_3D"
     bl_region_type = "UI"

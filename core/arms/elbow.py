@@ -34,7 +34,7 @@ MAX_BEND_DEG = 90.0
 
 
 def elbow_bend_keys(placed, amplitude_deg):
-    """Bend keys [rad] on the times of ``placed`` (a :class:`core.arm_swing.PlacedSwing`).
+    """Bend keys [rad] on the times of ``placed`` (a :class:`core.arms.swing.PlacedSwing`).
 
     ``amplitude_deg`` at each upswing start, 0 on every other key; slopes 0.
     """
@@ -65,7 +65,7 @@ def hand_line_lift_per_bend(bend, upper_length, forearm_length):
 class BentArmSwing:
     """The upper arm's elevation when the elbow bends, so the hand line keeps the planned one.
 
-    placed : core.arm_swing.PlacedSwing  the hand line's elevation
+    placed : core.arms.swing.PlacedSwing  the hand line's elevation
     bend : HermiteKeys  elbow bend [rad]
     upper_length, forearm_length : float  [any one unit]
     """
@@ -97,11 +97,11 @@ class BentArmSwing:
 def elbow_rotations(upper_plane, forearm_plane, bend):
     """Rig-space rotations (n, 4) (w, x, y, z) of the forearm relative to the upper arm's turn.
 
-    ``upper_plane`` and ``forearm_plane`` (:func:`core.swing_plane.swing_plane` of the
+    ``upper_plane`` and ``forearm_plane`` (:func:`core.arms.plane.swing_plane` of the
     shoulder-to-elbow and elbow-to-hand rest lines) share the swing axis. The upper
     arm turns by ``turn(axis, e) drop_u`` and the forearm should by ``turn(axis, e +
     bend) drop_f`` (``drop`` the rest-to-hanging turn of
-    :func:`core.swing_plane.swing_rotations`); turns about one axis commute, so the
+    :func:`core.arms.plane.swing_rotations`); turns about one axis commute, so the
     forearm's part is ``drop_u* turn(axis, bend) drop_f`` whatever the elevation ``e``.
     """
     if np.linalg.norm(upper_plane.axis - forearm_plane.axis) > 1e-9:

@@ -105,6 +105,8 @@ def _de_leva(sex, head, trunk, upper_arm, forearm, hand, thigh, shank, foot):
             # The published head runs vertex -> gonion midpoint; the top of the neck
             # stands in for the gonion midpoint (rigs have no jaw-angle landmark).
             SegmentEntry("head", *head, "vertex", "skull_base", "VERT -> MIDG (gonion midpoint ~ top of neck)"),
+            # The rig's neck base is where the neck leaves the spine, the cervicale's level, so the
+            # trunk is de Leva's CERV -> MIDH row (not the SUPR -> MIDH one, which starts at the sternum).
             SegmentEntry("trunk", *trunk, "neck_base", "hip_mid", "CERV (C7) -> MIDH (mid hip joints)"),
             SegmentEntry("upper_arm", *upper_arm, "shoulder", "elbow", "SJC -> EJC", True),
             SegmentEntry("forearm", *forearm, "elbow", "wrist", "EJC -> WJC", True),
@@ -130,14 +132,14 @@ DE_LEVA_SHANK_DEFINITIONS = {
     "SPHY": ((427.7, 0.4524), (426.0, 0.4481)),
 }
 
-#: de Leva 1996, male: values as in shared/reference-values.md (shank: the KJC -> AJC row).
+#: de Leva 1996, male: values as in shared/reference-values.md (shank: the KJC -> AJC row; trunk: CERV -> MIDH).
 DE_LEVA_MALE = _de_leva(
-    "male", head=(0.0694, 0.5976), trunk=(0.4346, 0.4486), upper_arm=(0.0271, 0.5772),
+    "male", head=(0.0694, 0.5976), trunk=(0.4346, 0.5138), upper_arm=(0.0271, 0.5772),
     forearm=(0.0162, 0.4574), hand=(0.0061, 0.7900), thigh=(0.1416, 0.4095),
     shank=(0.0433, 0.4395), foot=(0.0137, 0.4415))
-#: de Leva 1996, female: values as in shared/reference-values.md (shank: the KJC -> AJC row).
+#: de Leva 1996, female: values as in shared/reference-values.md (shank: the KJC -> AJC row; trunk: CERV -> MIDH).
 DE_LEVA_FEMALE = _de_leva(
-    "female", head=(0.0668, 0.5894), trunk=(0.4257, 0.4151), upper_arm=(0.0255, 0.5754),
+    "female", head=(0.0668, 0.5894), trunk=(0.4257, 0.4964), upper_arm=(0.0255, 0.5754),
     forearm=(0.0138, 0.4559), hand=(0.0056, 0.7474), thigh=(0.1478, 0.3612),
     shank=(0.0481, 0.4352), foot=(0.0129, 0.4014))
 

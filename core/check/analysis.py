@@ -15,7 +15,7 @@ size, when its flight is retimed by ``sqrt(g_implied / g_true)`` (half as long).
 
 Findings
 --------
-Each finding's ``kind`` is one of :data:`core.findings.FINDING_KINDS` (not_ballistic,
+Each finding's ``kind`` is one of :data:`core.check.findings.FINDING_KINDS` (not_ballistic,
 floaty_gravity, heavy_gravity, stylised_fall_gravity, apex_hang,
 dip_faster_than_free_fall, forward_speed_changes_in_flight, foot_slides_in_contact,
 leg_overstretched, push_beyond_human, landing_too_hard, landing_too_soft); the two

@@ -78,7 +78,7 @@ def grade(value, bounds, *, lower_is_harder=False):
     Parameters
     ----------
     value : float
-    bounds : (float, float)  (everyday up to, athletic up to), as in core.constants
+    bounds : (float, float)  (everyday up to, athletic up to), as in core.base.constants
     lower_is_harder : bool  for floors such as the unweighting force minimum
     """
     everyday, athletic = bounds

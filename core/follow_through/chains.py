@@ -66,6 +66,7 @@ from .samples import check_drive, check_samples, frame_accelerations, midpoint_v
 from ..base.errors import InvalidGoalError
 from ..base.rotation_vectors import (quaternion_conjugate, quaternion_multiply, quaternion_to_rotvec,
     rotvec_to_quaternion)
+from .apparent_weight import apparent_gravity
 from .integrator import ChainSlots, integrate
 
 __all__ = ["BakeOptions", "ChainBake", "ChainParameters", "LinkCoefficients", "bake_chains"]
@@ -139,6 +140,21 @@ class ChainBake:
     passes: int
 
 
+def _drive(slots, times, directions, accel, alpha, g_ref, cyclic, padding):
+    """The integrator's drive on the slots, at the samples and halfway between (``_mid``):
+    animated bone directions, apparent gravity at the heads [m/s^2] and angular
+    accelerations [rad/s^2]."""
+    drive = {}
+    for name, value in (("directions", directions), ("head_acceleration", accel), ("alpha", alpha)):
+        drive[name] = slots.to_slots(value)
+        drive[name + "_mid"] = slots.to_slots(midpoint_values(times, value, cyclic))
+    for suffix in ("", "_mid"):
+        # from the accelerations, so a still rig feels g_ref exactly (zero offset)
+        drive["g_eff" + suffix] = apparent_gravity(g_ref, drive.pop("head_acceleration" + suffix))
+        drive["directions" + suffix][:, padding, 1] = 1.0  # unused slots get any unit direction
+    return drive
+
+
 def bake_chains(times, heads, rotations, parents, parameters, gravity=(0.0, 0.0, -STANDARD_GRAVITY), options=BakeOptions()):
     """Simulate drag and follow-through for the chosen bones.
 
@@ -190,16 +206,7 @@ def bake_chains(times, heads, rotations, parents, parameters, gravity=(0.0, 0.0,
         seg_times = times[lo:hi]
         accel, alpha = frame_accelerations(seg_times, heads[lo:hi], rots[lo:hi], options.cyclic)
         check_drive(accel, alpha, seg_times, lo)
-        per_frame = {"directions": rots[lo:hi, :, :, 1], "g_eff": accel, "alpha": alpha}
-        drive = {}
-        for name, value in per_frame.items():
-            drive[name] = slots.to_slots(value)
-            drive[name + "_mid"] = slots.to_slots(midpoint_values(seg_times, value, options.cyclic))
-        for name in ("g_eff", "g_eff_mid"):
-            # from the accelerations, so a still rig feels g_ref exactly (zero offset)
-            drive[name] = g_ref - drive[name]
-        for name in ("directions", "directions_mid"):
-            drive[name][:, padding, 1] = 1.0  # unused slots get any unit direction
+        drive = _drive(slots, seg_times, rots[lo:hi, :, :, 1], accel, alpha, g_ref, options.cyclic, padding)
         offsets, sweeps, _ = integrate(slots, slot_coeffs, seg_times, drive, g_ref, options.cyclic, substeps)
         passes = max(passes, sweeps)
         world[lo:hi] = offsets[:, slots.slot]

@@ -33,6 +33,7 @@ from .flight_path import flight_for_speed, flight_for_time
 from .goals import resolved, similarity
 from ..base.piecewise import PiecewisePolynomial, smoothstep
 from .plausibility import plausibility_report
+from .refusals import landing_refusal, start_refusal
 
 PHASE_NAMES = ("weighing", "unweighting", "braking", "propulsion", "flight", "landing")
 _FREE_DURATION_RANGE = (0.04, 3.0)  # s at human scale, bounds for a chosen duration
@@ -157,35 +158,21 @@ def _const(value):
 def _forward_unit_paths(z_piece, duration, gravity, absorbing):
     """Forward position polynomials for a unit change of forward speed.
 
-    The horizontal acceleration is ``k w(s) (g + z'')`` (push) or
-    ``-k (1 - w(s)) (g + z'')`` (absorption), with k making the speed change 1 m/s.
-    Returns ``(x_unit, k)``: position for 1 m/s [m per m/s], and k, the largest
-    Fx/Fz ratio per m/s.
+    The horizontal acceleration is ``k w(s) (g + z'')`` (push) or ``-k (1 - w(s)) (g + z'')``
+    (absorption), with k making the speed change 1 m/s. Returns ``(x_unit, k)``: position for
+    1 m/s [m per m/s], and k, the largest Fx/Fz ratio per m/s. Plain coefficient arrays
+    (ascending powers) keep it quick: the panel re-plans while a value is dragged.
     """
-    w = smoothstep(duration)
-    support = (g_plus := z_piece.deriv(2) + gravity) * (Polynomial([1.0]) - w if absorbing else w)
-    impulse = support.integ()(duration)
-    k = 1.0 / impulse
-    speed = (Polynomial([1.0]) - k * support.integ()) if absorbing else k * support.integ()
-    del g_plus
-    return speed.integ(), k
-
-
-def _infeasible_stretch_message(goals, kind, stretch_spec):
-    g = goals.gravity
-    if kind == "start":
-        # A rest-to-rest quintic's peak acceleration is 5.77 d / T^2 (10 sqrt(3)/3).
-        t_min = math.sqrt(5.7735 * goals.depth / g)
-        return (f"no dip and push meet these goals: a {goals.dip_duration:.3g} s dip to "
-                f"{goals.depth:.3g} m with a take-off at {stretch_spec.end.speed:.3g} m/s"
-                + (f" after a {goals.push_duration:.3g} s push" if goals.push_duration else "")
-                + f" needs the ground to pull or the body to fall faster than g = {g:.4g} m/s^2; "
-                f"lengthen the dip (at least {1.3 * t_min:.2f} s), reduce the depth, or leave the push "
-                "duration to be chosen")
-    return (f"no landing meets these goals: touchdown at {-stretch_spec.start.speed:.3g} m/s stopped "
-            f"within {goals.landing_depth:.3g} m"
-            + (f" in {goals.landing_duration:.3g} s" if goals.landing_duration else "")
-            + "; increase the landing depth or leave the landing duration to be chosen")
+    T, c = float(duration), z_piece.coef
+    support = c[2:] * np.arange(2, c.size) * np.arange(1, c.size - 1)  # z'' + g
+    support[0] += gravity
+    w = smoothstep(T).coef
+    support = np.convolve(support, np.array([1.0, 0.0, 0.0, 0.0]) - w if absorbing else w)
+    pushed = np.concatenate([[0.0], support / np.arange(1, support.size + 1)])  # its integral from 0
+    k = 1.0 / float(np.polynomial.polynomial.polyval(T, pushed))
+    speed = -k * pushed if absorbing else k * pushed
+    speed[0] += 1.0 if absorbing else 0.0
+    return Polynomial(np.concatenate([[0.0], speed / np.arange(1, speed.size + 1)])), k
 
 
 def plan_jump(goals):
@@ -293,13 +280,13 @@ def _push_stretch(G, hop, flight, choose):
         spec = StretchSpec(EndState(0.0, 0.0, 0.0), -G.depth, takeoff_state, DIP, PROPULSION, g)
         shape = choose(spec, G.dip_duration, G.push_duration)
         if shape is None:
-            raise InfeasibleJumpError(_infeasible_stretch_message(G, "start", spec))
+            raise InfeasibleJumpError(start_refusal(G, spec, choose))
         return spec, shape
     spec = StretchSpec(EndState(ground + e, flight.touchdown_speed, -g), ground + e - G.landing_depth,
                        takeoff_state, ABSORPTION, PROPULSION, g)
     shape = choose(spec, G.landing_duration, G.push_duration)
     if shape is None:
-        raise InfeasibleJumpError(_infeasible_stretch_message(G, "landing", spec))
+        raise InfeasibleJumpError(landing_refusal(G, spec, choose))
     return spec, shape
 
 
@@ -312,7 +299,7 @@ def _landing_after(G, hop, flight, choose):
     shape = choose(spec, G.landing_duration,
                    G.push_duration if spec.second_kind == PROPULSION else G.recovery_duration)
     if shape is None:
-        raise InfeasibleJumpError(_infeasible_stretch_message(G, "landing", spec))
+        raise InfeasibleJumpError(landing_refusal(G, spec, choose))
     absorption, _ = build_pieces(spec, shape.bottom_acceleration, shape.first_duration, shape.second_duration)
     x_unit, k = _forward_unit_paths(absorption, shape.first_duration, G.gravity, absorbing=True)
     return spec, shape, absorption, x_unit, k

@@ -36,7 +36,7 @@ def mirror_normal(rest):
 
     Score: the mean distance from each mirrored probe end (:data:`MIRROR_PROBES`) to the
     nearest bone end [rest units], mirrored about a plane through the rig's middle.
-    ``rest`` is a :class:`core.rig_landmarks.RigData`; its ``up`` is used.
+    ``rest`` is a :class:`core.rig.landmarks.RigData`; its ``up`` is used.
     """
     up = np.asarray(rest.up, dtype=float)
     pts = np.unique(np.vstack([rest.heads, rest.tails]), axis=0)  # a child's head is its parent's tail
@@ -81,7 +81,7 @@ def faced_rig(rest):
 
     Parameters
     ----------
-    rest : core.rig_landmarks.RigData
+    rest : core.rig.landmarks.RigData
         Its ``up`` is trusted; its ``left`` is ignored.
 
     Returns
@@ -89,7 +89,7 @@ def faced_rig(rest):
     rest : RigData
         The same rig with ``left`` along its rest shoulders, pointing to the character's left.
     marks : Landmarks
-        :func:`core.rig_landmarks.map_by_topology` of it.
+        :func:`core.rig.landmarks.map_by_topology` of it.
 
     Raises
     ------

@@ -72,7 +72,7 @@ def test_late_swing_is_retimed_to_peak_at_takeoff_keeping_its_values_and_removal
     rerun_changes_nothing_and_removal_restores(scene, before)
 
 
-def test_remove_written_restores_retimed_keys_byte_for_byte():
+def test_remove_plan_restores_retimed_keys_byte_for_byte():
     rig, scene = _jump()
     _late_swing(rig, scene)
     keys_before = _arm_curves(rig)

@@ -16,7 +16,7 @@ from scene_probe import file_state, first_difference, refused, reports
 
 
 def _lag_rig(**lag):
-    from test_lag_bake import _ponytail_rig  # the lag tests' own chain rig, not rebuilt here
+    from test_follow_through import _ponytail_rig  # the lag tests' own chain rig, not rebuilt here
     rig = _ponytail_rig()
     configure(rig, height=0.4)
     s = bpy.context.scene.leapwright_follow_through
@@ -26,7 +26,7 @@ def _lag_rig(**lag):
     return rig
 
 
-def test_bake_lag_on_a_mesh():
+def test_bake_follow_through_on_a_mesh():
     _lag_rig()
     mesh = bpy.data.objects.new("Box", bpy.data.meshes.new("Box"))
     bpy.context.scene.collection.objects.link(mesh)
@@ -34,35 +34,35 @@ def test_bake_lag_on_a_mesh():
     refused("'Box' is a mesh, not an armature", lambda: bpy.ops.leapwright.bake_follow_through(bones="pony.1"))
 
 
-def test_bake_lag_missing_bone():
+def test_bake_follow_through_missing_bone():
     _lag_rig()
     refused("has no bone 'braid.1'", lambda: bpy.ops.leapwright.bake_follow_through(bones="pony.1, braid.1"))
 
 
-def test_bake_lag_refuses_axis_angle_bones():
+def test_bake_follow_through_refuses_axis_angle_bones():
     rig = _lag_rig()
     rig.pose.bones["pony.2"].rotation_mode = "AXIS_ANGLE"
     refused("axis-angle", lambda: bpy.ops.leapwright.bake_follow_through(bones="pony.1,pony.2,pony.3"))
 
 
-def test_bake_lag_one_frame_range():
+def test_bake_follow_through_one_frame_range():
     scene = bpy.context.scene
     _lag_rig()
     scene.frame_start = scene.frame_end = 10
     refused("too short", lambda: bpy.ops.leapwright.bake_follow_through(bones="pony.1,pony.2,pony.3"))
 
 
-def test_bake_lag_with_no_bones_chosen():
+def test_bake_follow_through_with_no_bones_chosen():
     _lag_rig(source="SELECTED")
     refused("bones", bpy.ops.leapwright.bake_follow_through)
 
 
-def test_bake_lag_missing_bone_collection():
+def test_bake_follow_through_missing_bone_collection():
     _lag_rig(source="COLLECTION", collection="Hair")
     refused("no bone collection 'Hair'", bpy.ops.leapwright.bake_follow_through)
 
 
-def test_bake_lag_in_edit_mode_is_refused_by_poll():
+def test_bake_follow_through_in_edit_mode_is_refused_by_poll():
     _lag_rig()
     bpy.ops.object.mode_set(mode="EDIT")
     try:
@@ -71,7 +71,7 @@ def test_bake_lag_in_edit_mode_is_refused_by_poll():
         bpy.ops.object.mode_set(mode="OBJECT")
 
 
-def test_remove_lag_with_nothing_baked_warns_and_changes_nothing(capfd):
+def test_remove_follow_through_with_nothing_baked_warns_and_changes_nothing(capfd):
     _lag_rig()
     before = file_state()
     capfd.readouterr()
@@ -96,7 +96,7 @@ def test_keep_body_on_arc_without_a_flight():
     refused("flight|arm|map|body", bpy.ops.leapwright.keep_body_on_arc)
 
 
-def test_remove_arc_fix_with_nothing_written(capfd):
+def test_remove_body_arc_with_nothing_written(capfd):
     rig = build_rig()
     configure(rig)
     bpy.context.view_layer.objects.active = rig

@@ -141,7 +141,7 @@ def test_missing_body_bone_reports_and_changes_nothing():
     assert snapshot() == before
 
 
-def test_remove_written_takes_the_check_back_too():
+def test_remove_plan_takes_the_check_back_too():
     rig = build_rig()
     configure(rig, height=0.4, key_style="SPLINE")
     _range_for_plan()

@@ -24,7 +24,7 @@ import pytest
 from mathutils import Quaternion, Vector
 
 from scene_probe import addon, draw_panel, file_state, first_difference
-from test_air_correction import _enable
+from test_body_arc import _enable
 
 sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "..", "blend_examples"))
 import mannequin  # noqa: E402  (the demo's own rig, not edited here)
@@ -111,7 +111,7 @@ def kept_on_arc():
 
 def test_after_keep_body_on_arc_the_hips_are_off_arc_and_the_whole_body_com_is_a_clean_flight(kept_on_arc, capfd):
     from scene_probe import reports
-    from test_air_correction import _coms
+    from test_body_arc import _coms
 
     rig, scene, first, last = kept_on_arc
     c, hips = _check("BONE")

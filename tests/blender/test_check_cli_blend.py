@@ -1,7 +1,7 @@
 """``leapwright check FILE.blend`` reports the body leaving its arc in the air as the panel does.
 
 The demo mannequin with the written jump and a late arm raise keyed in the air (the
-scene of test_air_correction.py), saved and checked by the command line in a
+scene of test_body_arc.py), saved and checked by the command line in a
 subprocess, against the panel's Check Body Arc in this process. The torso drop is
 checked against Newton's second law for a system of particles (textbook mechanics):
 arms of mass share m_arms / M rising by dz relative to the torso move the whole-body
@@ -19,7 +19,7 @@ import numpy as np
 import pytest
 
 from scene_probe import addon
-from test_air_correction import _coms, _jump, raise_at_takeoff
+from test_body_arc import _coms, _jump, raise_at_takeoff
 
 REPO = os.path.abspath(os.path.join(os.path.dirname(__file__), "..", ".."))
 

@@ -14,7 +14,7 @@ import pytest
 
 from rig_builder import add_user_keys
 from scene_probe import addon, snapshot
-from test_lag_bake import PONY, _bake, _jumping_rig, _key_values, _lag_curves, _ponytail_rig
+from test_follow_through import PONY, _bake, _jumping_rig, _key_values, _lag_curves, _ponytail_rig
 
 
 def _ft():

@@ -230,13 +230,13 @@ def test_cli_chart_to_an_unwritable_path_exits_2_with_one_line(where):
 
 
 def _baked_rig():
-    from test_lag_bake import _jumping_rig  # the lag tests' chain rig with a jump written on it
+    from test_follow_through import _jumping_rig  # the lag tests' chain rig with a jump written on it
     rig, _marks = _jumping_rig()
     bpy.context.view_layer.objects.active = rig
     return rig
 
 
-def test_bake_lag_twice_gives_the_same_file_as_once_and_remove_twice_as_before():
+def test_bake_follow_through_twice_gives_the_same_file_as_once_and_remove_twice_as_before():
     rig = _baked_rig()
     bones = "pony.1,pony.2,pony.3"
     before, mine = file_state(), _user_curves()

@@ -198,7 +198,7 @@ def test_strip_moments_follow_the_jump(outputs):
 @pytest.fixture(scope="module")
 def swing_probe(outputs):
     """The demo file's evaluated shoulders and wrists, read by Blender in a fresh process."""
-    return _script_probe("demo_swing.py", "SWING", outputs["jump_demo.blend"])
+    return _script_probe("demo_arms.py", "SWING", outputs["jump_demo.blend"])
 
 
 def _script_probe(script, tag, blend):
@@ -230,7 +230,7 @@ def test_arm_swing_peaks_at_takeoff_and_rises_in_the_push(swing_probe):
 @pytest.fixture(scope="module")
 def lag_probe(outputs):
     """The demo file's ponytail tip and skirt hem, with the follow-through layer and without it."""
-    return _script_probe("demo_lag.py", "LAG", outputs["jump_demo.blend"])
+    return _script_probe("demo_follow_through.py", "LAG", outputs["jump_demo.blend"])
 
 
 @pytest.mark.parametrize("bone, droop_within", [(0, 0.1), (1, 0.2)])

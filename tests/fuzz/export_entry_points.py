@@ -1,4 +1,4 @@
-"""Fuzzed export checks: ``core.export_checks.export_issues`` and ``snap_to_whole_frames``.
+"""Fuzzed export checks: ``core.export.game_checks.export_issues`` and ``snap_to_whole_frames``.
 
 Each entry is ``(name, strategy, call)`` (see :mod:`tests.fuzz.entry_points`).
 Besides never crashing, the call holds the rules the docstrings promise: every

@@ -276,6 +276,39 @@ def _overlay(example):
 
 
 
+@st.composite
+def force_traces(draw):
+    """A countermovement jump's plate force (standing, dip, push, air, maybe a landing) with noise,
+    or raw wild numbers, as (times [s], force [N], mass [kg] or None)."""
+    rng = np.random.default_rng(draw(st.integers(0, 2**31 - 1)))
+    fs = draw(st.sampled_from([250.0, 1000.0, 2000.0]))
+    if draw(st.booleans()):
+        weight = draw(st.floats(50.0, 3000.0))
+        dip, push, unload = draw(st.floats(0.05, 1.0)), draw(st.floats(0.05, 0.6)), draw(st.floats(0.0, 1.0))
+        mass = draw(st.one_of(st.none(), st.none(), st.floats(-10.0, 300.0), st.floats()))
+        t = np.arange(0.0, 0.5 + dip + push + draw(st.floats(0.0, 1.0)), 1.0 / fs)
+        f = np.full(t.shape, weight)
+        d, p = (t >= 0.5) & (t < 0.5 + dip), (t >= 0.5 + dip) & (t < 0.5 + dip + push)
+        f[d] -= unload * weight * np.sin(np.pi * (t[d] - 0.5) / dip) ** 2
+        f[p] += draw(st.floats(0.0, 4.0)) * weight * np.sin(np.pi * (t[p] - 0.5 - dip) / push) ** 2
+        f[t >= 0.5 + dip + push] = 0.0
+        f += rng.normal(0.0, draw(st.sampled_from([0.0, 1.0, 5.0])), f.shape)
+        return t, f, mass
+    n = draw(st.integers(0, 300))
+    values = np.array(draw(st.lists(st.floats(), min_size=n, max_size=n)), dtype=float)
+    return np.arange(n) / fs, values, draw(st.one_of(st.none(), st.floats()))
+
+
+def _force_trace(example):
+    from leapwright.core.check.force_trace import read_force_trace
+
+    t, f, mass = example
+    r = read_force_trace(t, f, mass_kg=mass)
+    lead, loss = r.peak_speed_before_takeoff()
+    return [r.velocity, r.height, r.takeoff_speed_m_s, r.jump_height_m, r.depth_m, r.peak_push_bw,
+            r.lowest_unweighting_bw, lead, loss]
+
+
 ENTRY_POINTS = [
     ("analysis", trajectories(), _analysis),
     ("chain dynamics", chain_drives(), _chains),
@@ -284,4 +317,5 @@ ENTRY_POINTS = [
     ("in-air correction", com_tracks(), _flight_correction),
     ("body arc check", posed_flights(), _body_arc),
     ("path overlay", overlay_inputs(), _overlay),
+    ("force trace", force_traces(), _force_trace),
 ]

@@ -209,7 +209,7 @@ def _rest_com_by_hand():
     # de Leva 1996 male (shared/reference-values.md), each segment COM at its fraction from
     # the published first landmark, on the mannequin's own joint positions; x and y are 0
     # by symmetry except the feet (toe tips at y = -0.20).
-    z = (0.0694 * (1.78 + 0.5976 * (1.55 - 1.78)) + 0.4346 * (1.45 + 0.4486 * (0.93 - 1.45))
+    z = (0.0694 * (1.78 + 0.5976 * (1.55 - 1.78)) + 0.4346 * (1.45 + 0.5138 * (0.93 - 1.45))
          + 2 * (0.0271 * 1.42 + 0.0162 * 1.42 + 0.0061 * 1.42 + 0.1416 * (0.93 - 0.4095 * 0.43)
                 + 0.0433 * (0.50 - 0.4395 * 0.42) + 0.0137 * (0.08 - 0.4415 * 0.08)))
     y = 2 * 0.0137 * 0.4415 * -0.20

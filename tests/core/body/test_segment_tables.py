@@ -53,7 +53,7 @@ def test_standing_body_com_by_hand():
     z = {"vertex": 1.78, "skull_base": 1.55, "neck_base": 1.45, "hip_mid": 0.93, "shoulder": 1.42,
          "elbow": 1.12, "wrist": 0.87, "knuckles": 0.77, "hip": 0.93, "knee": 0.50, "ankle": 0.08,
          "toe_tip": 0.0, "ball": 0.02, "shoulder_mid": 1.42}
-    by_hand = (0.0694 * (1.78 + 0.5976 * (1.55 - 1.78)) + 0.4346 * (1.45 + 0.4486 * (0.93 - 1.45))
+    by_hand = (0.0694 * (1.78 + 0.5976 * (1.55 - 1.78)) + 0.4346 * (1.45 + 0.5138 * (0.93 - 1.45))
                + 2 * (0.0271 * (1.42 - 0.5772 * 0.30) + 0.0162 * (1.12 - 0.4574 * 0.25)
                       + 0.0061 * (0.87 - 0.79 * 0.10) + 0.1416 * (0.93 - 0.4095 * 0.43)
                       + 0.0433 * (0.50 - 0.4395 * 0.42) + 0.0137 * (0.08 - 0.4415 * 0.08)))
@@ -93,3 +93,19 @@ def test_unknown_table_names_the_choices():
     with pytest.raises(InvalidGoalError, match="de_leva_male"):
         get_table("zatsiorsky")
     assert get_table("dempster_winter") is DEMPSTER_WINTER
+
+
+def test_trunk_uses_de_leva_s_cervicale_row_to_the_printed_digits():
+    # de Leva 1996 Table 4 gives the trunk COM from two proximal landmarks: SUPR (suprasternale)
+    # -> MIDH 44.86 % (male) / 41.51 % (female), and CERV (C7) -> MIDH 51.38 / 49.64 (two
+    # independent transcriptions agree: R. Gurchiek's 2018 MATLAB table and the PyPI package
+    # biobuddy; shared/reference-values.md). The rig's trunk starts at the neck base, where the
+    # neck leaves the spine (the cervicale's level), so the CERV row applies; the SUPR fractions
+    # on the C7 segment put the trunk COM 6.5 % of its length too high.
+    for table, fraction in ((DE_LEVA_MALE, 0.5138), (DE_LEVA_FEMALE, 0.4964)):
+        trunk = table.entry("trunk")
+        assert (trunk.start, trunk.end) == ("neck_base", "hip_mid")
+        assert "CERV" in trunk.published and "MIDH" in trunk.published
+        assert trunk.com_fraction == fraction
+    # The trunk's mass share does not depend on the landmark: 43.46 % / 42.57 %.
+    assert (DE_LEVA_MALE.entry("trunk").mass_fraction, DE_LEVA_FEMALE.entry("trunk").mass_fraction) == (0.4346, 0.4257)

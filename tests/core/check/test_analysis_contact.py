@@ -6,7 +6,7 @@ Sources named beside each check:
 - mean landing force BW (1 + h / dh) over a stopping distance dh after a fall of h
   (work-energy theorem, textbook mechanics);
 - a free body keeps its horizontal speed (Newton's first law, no air resistance);
-- grades from core.constants (LANDING_FORCE_GRADES, PUSH_FORCE_GRADES: from memory).
+- grades from core.base.constants (LANDING_FORCE_GRADES, PUSH_FORCE_GRADES: from memory).
 """
 
 import numpy as np

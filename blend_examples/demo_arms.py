@@ -1,13 +1,13 @@
 """The demo's arm swing, and the README's before/after of re-timing a late one.
 
-``swing_pass(demo)`` is a pass of ``run_demo.py``: it names the mannequin's arm
+``arms_pass(demo)`` is a pass of ``run_demo.py``: it names the mannequin's arm
 bones in the panel and places the swing on the written jump (*Place Arm Swing*),
 then reads it back with *Check Arm Swing*. Run as a script it draws
 ``arm_swing_before_after.png``: the demo jump with both arms keyed by hand
 (``keyframe_insert``) in a swing that peaks :data:`LATE` frames after take-off, the
 arm's elevation read from the evaluated rig, then *Re-time Arm Swing*, read again::
 
-    .venv/bin/python blend_examples/demo_swing.py --zip dist/leapwright-<version>.zip --out docs
+    .venv/bin/python blend_examples/demo_arms.py --zip dist/leapwright-<version>.zip --out docs
 
 ``--probe FILE.blend`` prints ``SWING {json}``: the evaluated shoulder and wrist of
 each arm at quarter frames, the facing and the phase markers of a saved demo file
@@ -46,7 +46,7 @@ def _lines(rig):
     return [text for text, _icon in addon.arms.operators.LAST.get(rig.name, [])]
 
 
-def swing_pass(demo):
+def arms_pass(demo):
     """Place an arm swing on the written jump with the extension, and check it."""
     import bpy
 
@@ -232,7 +232,7 @@ def main(argv=None):
             if session.MODULE in bpy.context.preferences.addons:
                 addon_utils.disable(session.MODULE, default_set=False)
 
-    run_and_exit("demo_swing", body, cleanup)
+    run_and_exit("demo_arms", body, cleanup)
 
 
 if __name__ == "__main__":

@@ -1,11 +1,11 @@
 """The demo's follow-through: the ponytail and the skirt trail the jump, and the README's strip.
 
-``lag_pass(demo)`` is a pass of ``run_demo.py``: it bakes the ponytail and the
+``follow_through_pass(demo)`` is a pass of ``run_demo.py``: it bakes the ponytail and the
 skirt flaps with the extension's *Bake Follow-Through*
 (``bpy.ops.leapwright.bake_follow_through``) over the scene range and reports the panel's
 readout (largest swing per bone). Run as a script::
 
-    .venv/bin/python blend_examples/demo_lag.py --strip blend_examples/out/jump_demo.blend --out docs
+    .venv/bin/python blend_examples/demo_follow_through.py --strip blend_examples/out/jump_demo.blend --out docs
 
 renders ``follow_through_strip.png`` from a saved demo file (Cycles on the CPU,
 small and few samples, close-ups cropped around the mannequin): the moments
@@ -46,7 +46,7 @@ def lag_bones():
     return tuple(mannequin.PONYTAIL) + tuple(f"skirt_{flap}_{k}" for flap in SKIRT_FLAPS for k in (1, 2))
 
 
-def lag_pass(demo):
+def follow_through_pass(demo):
     """Bake the ponytail and the skirt with the extension and report the readout."""
     import bpy
 
@@ -197,7 +197,7 @@ def main(argv=None):
         else:
             raise SystemExit("give --probe FILE.blend or --strip FILE.blend")
 
-    run_and_exit("demo_lag", body)
+    run_and_exit("demo_follow_through", body)
 
 
 if __name__ == "__main__":

@@ -1,0 +1,310 @@
+"""The least peak force of a contact stretch, for many durations at once.
+
+A stretch (:mod:`.contact_shapes`) is two quintics meeting at the bottom of the
+crouch. On a fixed grid of local times s in [0, 1] a piece of duration T has
+
+    a(s) = P(s) / T^2 + V(s) / T + A(s) + B(s) a_b,
+    v(s) = P'(s) / T + V'(s) + A'(s) T + B'(s) T a_b,
+
+with P, V, A set by the end heights, speeds and accelerations and a_b the
+acceleration at the bottom. Every sample is therefore a line in a_b whose
+offset is a polynomial in 1/T (and the speed limits, divided by their slope,
+too). For fixed durations the ground-cannot-pull and one-way-speed limits cut
+a_b to an interval and the peak force is the upper envelope of the lines:
+:func:`lowest_envelope` finds its minimum exactly. Along a free duration the
+least peak is then piecewise quadratic in u = 1/T, its minimum the vertex of
+one quadratic or the crossing of two (a closed form once the two are known);
+:mod:`.shape_choice` finds them from a few batches of durations.
+"""
+
+import functools
+
+import numpy as np
+
+from ..base.piecewise import quintic_between
+
+SAMPLES = 97  # grid points per piece
+FORCE_MARGIN = 2e-3  # BW kept above zero on the inner samples so the force stays >= 0 between them
+_TURN_SAMPLES = 4 * SAMPLES  # grid of the dip's one-turn check
+_SPEED_SIGN = {"dip": -1, "propulsion": +1, "absorption": -1, "recovery": +1}
+
+
+def _unit_quintic_basis():
+    """Coefficients of the six quintic Hermite basis functions on s in [0, 1]."""
+    rows = []
+    for k in range(6):
+        cond = np.zeros(6)
+        cond[k] = 1.0
+        rows.append(quintic_between(*cond, 1.0).coef)
+    return np.array(rows)
+
+
+def _derivative_table(grid, order):
+    """Derivative ``order`` in s of each basis function on ``grid``: shape (6, len(grid))."""
+    coef = _BASIS
+    for _ in range(order):
+        coef = coef[:, 1:] * np.arange(1, coef.shape[1])
+    return coef @ (grid[None, :] ** np.arange(coef.shape[1])[:, None])
+
+
+_BASIS = _unit_quintic_basis()
+_GRID = np.linspace(0.0, 1.0, SAMPLES)
+_D = {order: _derivative_table(_GRID, order) for order in (1, 2)}
+_D3_ENDS = _derivative_table(np.array([0.0, 1.0]), 3)
+_TURN_D2 = _derivative_table(np.linspace(0.0, 1.0, _TURN_SAMPLES)[1:], 2)
+
+# Columns of the duration powers: T1^-3, T1^-2, T1^-1, 1, T1, T2^-3, T2^-2, T2^-1, T2.
+_POWER = {(1, -3): 0, (1, -2): 1, (1, -1): 2, (1, 0): 3, (1, 1): 4,
+          (2, -3): 5, (2, -2): 6, (2, -1): 7, (2, 0): 3, (2, 1): 8}
+
+
+def duration_powers(first, second):
+    """The (n, 9) matrix of duration powers that :class:`LineTables` multiplies."""
+    out = np.empty((first.shape[0], 9))
+    out[:, 2] = r1 = 1.0 / first
+    out[:, 1] = r1 * r1
+    out[:, 0] = out[:, 1] * r1
+    out[:, 3] = 1.0
+    out[:, 4] = first
+    out[:, 7] = r2 = 1.0 / second
+    out[:, 6] = r2 * r2
+    out[:, 5] = out[:, 6] * r2
+    out[:, 8] = second
+    return out
+
+
+def _piece_rows(table, ends, piece, order):
+    """Coefficient rows (9, m) of derivative ``order`` of a piece over the duration powers."""
+    p0, v0, a0, p1, v1, a1 = ends
+    rows = np.zeros((9, table.shape[1]))
+    rows[_POWER[piece, -order]] += p0 * table[0] + p1 * table[3]
+    rows[_POWER[piece, 1 - order]] += v0 * table[1] + v1 * table[4]
+    rows[_POWER[piece, 2 - order]] += a0 * table[2] + a1 * table[5]
+    return rows
+
+
+def _slope_rows(table, piece, order):
+    """Coefficient rows (9, m) of the a_b slope of a piece's derivative ``order``."""
+    rows = np.zeros((9, table.shape[1]))
+    rows[_POWER[piece, 2 - order]] = table[5] if piece == 1 else table[2]
+    return rows
+
+
+class LineTables:
+    """Every sample of a stretch as a line in a_b, its offset and slope linear in the duration powers."""
+
+    def __init__(self, spec):
+        s, e, zb, g = spec.start, spec.end, spec.bottom_height, spec.gravity
+        ends = {1: (s.height, s.speed, s.acceleration, zb, 0.0, 0.0),
+                2: (zb, 0.0, 0.0, e.height, e.speed, e.acceleration)}
+        self.spec = spec
+        acc = np.concatenate([_piece_rows(_D[2], ends[k], k, 2) for k in (1, 2)], axis=1)
+        self.envelope_offset = acc
+        self.envelope_slope = np.concatenate([_D[2][5], _D[2][2]])
+        # Limits written as offset + slope * a_b >= 0.
+        margin = np.full(2 * SAMPLES, g * FORCE_MARGIN)
+        margin[[0, SAMPLES - 1, SAMPLES, 2 * SAMPLES - 1]] = 0.0  # the ends may sit exactly at -g
+        force = acc.copy()
+        force[3] += g - margin
+        offsets, slopes = [force], [np.concatenate([_slope_rows(_D[2], k, 2) for k in (1, 2)], axis=1)]
+        for piece, column, into, end_acc in ((1, 0, 1.0, s.acceleration), (2, 1, -1.0, e.acceleration)):
+            if abs(end_acc + g) <= 1e-9 * g:
+                # A zero-force end (touchdown, take-off) needs the force growing into the piece.
+                table = _D3_ENDS[:, [column]]
+                offsets.append(into * _piece_rows(table, ends[piece], piece, 3))
+                slopes.append(into * _slope_rows(table, piece, 3))
+        for piece, kind in ((1, spec.first_kind), (2, spec.second_kind)):
+            sign = _SPEED_SIGN[kind]  # the speed keeps its sign strictly inside the piece
+            inner = _D[1][:, 1:-1]
+            offsets.append(sign * _piece_rows(inner, ends[piece], piece, 1))
+            slopes.append(sign * _slope_rows(inner, piece, 1))
+        # Outer bounds keep a_b finite (a thousand g either way); a dip needs an upward push at the bottom.
+        for offset, slope in ((1e3 * g, 1.0), (1e3 * g, -1.0)) + (((0.0, 1.0),) if spec.first_kind == "dip" else ()):
+            offsets.append(np.zeros((9, 1)))
+            offsets[-1][3] = offset
+            slopes.append(np.zeros((9, 1)))
+            slopes[-1][3] = slope
+        offset, slope = np.concatenate(offsets, axis=1), np.concatenate(slopes, axis=1)
+        # Each slope is one power of a duration times a constant, so its sign is fixed: split the
+        # limits once into lower bounds (rising), upper bounds (falling) and flat ones.
+        sign = np.sign(np.where(np.abs(slope) > 1e-12, slope, 0.0).sum(axis=0))
+        self.lower = (offset[:, sign > 0], slope[:, sign > 0])
+        self.upper = (offset[:, sign < 0], slope[:, sign < 0])
+        self.flat = offset[:, sign == 0]
+        self.dip = spec.first_kind == "dip"
+        self.hint = None  # the two envelope lines that crossed at the last batch's minimum
+        if self.dip:
+            self.turn_offset = _piece_rows(_TURN_D2, ends[1], 1, 2)
+            self.turn_slope = _TURN_D2[5]
+
+    def feasible_interval(self, powers):
+        """``(lo, hi)``: the a_b interval meeting the limits at each duration pair (empty: ``lo >= hi``)."""
+        ok = np.all(powers @ self.flat >= -1e-9, axis=1)
+        lo = np.max(-(powers @ self.lower[0]) / (powers @ self.lower[1]), axis=1)
+        hi = np.min(-(powers @ self.upper[0]) / (powers @ self.upper[1]), axis=1)
+        eps = 1e-9 * np.maximum(1.0, np.maximum(np.abs(lo), np.abs(hi)))
+        return np.where(ok, lo + eps, np.inf), np.where(ok, hi - eps, -np.inf)
+
+    def least_peaks(self, first, second):
+        """``(a_b, peak acceleration [m/s^2])`` for duration arrays; peak ``inf`` where infeasible."""
+        powers = duration_powers(np.asarray(first, dtype=float), np.asarray(second, dtype=float))
+        lo, hi = self.feasible_interval(powers)
+        feasible = lo < hi
+        a_b, peak, self.hint = lowest_envelope(powers @ self.envelope_offset, self.envelope_slope,
+                                               np.where(feasible, lo, 0.0), np.where(feasible, hi, 1.0),
+                                               self.hint)
+        if self.dip:
+            turns = self._dip_turns_once(powers, a_b)
+            if not np.all(turns | ~feasible):
+                a_b, peak, turns = self._turn_once(powers, a_b, peak, turns, lo, hi, feasible)
+            feasible &= turns
+        return a_b, np.where(feasible, peak, np.inf)
+
+    def _turn_once(self, powers, a_b, peak, turns, lo, hi, feasible):
+        """Where the least-peak bottom acceleration makes the dip turn twice, the nearest one that turns once.
+
+        The peak is convex in a_b, so the best a_b that turns once is the edge of the
+        turning-once set nearest the unconstrained best: found by bisection towards
+        whichever interval end turns once (the lower peak first).
+        """
+        rows = np.flatnonzero(~turns & feasible)
+        p, x0 = powers[rows], a_b[rows]
+        alpha = p @ self.envelope_offset
+        ends = []
+        for end in (lo[rows], hi[rows]):
+            ok = self._dip_turns_once(p, end)
+            ends.append((end, ok, np.max(alpha + self.envelope_slope * end[:, None], axis=1)))
+        (lo_x, lo_ok, lo_peak), (hi_x, hi_ok, hi_peak) = ends
+        use_hi = hi_ok & (~lo_ok | (hi_peak <= lo_peak))
+        good = np.where(use_hi, hi_x, lo_x)
+        bad = x0.copy()
+        for _ in range(14):
+            mid = 0.5 * (good + bad)
+            ok = self._dip_turns_once(p, mid)
+            good, bad = np.where(ok, mid, good), np.where(ok, bad, mid)
+        good = self._snap_to_turn(p, good, bad)
+        found = lo_ok | hi_ok
+        a_b, peak, turns = a_b.copy(), peak.copy(), turns.copy()
+        a_b[rows] = np.where(found, good, a_b[rows])
+        peak[rows] = np.where(found, np.max(alpha + self.envelope_slope * good[:, None], axis=1), peak[rows])
+        turns[rows] = found
+        return a_b, peak, turns
+
+    def _snap_to_turn(self, powers, good, bad):
+        """The exact edge in each bracket: where a checked sample of the dip crosses its zero band.
+
+        The sign pattern only changes where a sample's acceleration crosses +-1e-9 g, a line in
+        a_b; of those crossings inside (bad, good], the one nearest ``bad`` that turns once.
+        """
+        band = 1e-9 * self.spec.gravity
+        offsets = powers @ self.turn_offset
+        out = good.copy()
+        for row in range(len(good)):
+            lo, hi = sorted((bad[row], good[row]))
+            cross = np.concatenate([(band - offsets[row]) / self.turn_slope, (-band - offsets[row]) / self.turn_slope])
+            cross = cross[np.isfinite(cross) & (cross > lo) & (cross <= hi)]
+            step = 1e-12 * max(1.0, abs(good[row]))
+            trial = np.sort(cross + np.sign(good[row] - bad[row]) * step)
+            trial = trial[::-1] if bad[row] > good[row] else trial
+            if trial.size:
+                ok = self._dip_turns_once(np.repeat(powers[row:row + 1], trial.size, axis=0), trial)
+                if ok.any():
+                    out[row] = trial[np.argmax(ok)]
+        return out
+
+    def _dip_turns_once(self, powers, a_b):
+        """The dip must unweight (a < 0) then brake (a > 0): one sign change only."""
+        acc = powers @ self.turn_offset + a_b[:, None] * self.turn_slope
+        signs = np.where(np.abs(acc) > 1e-9 * self.spec.gravity, np.sign(acc), 0.0)
+        # Carry the last non-zero sign over zeros, then count the changes.
+        index = np.where(signs != 0, np.arange(signs.shape[1]), 0)
+        np.maximum.accumulate(index, axis=1, out=index)
+        carried = np.take_along_axis(signs, index, axis=1)
+        first_sign = carried[np.arange(len(a_b)), np.argmax(signs != 0, axis=1)]
+        changes = np.count_nonzero((carried[:, 1:] != carried[:, :-1]) & (carried[:, :-1] != 0), axis=1)
+        return (first_sign < 0) & (changes == 1)
+
+
+@functools.lru_cache(maxsize=64)
+def line_tables(spec):
+    """:class:`LineTables` of a stretch (kept: a rebound stretch is shared by every hop)."""
+    return LineTables(spec)
+
+
+def _highest_line(alpha, beta, x):
+    """Index and value of the highest line in each row at ``x`` (n,)."""
+    values = alpha + beta * x[:, None]
+    k = np.argmax(values, axis=1)
+    return k, values[np.arange(alpha.shape[0]), k]
+
+
+def lowest_envelope(alpha, beta, lo, hi, hint=None, passes=60):
+    """Minimum over x in [lo, hi] of max_i(alpha_i + beta_i x), row by row, exactly.
+
+    Parameters
+    ----------
+    alpha : ndarray (n, m)
+        Line offsets; ``beta`` (m,) their slopes, shared by every row.
+    lo, hi : ndarray (n,)
+        The interval of each row.
+    hint : (int, int), optional
+        A falling and a rising line likely to cross at the minimum (tried first).
+
+    Returns
+    -------
+    (x, value, crossing pair) : ndarrays (n,) and the (falling, rising) lines of the last row solved by crossing
+
+    Notes
+    -----
+    The envelope is convex and piecewise linear. Keep a bracket whose left end
+    has a falling highest line and right end a rising one; the two lines cross
+    at the envelope's minimum unless another line is higher there, which then
+    replaces the bracket end on its side. Each pass removes at least one corner.
+    """
+    n = alpha.shape[0]
+    x, value = np.empty(n), np.empty(n)
+    todo = np.arange(n)
+    pair = hint
+    if hint is not None:
+        i, j = hint
+        cross = np.clip((alpha[:, i] - alpha[:, j]) / (beta[j] - beta[i]), lo, hi)
+        k, v = _highest_line(alpha, beta, cross)
+        model = alpha[:, j] + beta[j] * cross
+        done = (cross > lo) & (cross < hi) & (v <= model + 1e-12 * np.maximum(1.0, np.abs(model)))
+        x[done], value[done] = cross[done], v[done]
+        todo = np.flatnonzero(~done)
+    if todo.size:
+        x[todo], value[todo], found = _lowest_envelope_rows(alpha[todo], beta, lo[todo], hi[todo], passes)
+        pair = found or pair
+    return x, value, pair
+
+
+def _lowest_envelope_rows(alpha, beta, lo, hi, passes):
+    """:func:`lowest_envelope` from the interval ends, without a hint."""
+    k_lo, v_lo = _highest_line(alpha, beta, lo)
+    k_hi, v_hi = _highest_line(alpha, beta, hi)
+    x, value = lo.copy(), v_lo.copy()
+    at_hi = (beta[k_hi] <= 0.0) & (beta[k_lo] < 0.0)  # falling all the way: the minimum is at hi
+    x[at_hi], value[at_hi] = hi[at_hi], v_hi[at_hi]
+    idx = np.flatnonzero((beta[k_lo] < 0.0) & (beta[k_hi] > 0.0))
+    a, b, i, j = lo[idx], hi[idx], k_lo[idx], k_hi[idx]
+    pair = None
+    for _ in range(passes):
+        if not idx.size:
+            break
+        rows = alpha[idx]
+        ai, aj = rows[np.arange(idx.size), i], rows[np.arange(idx.size), j]
+        cross = np.clip((ai - aj) / (beta[j] - beta[i]), a, b)
+        k, v = _highest_line(rows, beta, cross)
+        model = aj + beta[j] * cross
+        done = (v <= model + 1e-12 * np.maximum(1.0, np.abs(model))) | (beta[k] == 0.0)
+        x[idx[done]], value[idx[done]] = cross[done], v[done]
+        if done.any():
+            last = np.flatnonzero(done)[-1]
+            pair = (int(i[last]), int(j[last]))
+        rising = beta[k] > 0.0
+        b, j = np.where(rising, cross, b), np.where(rising, k, j)
+        a, i = np.where(rising, a, cross), np.where(rising, i, k)
+        keep = ~done
+        idx, a, b, i, j = idx[keep], a[keep], b[keep], i[keep], j[keep]
+    return x, value, pair

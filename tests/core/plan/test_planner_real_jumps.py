@@ -1,0 +1,104 @@
+"""The planner against what real jumps show: their timing is accepted, its defaults sit in their spread.
+
+"Real jumps" are the countermovement jumps on force plates of shared/reference-values.md ("Real
+jumps measured here": six from the PyPI package jumpmetrics 0.2.0, one from a public force-plate
+repository, analysed by impulse-momentum with McMahon et al. 2018 phases).
+"""
+
+import re
+
+import numpy as np
+import pytest
+
+from leapwright.core.base.errors import InfeasibleJumpError
+from leapwright.core.plan.goals import JumpGoals
+from leapwright.core.plan.planner import plan_jump
+
+FELTNER_SPEED = 2.44  # m/s, Feltner et al. 1999, J Sports Sci 17 (CMJ without arms)
+
+
+def _figures(plan):
+    phase = {p.name: p for p in plan.phases}
+    push = phase["propulsion"]
+    t = np.linspace(push.start_s, push.end_s, 20001)
+    v = plan.vertical_speed(t)
+    k = int(np.argmax(v))
+    durations = {n: phase[n].end_s - phase[n].start_s for n in ("unweighting", "braking", "propulsion")}
+    return durations, push.end_s - t[k], 1.0 - v[-1] / v[k]
+
+
+@pytest.mark.parametrize("goals", [dict(takeoff_speed=FELTNER_SPEED), dict(takeoff_speed=2.5), dict(height=0.4)],
+                         ids=["2.44 m/s", "2.5 m/s", "0.4 m"])
+def test_default_figures_sit_in_the_spread_of_real_jumps(goals):
+    plan = plan_jump(JumpGoals(**goals))
+    durations, lead, loss = _figures(plan)
+    # reference-values.md, real jumps: unweighting 0.34-0.66 s, braking 0.15-0.38 s, propulsion 0.24-0.34 s.
+    assert 0.34 <= durations["unweighting"] <= 0.66
+    assert 0.15 <= durations["braking"] <= 0.38
+    assert 0.24 <= durations["propulsion"] <= 0.34
+    # Lowest unweighting force 0.15-0.86 BW (real jumps; PMC11208864: 0.43 self-chosen, 0.58 shallow).
+    assert 0.15 <= plan.report.min_unweighting_force_bw <= 0.86
+    # Peak COM speed 0.019-0.032 s before take-off, 3.1-6.3 % lost by take-off (real jumps;
+    # Harman et al. 1990: about 0.03 s and 6-7 %).
+    assert 0.019 <= lead <= 0.032
+    assert 0.031 <= loss <= 0.063
+
+
+# Own timing of recorded jumps (measured here from jumpmetrics 0.2.0's FZsum traces, impulse-momentum
+# from rest): take-off speed [m/s], depth [m], take-off rise [m], dip (unweighting + braking) and push [s].
+RECORDED = {
+    "F02_CTRL2": (2.478, 0.219, 0.136, 0.7745, 0.253),
+    "F04_CTRL2": (2.607, 0.203, 0.133, 0.704, 0.2515),
+    "M07_CTRL1": (3.456, 0.376, 0.158, 0.6615, 0.2835),
+    "cmj_example": (2.501, 0.174, 0.158, 0.8175, 0.241),
+}
+
+
+@pytest.mark.parametrize("name", sorted(RECORDED))
+def test_long_shallow_dips_of_real_jumps_are_accepted(name):
+    # These four were refused ("needs the ground to pull"): at the least-peak bottom push the
+    # long dip's acceleration changed sign three times; a stronger bottom push turns it once,
+    # and the ground never pulls (force >= 0 everywhere in contact).
+    v0, depth, rise, dip, push = RECORDED[name]
+    plan = plan_jump(JumpGoals(takeoff_speed=v0, depth=depth, takeoff_extension=rise, dip_duration=dip,
+                               push_duration=push))
+    phase = {p.name: p for p in plan.phases}
+    assert phase["braking"].end_s - phase["unweighting"].start_s == pytest.approx(dip, abs=1e-9)
+    assert phase["propulsion"].end_s - phase["propulsion"].start_s == pytest.approx(push, abs=1e-9)
+    contact = np.concatenate([np.linspace(phase[n].start_s, phase[n].end_s, 2001)
+                              for n in ("unweighting", "braking", "propulsion")])
+    assert plan.force_bw(contact).min() >= -1e-9
+    acc = plan.vertical_acceleration(np.linspace(phase["unweighting"].start_s, phase["braking"].end_s, 4001)[1:])
+    # Unweights, then brakes: one sign change of the force about body weight, counting changes
+    # larger than 1e-4 BW (at the edge of turning once the dip may start 4e-6 BW above weight).
+    signs = np.sign(acc[np.abs(acc) > 1e-4 * plan.gravity])
+    assert signs[0] < 0 and np.count_nonzero(np.diff(signs)) == 1
+
+
+@pytest.mark.parametrize("goals", [dict(height=0.4, depth=0.5, dip_duration=0.2),
+                                   dict(height=0.4, depth=0.5, dip_duration=0.2, push_duration=0.1),
+                                   dict(height=1.0, depth=0.5, dip_duration=0.838, push_duration=0.05),
+                                   dict(height=0.4, landing_depth=0.15, landing_duration=0.05)])
+def test_every_fix_a_refusal_suggests_plans(goals):
+    # Refusals only where physics forbids (the ground cannot pull), and each suggested fix is
+    # one the goals allow: applied alone, it gives a physical jump.
+    with pytest.raises(InfeasibleJumpError) as refused:
+        plan_jump(JumpGoals(**goals))
+    message = str(refused.value)
+    fixes = {
+        r"leave the push duration to be chosen": lambda m: {"push_duration": None},
+        r"leave the landing duration to be chosen": lambda m: {"landing_duration": None},
+        r"lengthen the dip to at least ([0-9.]+) s": lambda m: {"dip_duration": float(m.group(1))},
+        r"lengthen the landing to at least ([0-9.]+) s": lambda m: {"landing_duration": float(m.group(1))},
+        r"make the dip at most ([0-9.]+) m deep": lambda m: {"depth": float(m.group(1))},
+        r"deepen the landing to ([0-9.]+) m": lambda m: {"landing_depth": float(m.group(1))},
+    }
+    found = 0
+    for pattern, change in fixes.items():
+        for match in re.finditer(pattern, message):
+            found += 1
+            changed = {**goals, **change(match)}
+            if "dip_duration" in change(match):
+                assert changed["dip_duration"] > goals["dip_duration"]
+            plan_jump(JumpGoals(**{k: v for k, v in changed.items() if v is not None}))
+    assert found >= 1, message
