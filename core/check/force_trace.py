@@ -77,7 +77,7 @@ class ForceTraceReading:
     takeoff_time_s: float
     takeoff_speed_m_s: float
     jump_height_m: float
-    touchdown_time_s: float = None
+    touchdown_time_s: float | None = None
 
     @property
     def apparent_weight_bw(self):
