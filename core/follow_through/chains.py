@@ -24,15 +24,18 @@ Calling from the add-on (F samples, B chosen bones)::
 With the NLA COMBINE blend, quaternions multiply on the right (``lower @ delta``),
 which is the convention of the deltas here.
 
-Model (details in :mod:`.spring_integrator`): every chosen bone is a point mass on
-a rigid link held by a damped rotational spring to its chain parent. It feels the
-effective gravity ``g_eff = g - a_head`` (``|g_eff| = W/m``, zero in flight) and the
-animated turning of its own bone. The animated pose is the loaded shape at 1 g, so
+Model (details in :mod:`.integrator` and :mod:`.chain_mechanics`): every chosen
+bone is a point mass (its bob) on a rigid link, held by a damped rotational spring
+to its chain parent; a child's head rides on its parent, so the chain is a true
+multi-link pendulum: a child's weight and inertia pull on every joint above it,
+and a parent's swing carries its children. Every bob feels the effective gravity
+``g_eff = g - a_head`` (``|g_eff| = W/m``, zero in flight) and the animated turning
+of its own bone. The animated pose is the loaded shape at 1 g, so
 
 * a rig standing still gets exactly zero offset;
-* in free fall each joint floats up to its unloaded shape: ``-sag`` for a bone
-  whose loaded direction is horizontal (``-sag * sin(angle from straight down)``
-  in general, as a pendulum's lever gives);
+* in free fall each joint floats up to its unloaded shape: ``-sag`` for a chain
+  held level (``-sag * sin(angle from straight down)`` for one bone in general, as
+  a pendulum's lever gives);
 * on landing the extra weight bends it further, in proportion to the force.
 
 The parameters are defined operationally, on one bone:
@@ -41,17 +44,23 @@ The parameters are defined operationally, on one bone:
 * ``sag`` [rad]: static bend at standard gravity, standing still, of a bone held
   horizontal, measured from its unloaded shape. It fixes the swing length
   ``l = g0 / (sag * omega_n^2)`` (``g0`` standard gravity): sag is a property of
-  the object, so under moon gravity the same hair swings slower and sags less;
+  the object, so under moon gravity the same hair swings slower and sags less.
+  In a chain each joint's spring and damper are scaled by the load it carries
+  (chain held straight and level), so every joint sags by ``sag`` and the last
+  bone keeps the one-bone frequency and damping ratio;
 * ``angle_limit`` [rad]: largest bend of a joint away from its animated rotation;
 * ``transmission`` mu in [0, 1]: the share of a joint's damping that works across
   the joint, against the parent's swing rate, and so carries the parent's motion
   into the child; the rest works against the world, as still air would. 1 is
   internal friction only (a loose whip); lower values make the chain trail in
-  space (drag). Statics do not depend on it, so the sag stays the sag.
+  space (drag). Statics do not depend on it, so the sag stays the sag;
+* ``mass`` [relative]: how heavy the bone is against the others of its chain.
 
-Simplifications, each kept on purpose: a bone carries only its own weight (so
-each joint sags by the same ``sag``), and the offsets do not move the heads below
-them (the drive is the animated motion; the coupling runs parent to child only).
+Simplifications, each kept on purpose: a bone's mass sits at one point (its bob);
+the mass matrix is that of the chain's first animated pose, the same for the three
+axes (the difference is carried by the sweeps); the bobs' centripetal pull uses
+the simulated rates only; a weightless bone (sag 0) neither weighs on nor pulls
+its parent beyond its spring.
 """
 
 import math
@@ -190,16 +199,7 @@ def bake_chains(times, heads, rotations, parents, parameters, gravity=(0.0, 0.0,
         seg_times = times[lo:hi]
         accel, alpha = frame_accelerations(seg_times, heads[lo:hi], rots[lo:hi], options.cyclic)
         check_drive(accel, alpha, seg_times, lo)
-        per_frame = {"directions": rots[lo:hi, :, :, 1], "g_eff": accel, "alpha": alpha}
-        drive = {}
-        for name, value in per_frame.items():
-            drive[name] = slots.to_slots(value)
-            drive[name + "_mid"] = slots.to_slots(midpoint_values(seg_times, value, options.cyclic))
-        for name in ("g_eff", "g_eff_mid"):
-            # from the accelerations, so a still rig feels g_ref exactly (zero offset)
-            drive[name] = g_ref - drive[name]
-        for name in ("directions", "directions_mid"):
-            drive[name][:, padding, 1] = 1.0  # unused slots get any unit direction
+        drive = _segment_drive(slots, seg_times, heads[lo:hi], rots[lo:hi], parents, accel, alpha, g_ref, options.cyclic, padding)
         offsets, sweeps, _ = integrate(slots, slot_coeffs, seg_times, drive, g_ref, options.cyclic, substeps)
         passes = max(passes, sweeps)
         world[lo:hi] = offsets[:, slots.slot]
@@ -219,6 +219,24 @@ def bake_chains(times, heads, rotations, parents, parameters, gravity=(0.0, 0.0,
         mask = reduce_keys(quats, tolerance, mask, stepped, split_segments(frames, options.resets))
     peaks = np.max(np.linalg.norm(rotvecs, axis=-1), axis=0) if bones else np.zeros(0)
     return ChainBake(times, rotvecs, quats, world, mask, stepped, peaks, mismatch, passes)
+
+
+def _segment_drive(slots, times, heads, rots, parents, accel, alpha, g_ref, cyclic, padding):
+    """The integrator's drive on the slots, at the samples and halfway between (``_mid``):
+    animated bone directions, apparent gravity at the heads [m/s^2], angular
+    accelerations [rad/s^2] and each head's offset from its parent's head [m]."""
+    levers = np.where((parents >= 0)[None, :, None], heads - heads[:, np.maximum(parents, 0)], 0.0)
+    per_frame = {"directions": rots[:, :, :, 1], "g_eff": accel, "alpha": alpha, "levers": levers}
+    drive = {}
+    for name, value in per_frame.items():
+        drive[name] = slots.to_slots(value)
+        drive[name + "_mid"] = slots.to_slots(midpoint_values(times, value, cyclic))
+    for name in ("g_eff", "g_eff_mid"):
+        # from the accelerations, so a still rig feels g_ref exactly (zero offset)
+        drive[name] = g_ref - drive[name]
+    for name in ("directions", "directions_mid"):
+        drive[name][:, padding, 1] = 1.0  # unused slots get any unit direction
+    return drive
 
 
 def _check_options(options, frames):
