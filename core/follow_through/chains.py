@@ -75,9 +75,10 @@ from .samples import check_drive, check_samples, frame_accelerations, midpoint_v
 from ..base.errors import InvalidGoalError
 from ..base.rotation_vectors import (quaternion_conjugate, quaternion_multiply, quaternion_to_rotvec,
     rotvec_to_quaternion)
+from .contacts import Colliders
 from .integrator import ChainSlots, integrate
 
-__all__ = ["BakeOptions", "ChainBake", "ChainParameters", "LinkCoefficients", "bake_chains"]
+__all__ = ["BakeOptions", "ChainBake", "ChainParameters", "Colliders", "LinkCoefficients", "bake_chains"]
 
 @dataclass(frozen=True)
 class BakeOptions:
@@ -148,7 +149,8 @@ class ChainBake:
     passes: int
 
 
-def bake_chains(times, heads, rotations, parents, parameters, gravity=(0.0, 0.0, -STANDARD_GRAVITY), options=BakeOptions()):
+def bake_chains(times, heads, rotations, parents, parameters, gravity=(0.0, 0.0, -STANDARD_GRAVITY), options=BakeOptions(),
+                colliders=None):
     """Simulate drag and follow-through for the chosen bones.
 
     Parameters
@@ -171,6 +173,8 @@ def bake_chains(times, heads, rotations, parents, parameters, gravity=(0.0, 0.0,
         Scene gravity [m/s^2], world frame; the animated pose is the loaded shape
         under it.
     options : BakeOptions
+    colliders : Colliders, optional
+        Body capsules and ground the bones' tips stay out of (:mod:`.contacts`).
 
     Returns
     -------
@@ -187,6 +191,7 @@ def bake_chains(times, heads, rotations, parents, parameters, gravity=(0.0, 0.0,
     frames, bones = heads.shape[:2]
     coeffs = coefficient_arrays(parameters, bones)
     substeps, tolerance = _check_options(options, frames)
+    contact = _contact_arrays(colliders, frames, bones, substeps, g_ref)
     slots = ChainSlots.from_parents(parents)
     slot_coeffs = {name: slots.to_slots(value[:, None], 0.0)[:, 0] for name, value in coeffs.items()}
     slot_coeffs["limit"] = slots.to_slots(coeffs["limit"][:, None], math.pi)[:, 0]
@@ -200,7 +205,8 @@ def bake_chains(times, heads, rotations, parents, parameters, gravity=(0.0, 0.0,
         accel, alpha = frame_accelerations(seg_times, heads[lo:hi], rots[lo:hi], options.cyclic)
         check_drive(accel, alpha, seg_times, lo)
         drive = _segment_drive(slots, seg_times, heads[lo:hi], rots[lo:hi], parents, accel, alpha, g_ref, options.cyclic, padding)
-        offsets, sweeps, _ = integrate(slots, slot_coeffs, seg_times, drive, g_ref, options.cyclic, substeps)
+        here = None if contact is None else _contact_nodes(contact, lo, hi, slots)
+        offsets, sweeps, _ = integrate(slots, slot_coeffs, seg_times, drive, g_ref, options.cyclic, substeps, here)
         passes = max(passes, sweeps)
         world[lo:hi] = offsets[:, slots.slot]
     # joint rotation in world axes, R(psi_p)^T R(psi_c), then in the bone's own axes
@@ -226,7 +232,7 @@ def _segment_drive(slots, times, heads, rots, parents, accel, alpha, g_ref, cycl
     animated bone directions, apparent gravity at the heads [m/s^2], angular
     accelerations [rad/s^2] and each head's offset from its parent's head [m]."""
     levers = np.where((parents >= 0)[None, :, None], heads - heads[:, np.maximum(parents, 0)], 0.0)
-    per_frame = {"directions": rots[:, :, :, 1], "g_eff": accel, "alpha": alpha, "levers": levers}
+    per_frame = {"directions": rots[:, :, :, 1], "g_eff": accel, "alpha": alpha, "levers": levers, "heads": heads}
     drive = {}
     for name, value in per_frame.items():
         drive[name] = slots.to_slots(value)
@@ -237,6 +243,30 @@ def _segment_drive(slots, times, heads, rots, parents, accel, alpha, g_ref, cycl
     for name in ("directions", "directions_mid"):
         drive[name][:, padding, 1] = 1.0  # unused slots get any unit direction
     return drive
+
+
+def _contact_arrays(colliders, frames, bones, substeps, g_ref):
+    """Checked collider arrays, or None without colliders."""
+    if colliders is None:
+        return None
+    if not isinstance(colliders, Colliders):
+        raise InvalidGoalError(f"colliders must be Colliders, got {type(colliders).__name__}; build one with Colliders(...)")
+    if substeps != 1:
+        raise InvalidGoalError(f"body contact is held at the frames and halfway between them, so it needs substeps 1, got {substeps}")
+    starts, ends, radii, ground, lengths = colliders.checked(frames, bones)
+    gnorm = float(np.linalg.norm(g_ref))
+    up = -g_ref / gnorm if gnorm > 0.0 else np.array([0.0, 0.0, 1.0])
+    return {"starts": starts, "ends": ends, "radii": radii, "ground": ground, "up": up, "lengths": lengths}
+
+
+def _contact_nodes(contact, lo, hi, slots):
+    """The colliders of samples ``lo:hi`` at the frames, then halfway between (linear)."""
+    out = dict(contact)
+    for name in ("starts", "ends"):
+        seg = contact[name][lo:hi]
+        out[name] = np.concatenate([seg, 0.5 * (seg[:-1] + seg[1:])])
+    out["lengths"] = slots.to_slots(contact["lengths"][:, None])[:, 0]
+    return out
 
 
 def _check_options(options, frames):

@@ -67,6 +67,7 @@ of a general class of recurrence equations", IEEE Trans. Computers C-22(8):786-7
 import numpy as np
 
 from .affine_runs import compose_pairs, periodic_start, run_affine
+from .contacts import hold_outside
 from .chain_mechanics import bob_inertia, chain_loads, chain_matrices, generalized_forces, turned
 from .samples import refine_drive
 from .slots import ChainSlots, limit_joints
@@ -103,7 +104,7 @@ def _error_left(changes):
     return changes[-1] * rate / (1.0 - rate) if rate < 1.0 else np.inf
 
 
-def integrate(slots, coefficients, times, drive, g_ref, cyclic=False, substeps=1):
+def integrate(slots, coefficients, times, drive, g_ref, cyclic=False, substeps=1, contact=None):
     """Offsets of every chain over the sampled drive, starting from rest (or periodic).
 
     Parameters
@@ -127,6 +128,9 @@ def integrate(slots, coefficients, times, drive, g_ref, cyclic=False, substeps=1
         Start in the periodic state (the last sample is the first one's moment).
     substeps : int
         Exact steps per frame interval.
+    contact : dict, optional
+        Colliders at the nodes, for :func:`.contacts.hold_outside` (needs ``heads``
+        in the drive).
 
     Returns
     -------
@@ -166,6 +170,8 @@ def integrate(slots, coefficients, times, drive, g_ref, cyclic=False, substeps=1
             break
         # the next sweep's force sees joints held within their limits
         new = limit_joints(new, slots, coeffs["limit"])
+        if contact is not None:  # and every tip outside the body and above the ground
+            new = hold_outside(new, slots, forcing, contact)
         change = float(np.max(np.abs(new[:, :frames] - psi[:, :frames]))) if new.size else 0.0
         psi, rates, accel = new, new_rates, new_accel
         if best is None or change <= best[0]:
@@ -190,6 +196,8 @@ def _chain_setup(slots, coefficients, drive, g_ref):
     d0 = first(drive["directions"], mids)
     forcing = {"d0": d0, "ge": first(drive["g_eff"], drive["g_eff_mid"]), "al": first(drive["alpha"], drive["alpha_mid"]),
                "levers": first(drive["levers"], drive["levers_mid"]), "g_ref": g_ref}
+    if "heads" in drive:
+        forcing["heads"] = first(drive["heads"], drive["heads_mid"])
     coeffs = dict(coefficients)
     used = np.zeros(slots.trees * slots.size, dtype=bool)
     used[slots.slot] = True

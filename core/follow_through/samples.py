@@ -321,7 +321,7 @@ def refine_drive(times, drive, substeps):
     h = np.diff(times)
     fine_t = np.concatenate([(times[:-1, None] + w[None, :] * h[:, None]).ravel(), times[-1:]])
     out = {}
-    for name in ("directions", "g_eff", "alpha", "levers"):
+    for name in ("directions", "g_eff", "alpha", "levers", "heads"):
         s, m, e = drive[name][:-1], drive[name + "_mid"], drive[name][1:]
         nodes = at(s, m, e, w).reshape((-1,) + s.shape[1:])
         out[name] = np.concatenate([nodes, drive[name][-1:]])
