@@ -38,7 +38,7 @@ Featherstone, R. 2008, "Rigid Body Dynamics Algorithms", Springer, ch. 5
 
 import numpy as np
 
-__all__ = ["ChainMatrices", "bob_inertia", "chain_loads", "chain_matrices", "generalized_forces", "turned"]
+__all__ = ["ChainMatrices", "bob_inertia", "chain_loads", "chain_matrices", "generalized_forces", "per_tree_product", "turned"]
 
 
 def turned(px, py, pz, v):
@@ -127,15 +127,19 @@ class ChainMatrices:
 
     def to_modes(self, values):
         """Physical (..., trees * n) generalized forces to modal ones (``modes^T f``)."""
-        trees, n = self.modes.shape[:2]
-        per_tree = values.reshape(values.shape[:-1] + (trees, 1, n))
-        return (per_tree @ self.modes).reshape(values.shape)
+        return per_tree_product(np.swapaxes(self.modes, -1, -2), values)
 
     def from_modes(self, values):
         """Modal coordinates (..., trees * n) to offsets (``modes q``)."""
-        trees, n = self.modes.shape[:2]
-        per_tree = values.reshape(values.shape[:-1] + (trees, n, 1))
-        return (self.modes[..., :, :] @ per_tree).reshape(values.shape)
+        return per_tree_product(self.modes, values)
+
+
+def per_tree_product(matrices, values):
+    """``matrices`` (trees, n, n) times per-slot values (..., trees * n), tree by tree:
+    one matrix product per tree over every node and component at once."""
+    trees, n = matrices.shape[:2]
+    stacked = values.reshape(-1, trees, n).transpose(1, 2, 0)  # (trees, n, rest)
+    return (matrices @ stacked).transpose(2, 0, 1).reshape(values.shape)
 
 
 def chain_matrices(coeffs, levers, slots):

@@ -68,7 +68,7 @@ import numpy as np
 
 from .affine_runs import compose_pairs, periodic_start, run_affine
 from .contacts import hold_outside
-from .chain_mechanics import bob_inertia, chain_loads, chain_matrices, generalized_forces, turned
+from .chain_mechanics import bob_inertia, chain_loads, chain_matrices, generalized_forces, per_tree_product, turned
 from .samples import refine_drive
 from .slots import ChainSlots, limit_joints
 from .steps import expm_batched, oscillator_steps
@@ -228,9 +228,7 @@ def _nodal_forces(state, forcing, coeffs, mats, slots, stiff, off_c):
 
 def _per_tree(matrices, values):
     """``matrices`` (trees, n, n) times per-slot values (..., trees * n)."""
-    trees, n = matrices.shape[:2]
-    per_tree = values.reshape(values.shape[:-1] + (trees, n, 1))
-    return (matrices @ per_tree).reshape(values.shape)
+    return per_tree_product(matrices, values)
 
 
 def _times_mass(mats, values):
@@ -261,10 +259,8 @@ def _modal_weight_stiffness(d, forcing, coeffs, mats, slots):
         w = pulled[:, :, level]
         np.add.at(total, (slice(None), p), e[0] * w[0] + e[1] * w[1] + e[2] * w[2])
         np.add.at(pulled, (slice(None), slice(None), p), pulled[:, :, level])
-    trees, n = mats.modes.shape[:2]
     squared = mats.modes * mats.modes  # (trees, a, m)
-    per_tree = total.reshape(-1, trees, 1, n)
-    return (per_tree @ squared).reshape(total.shape)
+    return per_tree_product(np.swapaxes(squared, -1, -2), total)
 
 
 def _path_of(states, nodal, k_net, c, h, mats):
