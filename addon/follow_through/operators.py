@@ -11,6 +11,7 @@ import bpy
 from bpy.props import EnumProperty, StringProperty
 
 from . import bake as lag_bake
+from ..rig import verify
 from ..core.base.errors import LeapwrightError
 from .settings import PRESET_ITEMS
 
@@ -107,8 +108,13 @@ class LEAPWRIGHT_OT_bake_lag(bpy.types.Operator):
         peaks = lag_bake.degrees(work.peaks)
         context.scene.leapwright_follow_through.readout = json.dumps(peaks)
         top = max(peaks, key=peaks.get)
-        self.report({"INFO"}, f"Baked {len(peaks)} bones, {work.keys} keys on {lag_bake.TRACK}; "
-                              f"largest swing {peaks[top]:.1f}° ({top})")
+        unplayed = verify.unplayed_keys(context.scene, rig, list(peaks), request.frame_start, request.frame_end)
+        played = [b for b in peaks if not any(f"'{b}'" in u for u in unplayed)]
+        self.report({"INFO"} if played else {"WARNING"},
+                    f"Baked {len(peaks)} bones, {work.keys} keys on {lag_bake.TRACK}; " +
+                    (f"largest swing {peaks[top]:.1f}° ({top})" if played else "none of them plays"))
+        for problem in unplayed:
+            self.report({"WARNING"}, problem)
         return {"FINISHED"}
 
 

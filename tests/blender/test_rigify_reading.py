@@ -73,7 +73,7 @@ def test_body_model_weighs_the_generated_rig_without_a_hand_made_map(generated):
 
 def test_profile_names_the_controls_that_move_the_deform_skeleton(generated):
     profile = addon().rig.profile.known(generated)
-    assert profile["body"] == "torso" and profile["whole"] == "root"
+    assert profile["body"] == "torso" and profile["whole"] == "root" and profile["legs"] == "stretch"
     for side in "LR":
         assert profile[f"foot.{side}"] == f"foot_ik.{side}"
         assert profile[f"hand.{side}"] == f"hand_ik.{side}"
@@ -159,3 +159,16 @@ def test_unreadable_rig_message_has_no_code_names():
     assert "fill in the bone map" in text
     for code in ("map_by_hand", "mass_model_from_bone_masses", "dict", "{'"):
         assert code not in text
+
+
+def test_find_rig_controls_fills_in_the_character_and_keeps_the_profile_on_the_rig(generated):
+    scene = bpy.context.scene
+    s = _settings(scene)
+    s.rig = generated
+    before = [tuple(pb.location) + tuple(pb.rotation_quaternion) for pb in generated.pose.bones]
+    assert bpy.ops.leapwright.find_rig_controls() == {"FINISHED"}
+    assert (s.com_bone, s.foot_left, s.foot_right) == ("torso", "foot_ik.L", "foot_ik.R")
+    text = generated[addon().rig.profile.PROFILE_PROPERTY]
+    assert "body=torso" in text and "hand.L=hand_ik.L" in text and "legs=stretch" in text
+    # the trial moves put every control back
+    assert [tuple(pb.location) + tuple(pb.rotation_quaternion) for pb in generated.pose.bones] == before
