@@ -83,6 +83,6 @@ def read_body(rig):
     reason = getattr(first, "reason", None)
     if reason is None:
         raise BodyError(f"'{rig.name}': {first}") from None
-    raise BodyError(f"'{rig.name}': the bones could not be read as a body ({reason}); fill in the bone map "
+    raise BodyError(f"'{rig.name}': the bones could not be read as a body ({reason}); map the bones by hand: fill in the bone map "
                     "below (which bone is each joint), or check that the rest pose stands upright in a T or "
                     "A pose") from None

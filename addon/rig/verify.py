@@ -320,3 +320,55 @@ def unplayed_keys(scene, rig, bones, first_frame, last_frame):
                 "switched off, e.g. FK controls of an arm in IK?); key the control that moves the mesh, or "
                 "switch the rig over" for b in moving]
     return out
+
+
+def limb_stretch_findings(scene, rig, frames):
+    """Stretches of the deform legs and arms beyond their rest length, as checker findings.
+
+    Returns
+    -------
+    list of (kind, first frame, last frame, message, suggestion)
+    """
+    if rig is None or rig.type != "ARMATURE":
+        return []
+    try:
+        rest, marks = rig_skeleton.read_body(rig)
+    except rig_skeleton.BodyError:
+        return []
+    frames = np.asarray(frames, float)
+    limbs = [("leg", s, ("hip", "knee", "ankle")) for s in "LR"] + [("arm", s, ("shoulder", "elbow", "wrist"))
+                                                                     for s in "LR"]
+    keys = sorted({f"{j}.{s}" for _, s, joints in limbs for j in joints})
+    bones = sorted({marks.bone_names[b] for k in keys for b, _ in marks.points[k]})
+    col = {n: i for i, n in enumerate(bones)}
+    mats, _ = sampling.sample_pose_world(scene, rig, frames, bones)
+    lengths = np.array([rig.data.bones[n].length for n in bones])
+    pts = {k: _points(mats, lengths, [(col[marks.bone_names[b]], e) for b, e in marks.points[k]]) for k in keys}
+    scale = float(np.cbrt(abs(np.linalg.det(np.array(rig.matrix_world.to_3x3())))))
+    out = []
+    for limb, side, (a, b, c) in limbs:
+        ia, ib, ic = (marks.points[f"{j}.{side}"][0][0] for j in (a, b, c))
+        rest_len = (np.linalg.norm(rest.heads[ib] - rest.heads[ia]) + np.linalg.norm(rest.heads[ic] - rest.heads[ib]))
+        stretch = playback.leg_stretch(pts[f"{a}.{side}"], pts[f"{b}.{side}"], pts[f"{c}.{side}"], rest_len * scale)
+        over = stretch > playback.STRETCH_TOLERANCE
+        word = {"L": "left", "R": "right"}[side]
+        for first, last in _runs(over):
+            worst = first + int(np.argmax(stretch[first:last + 1]))
+            fix = ("lift the heel (roll the foot onto its toes) or lower the body there" if limb == "leg" else
+                   "bring the hand control along with the body, or switch the arm to FK")
+            out.append((f"{limb} stretch", float(frames[first]), float(frames[last]),
+                        f"the {word} {limb} is up to {100 * stretch[worst]:.1f} % longer than at rest "
+                        f"(frame {frames[worst]:.0f}): the rig stretches its bones", fix))
+    return out
+
+
+def _runs(mask):
+    """(first, last) index pairs of the runs of True in ``mask``."""
+    out, start = [], None
+    for i, m in enumerate(list(mask) + [False]):
+        if m and start is None:
+            start = i
+        elif not m and start is not None:
+            out.append((start, i - 1))
+            start = None
+    return out

@@ -158,3 +158,28 @@ def test_removal_restores_the_rigify_file_exactly():
     assert bpy.ops.leapwright.write_plan() == {"FINISHED"}
     assert bpy.ops.leapwright.remove_plan() == {"FINISHED"}
     assert snapshot() == before
+
+
+def test_check_jump_reports_the_deform_legs_stretching():
+    # Written without foot controls, Rigify's IK feet stay on the floor while the body rises:
+    # its IK stretches the leg bones. Measured here from the deform bones, then read from
+    # Check Jump's findings.
+    rig = rigify_rig.load_generated_rig()
+    _configure(rig, feet=("", ""))
+    assert bpy.ops.leapwright.write_plan() == {"FINISHED"}
+    scene = bpy.context.scene
+    plan, _ = addon().plan.link.plan_for(scene)
+    scene.frame_start = _settings(scene).start_frame
+    scene.frame_end = scene.frame_start + int(plan.duration_s * scene.render.fps)
+    frames = np.arange(scene.frame_start, scene.frame_end + 1)
+    heads, _ = _deform_world(rig, frames, ["DEF-thigh.L", "DEF-shin.L", "DEF-foot.L"])
+    rest = rig.data.bones
+    rest_len = ((rest["DEF-shin.L"].head_local - rest["DEF-thigh.L"].head_local).length
+                + (rest["DEF-foot.L"].head_local - rest["DEF-shin.L"].head_local).length)
+    length = np.linalg.norm(heads[:, 1] - heads[:, 0], axis=1) + np.linalg.norm(heads[:, 2] - heads[:, 1], axis=1)
+    assert length.max() / rest_len > 1.03  # the measured truth: more than 3 % longer
+    assert bpy.ops.leapwright.check_jump() == {"FINISHED"}
+    found = [(f.kind, f.message) for f in scene.leapwright_check.findings if f.kind == "leg stretch"]
+    assert any("left leg" in m for _k, m in found) and any("right leg" in m for _k, m in found)
+    worst = max(float(m.split("up to ")[1].split(" %")[0]) for _k, m in found if "left leg" in m)
+    assert worst == pytest.approx(100 * (length.max() / rest_len - 1.0), abs=0.2)
