@@ -26,7 +26,7 @@ from ..blender.curves import CurveSpec, Timeline
 from ..core.arms.swing import SwingAmplitudes, place_swing
 from ..core.arms.elbow import BentArmSwing, elbow_bend_keys, elbow_rotations
 from ..core.base.errors import LeapwrightError
-from ..core.rig.facing import faced_rig
+from ..rig import profile as rig_profile
 from ..core.arms.plane import bone_local_rotations, quaternion_keys, swing_plane, swing_rotations
 
 CAPABILITY = "arms"
@@ -69,26 +69,44 @@ def bone_path(name):
 
 
 def suggested_arms(rig):
-    """``{'left': (upper arm, forearm), 'right': (...)}`` from the bone tree (names never read).
+    """``{'left': (upper arm, forearm), 'right': (...)}``: the bones to key to swing each arm.
 
-    No armature axis is taken as the character's side: the side-to-side line is the
-    normal of the rest pose's mirror plane (:func:`core.rig.facing.faced_rig`), made exact by the
-    rest shoulders the bone tree then gives, and which end is left comes from the
-    feet, which point forward (left = up x forward, right-handed).
+    The arms are found on the deform skeleton from the bone tree (names never read; sides
+    from the rest pose, :func:`rig.skeleton.read_body`), then the controls that turn them
+    from the rig's profile (:mod:`rig.profile`): on a rig of controls those are keyed,
+    never the deform bones a constraint sets.
 
     Raises
     ------
-    SwingError  when the tree does not read as a humanoid; the message says how to pick bones.
+    SwingError  when the tree does not read as a humanoid, or an arm follows an IK hand
+        (no control turns it); the message says what to do.
     """
     name = getattr(rig, "name", rig)
     try:
-        rest, marks = faced_rig(body_com.rig_data(rig))
-    except (body_com.BodyError, LeapwrightError) as exc:
+        rest, marks = body_com.read_body(rig)
+    except body_com.BodyError as exc:
         raise SwingError(f"no arms found from the bone tree of '{name}' ({exc}); "
                          "pick the upper-arm bones by hand") from None
     names = rest.names
-    return {side: (names[marks.points[f"shoulder.{s}"][0][0]], names[marks.points[f"elbow.{s}"][0][0]])
-            for side, s in zip(SIDES, "LR")}
+    out = {}
+    for side, s in zip(SIDES, "LR"):
+        upper, fore = (names[marks.points[f"{j}.{s}"][0][0]] for j in ("shoulder", "elbow"))
+        if not (rig.pose.bones[upper].constraints or rig.pose.bones[fore].constraints):
+            out[side] = (upper, fore)  # the arm's own bones are posed directly
+            continue
+        profile = rig_profile.known(rig)
+        if not profile.get(f"upper_arm.{s}"):
+            profile = rig_profile.refind(rig)  # the arm may have been switched to FK since
+        if profile.get(f"upper_arm.{s}"):
+            out[side] = (profile[f"upper_arm.{s}"], profile.get(f"forearm.{s}", ""))
+        else:
+            hand = profile.get(f"hand.{s}")
+            how = (f"it follows its IK hand control '{hand}'" if hand else
+                   f"no control found turns it (its bone '{upper}' is set by a constraint)")
+            raise SwingError(f"the {side} arm cannot be swung by turning bones: {how}; switch the {side} arm "
+                             "to FK in the rig's own settings (its IK-FK switch), then press Find Arm Bones "
+                             "again")
+    return out
 
 
 def chosen_arms(rig, settings):

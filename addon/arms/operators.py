@@ -11,7 +11,7 @@ import bpy
 from ..blender import scene_units
 from ..blender import ownership
 from ..plan import link as plan_link
-from ..rig import space as rig_space
+from ..rig import space as rig_space, verify
 from . import keys as arm_keys, retime
 from ..core.base.errors import LeapwrightError
 from ..core.arms.timing import plan_swing_report
@@ -135,6 +135,11 @@ class LEAPWRIGHT_OT_place_arm_swing(_KeyWritingOperator, bpy.types.Operator):
                               f"elevation peaks at take-off, frame {frame(off):.1f}")
         for line in lines[1:]:
             self.report({"INFO"}, line)
+        frames = [f for spec in work.specs for f in (spec.frames[0], spec.frames[-1])]
+        for problem in verify.unplayed_keys(scene, rig, [b for a in work.arms for b in a.bones],
+                                            min(frames), max(frames)):
+            self.report({"WARNING"}, problem)
+            LAST[rig.name].append((problem, "ERROR"))
         return {"FINISHED"}
 
 

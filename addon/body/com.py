@@ -22,34 +22,13 @@ import numpy as np
 
 from ..blender import scene_units
 from ..rig import sampling as rig_sampling
+from ..rig.skeleton import BodyError, read_body, rig_data, skeletons  # noqa: F401  (the body's reading)
 from ..core.body import mass as bm
 from ..core.base.errors import LeapwrightError
-from ..core.rig.facing import faced_rig
-from ..core.body.segment_tables import TABLES
+from ..core.body.segment_tables import LANDMARKS, SIDED_LANDMARKS, TABLES
 
 MAP_PROPERTY = "lw_body_map"
 MASS_PROPERTY = "lw_bone_masses"
-
-
-class BodyError(Exception):
-    """The rig cannot be read as a body; the message says how to fix it."""
-
-
-def rig_data(rig):
-    """:class:`core.body.mass.RigData` of an armature's rest pose [BU, armature space].
-
-    Up is the armature's Z (Blender's convention); which way the character faces is
-    read from the rest pose where it matters (:func:`core.rig.facing.faced_rig`).
-    """
-    if rig is None or rig.type != "ARMATURE":
-        what = "nothing" if rig is None else f"'{rig.name}' (a {rig.type.lower()})"
-        raise BodyError(f"the body's centre of mass needs an armature, got {what}; pick the character's "
-                        "armature under Character")
-    names, parents, heads, tails = rig_sampling.bone_rest_data(rig)
-    try:
-        return bm.RigData(names, parents, heads, tails)
-    except LeapwrightError as exc:
-        raise BodyError(str(exc)) from None
 
 
 def _pairs(text):
@@ -66,10 +45,31 @@ def _pairs(text):
         if not item.strip():
             continue
         key, sep, value = item.partition("=")
-        if not sep or not key.strip() or not value.strip():
+        if not sep or not key.strip():
             raise BodyError(f"{item.strip()!r} is not a key=value pair; write e.g. 'shoulder.L=upper_arm.L'")
-        out[key.strip()] = value.strip()
+        out[key.strip()] = value.strip()  # an empty value is a blank of a fill-in map
     return out
+
+
+def fill_in_text(rig):
+    """A bone map with every joint named and its bone left blank, for a rig that cannot be read.
+
+    Joints the tree alone gives a guess for are not known here, so every blank is the
+    animator's to fill: the head of the bone at each joint (``@tail`` for a bone's tip,
+    ``+`` to average two).
+    """
+    keys = [n for base in LANDMARKS for n in ((f"{base}.L", f"{base}.R") if base in SIDED_LANDMARKS else (base,))]
+    return "; ".join(f"{k}=" for k in keys)
+
+
+def _filled(pairs):
+    """The map's pairs, or a BodyError naming the joints still blank."""
+    blank = [k for k, v in pairs.items() if not v]
+    if blank:
+        raise BodyError(f"the bone map still needs a bone for {len(blank)} joint(s): {', '.join(blank[:8])}"
+                        f"{' ...' if len(blank) > 8 else ''}; write the bone whose head sits at each joint "
+                        "(add @tail for a bone's tip)")
+    return pairs
 
 
 def map_text(landmarks):
@@ -93,21 +93,6 @@ def _masses(rig_rest, text):
     return masses, groups
 
 
-def _found_landmarks(rest):
-    """Landmarks from the bone tree, the rig's facing read from its rest pose.
-
-    A rig whose symmetry or feet do not tell its facing is read in Blender's
-    convention (left on +X, facing -Y) before giving up.
-    """
-    try:
-        return faced_rig(rest)[1]
-    except LeapwrightError as facing_problem:
-        try:
-            return bm.map_by_topology(rest)
-        except LeapwrightError:
-            raise facing_problem from None
-
-
 def body_model(rig, table="de_leva_male"):
     """The rig's mass model and how it was found.
 
@@ -128,19 +113,19 @@ def body_model(rig, table="de_leva_male"):
         No armature, an unreadable rig without a map, or a map or mass list that does
         not fit the rig; the message says how to fix it.
     """
-    rest = rig_data(rig)
     if table not in TABLES:
         raise BodyError(f"unknown segment table {table!r}; choose one of {', '.join(TABLES)}")
     try:
         masses = rig.get(MASS_PROPERTY)
+        manual = rig.get(MAP_PROPERTY)
         if isinstance(masses, str) and masses.strip():
+            rest = skeletons(rig)[-1]  # the whole rig: masses may sit on any bone
             m, groups = _masses(rest, masses)
             return bm.mass_model_from_bone_masses(rest, m, 0.5, groups), None, "per-bone masses"
-        manual = rig.get(MAP_PROPERTY)
         if isinstance(manual, str) and manual.strip():
-            marks, how = bm.map_by_hand(rest, _pairs(manual)), "set by hand"
+            marks, how = bm.map_by_hand(skeletons(rig)[-1], _filled(_pairs(manual))), "set by hand"
         else:
-            marks, how = _found_landmarks(rest), "found from the bone tree"
+            marks, how = read_body(rig)[1], "found from the bone tree"
         return bm.mass_model(marks, table), marks, how
     except LeapwrightError as exc:
         raise BodyError(f"'{rig.name}': {exc}") from None

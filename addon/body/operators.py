@@ -124,7 +124,8 @@ class LEAPWRIGHT_OT_remove_body_arc(bpy.types.Operator):
 
 
 class LEAPWRIGHT_OT_edit_body_map(bpy.types.Operator):
-    """Copy the bone-to-body map found from the bone tree into the rig, to edit it by hand"""
+    """Copy the bone-to-body map found from the bone tree into the rig to edit it, or, when the tree
+    cannot be read, put a map to fill in there (every joint, its bone blank)"""
 
     bl_idname = "leapwright.edit_body_map"
     bl_label = "Edit Bone Map"
@@ -140,15 +141,20 @@ class LEAPWRIGHT_OT_edit_body_map(bpy.types.Operator):
         try:
             _model, marks, _how = body_com.body_model(rig, context.scene.leapwright_body.table)
         except body_com.BodyError as exc:
-            self.report({"ERROR"}, str(exc))
-            return {"CANCELLED"}
+            if body_com.MAP_PROPERTY in rig or body_com.MASS_PROPERTY in rig:
+                self.report({"ERROR"}, str(exc))
+                return {"CANCELLED"}
+            rig[body_com.MAP_PROPERTY] = body_com.fill_in_text(rig)
+            self.report({"INFO"}, f"'{rig.name}': a bone map to fill in is under Bones to body segments: write "
+                                  "the bone at each joint")
+            return {"FINISHED"}
         if marks is None:
             self.report({"ERROR"}, f"'{rig.name}' uses per-bone masses ({body_com.MASS_PROPERTY}); "
                                    "delete that property to map bones to segments")
             return {"CANCELLED"}
         rig[body_com.MAP_PROPERTY] = body_com.map_text(marks)
-        self.report({"INFO"}, f"the bone map is now in '{rig.name}'['{body_com.MAP_PROPERTY}']; "
-                              "edit it in the Leapwright panel")
+        self.report({"INFO"}, f"the bone map of '{rig.name}' is now under Bones to body segments in the "
+                              "Leapwright panel, to edit")
         return {"FINISHED"}
 
 

@@ -66,7 +66,8 @@ def _draw_map(box, rig, table):
     except body_com.BodyError as exc:
         for i, line in enumerate(wrap_text(str(exc))):
             box.label(text=line, icon="ERROR" if i == 0 else "BLANK1")
-        box.operator("leapwright.edit_body_map", icon="GREASEPENCIL")
+        if body_com.MAP_PROPERTY not in rig:
+            box.operator("leapwright.edit_body_map", text="Fill In Bone Map", icon="GREASEPENCIL")
         return
     col = box.column(align=True)
     col.label(text=f"{len(model.segment_names)} segments, {how}")

@@ -17,7 +17,7 @@ from bpy.props import IntProperty
 from ..blender import scene_units
 from . import path as checked_path, overlay as path_overlay
 from ..blender import ownership
-from ..rig import space as rig_space
+from ..rig import space as rig_space, verify
 from ..body.com import BodyError
 from ..blender.curves import MEASURED_PROPERTY, CurveSpec
 from ..core.check.analysis import analyse_trajectory
@@ -84,6 +84,7 @@ class LEAPWRIGHT_OT_check_jump(bpy.types.Operator):
         except LeapwrightError as exc:
             self.report({"ERROR"}, str(exc))
             return {"CANCELLED"}
+        stretched = verify.limb_stretch_findings(scene, rig, np.arange(scene.frame_start, scene.frame_end + 1))
         weight = CurveSpec(f'["{MEASURED_PROPERTY}"]', 0, np.asarray(result.frames, float),
                            np.asarray(result.force_bw, float), np.zeros(len(result.frames)), "LINEAR")
 
@@ -99,6 +100,10 @@ class LEAPWRIGHT_OT_check_jump(bpy.types.Operator):
             item = settings.findings.add()
             item.kind, item.message, item.suggestion = f.kind, f.message, f.suggestion
             item.first_frame, item.last_frame = int(round(f.first_frame)), int(round(f.last_frame))
+        for kind, first, last, message, suggestion in stretched:  # read from the deform bones
+            item = settings.findings.add()
+            item.kind, item.message, item.suggestion = kind, message, suggestion
+            item.first_frame, item.last_frame = int(round(first)), int(round(last))
         if settings.add_markers:
             for p in result.phases:
                 scene.timeline_markers.new(MARKER_PREFIX + p.name, frame=int(p.first_frame))
@@ -106,13 +111,16 @@ class LEAPWRIGHT_OT_check_jump(bpy.types.Operator):
         settings.implied_gravity = float("nan") if g is None else g
         settings.summary = (f"{path.text}: {len(result.flights)} flight(s), implied g "
                             + (f"{g:.3f} m/s²" if g is not None else "none (nothing ballistic)")
-                            + f" against the jump's {gravity:.4g} m/s², {len(result.findings)} finding(s)")
+                            + f" against the jump's {gravity:.4g} m/s², "
+                            f"{len(result.findings) + len(stretched)} finding(s)")
         path_overlay.remember_check(frames, points, result, fps, scene_units.metres_per_unit(scene))
         if path_overlay.is_drawing():
             path_overlay.refresh(scene)
         self.report({"INFO"}, settings.summary)
         for f in result.findings:
             self.report({"WARNING"}, f"{f.kind} frames {f.first_frame:.0f}-{f.last_frame:.0f}: {f.message}")
+        for kind, first, last, message, _fix in stretched:
+            self.report({"WARNING"}, f"{kind} frames {first:.0f}-{last:.0f}: {message}")
         return {"FINISHED"}
 
 

@@ -15,6 +15,7 @@ from bpy.props import EnumProperty, StringProperty
 
 from . import bake as follow_bake
 from .bake_job import BakeJob
+from ..rig import verify
 from ..core.base.errors import LeapwrightError
 from .settings import PRESET_ITEMS
 
@@ -137,8 +138,13 @@ class LEAPWRIGHT_OT_bake_follow_through(bpy.types.Operator):
         context.scene.leapwright_follow_through.readout = json.dumps(peaks)
         top = max(peaks, key=peaks.get)
         kept = " (motion kept from the last bake)" if job.reused else ""
-        self.report({"INFO"}, f"Baked {len(peaks)} bones, {work.keys} keys on {follow_bake.TRACK}{kept}; "
-                              f"largest swing {peaks[top]:.1f}° ({top})")
+        unplayed = verify.unplayed_keys(context.scene, job.rig, list(peaks), job.request.frame_start, job.request.frame_end)
+        played = [b for b in peaks if not any(f"'{b}'" in u for u in unplayed)]
+        self.report({"INFO"} if played else {"WARNING"},
+                    f"Baked {len(peaks)} bones, {work.keys} keys on {follow_bake.TRACK}{kept}; " +
+                    (f"largest swing {peaks[top]:.1f}° ({top})" if played else "none of them plays"))
+        for problem in unplayed:
+            self.report({"WARNING"}, problem)
         return {"FINISHED"}
 
 

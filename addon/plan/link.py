@@ -13,13 +13,14 @@ import math
 
 from ..blender.scene_units import exact_gravity, metres_per_unit, scene_fps
 from ..core.base.errors import LeapwrightError
-from ..core.plan.goals import JumpGoals
+from ..core.plan.goals import DEFAULT_TAKEOFF_EXTENSION, JumpGoals
 from ..core.plan.planner import plan_jump
 
 #: Plans kept per file session (the most recently used; a drag back and forth re-plans nothing).
 RECENT = 64
 
 _CACHE: dict = {}  # (scene pointer, key) -> (plan or None, readout dict), oldest first
+_LEG_LIMITS: dict = {}  # (rig, profile, placement, unit) -> take-off rise the legs reach [m]
 
 
 def goals_from(settings, scene):
@@ -38,6 +39,9 @@ def goals_from(settings, scene):
     if settings.custom_timing:
         timing = {"depth": settings.depth * m, "dip_duration": settings.dip_duration,
                   "push_duration": settings.push_duration, "landing_duration": settings.landing_duration}
+    limit = leg_limit(settings, scene)
+    if limit is not None:
+        timing["takeoff_extension"] = min(DEFAULT_TAKEOFF_EXTENSION, limit)
     return JumpGoals(standing_com_height=settings.standing_com_height * m, distance=settings.distance * m,
                      landing_height=settings.landing_height * m, weighing_duration=settings.weighing_duration,
                      gravity=exact_gravity(settings.gravity), hops=int(settings.hops),
@@ -45,11 +49,34 @@ def goals_from(settings, scene):
                      **aim, **timing)
 
 
+def leg_limit(settings, scene):
+    """How far the chosen rig's legs let the body rise on its toes at take-off [m], or None.
+
+    Only for a rig whose profile is known and says its legs stretch (:mod:`rig.profile`):
+    the plan's take-off extension is kept within it, so the written legs stay in reach.
+    """
+    from . import reach
+    from ..rig import profile as rig_profile
+    rig = getattr(settings, "rig", None)
+    if rig is None or rig.type != "ARMATURE":
+        return None
+    profile = rig_profile.known(rig, find=False)
+    if profile.get("legs") != "stretch":
+        return None
+    key = (rig.name, len(rig.data.bones), tuple(sorted(profile.items())), tuple(map(tuple, rig.matrix_world)),
+           metres_per_unit(scene))
+    if key not in _LEG_LIMITS:
+        _LEG_LIMITS.clear()  # one rig at a time: redraws cost one look-up
+        _LEG_LIMITS[key] = reach.takeoff_limit(rig, metres_per_unit(scene), profile)
+    return _LEG_LIMITS[key]
+
+
 def _key(settings, scene):
     names = ("goal", "height", "flight_time", "takeoff_speed", "distance", "landing_height", "hops",
              "gravity", "standing_com_height", "custom_timing", "depth", "dip_duration", "push_duration",
              "landing_duration", "weighing_duration", "fall_gravity_scale", "apex_hang")
-    return tuple(getattr(settings, n) for n in names) + (metres_per_unit(scene), scene_fps(scene))
+    return tuple(getattr(settings, n) for n in names) + (metres_per_unit(scene), scene_fps(scene),
+                                                          leg_limit(settings, scene))
 
 
 def plan_for(scene):

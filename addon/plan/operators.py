@@ -15,11 +15,13 @@ from ..blender import scene_units
 from . import blocking_pass as bp
 from ..blender import ownership
 from ..blender.curves import MEASURED_PROPERTY, Timeline
-from . import link as plan_link, root_motion
-from ..rig import space as rig_space
+from . import hands, link as plan_link, reach, root_motion
+from ..rig import space as rig_space, verify, profile as rig_profile, skeleton as rig_skeleton
 from ..core.base.errors import LeapwrightError
 
 CAPABILITY = "plan"
+#: Rig name -> lines of the last played-back comparison (shown in the panel; not saved).
+LAST_PLAYED = {}
 
 CONFLICT_ITEMS = (
     ("ASK", "Ask", "Stop and say which channels already have your keys"),
@@ -94,6 +96,8 @@ class LEAPWRIGHT_OT_write_plan(bpy.types.Operator):
         feet = [_unanimated(f, rig) for f in feet]
         if split.root is not None:
             split = replace(split, root=_unanimated(split.root, rig))
+        # the rig's profile first: whether its legs stretch shapes the plan (plan_link.leg_limit)
+        profile = rig_profile.known(rig) if any((s.foot_left, s.foot_right)) else {}
         plan, readout = plan_link.plan_for(scene)
         if plan is None:
             return None, readout["error"]
@@ -104,8 +108,13 @@ class LEAPWRIGHT_OT_write_plan(bpy.types.Operator):
                                        s.foot_tuck * m, as_delta=False)
         except LeapwrightError as exc:
             return None, str(exc)
+        heels, reach_notes = reach.heel_specs(rig, plan, timeline, forward, m, s.foot_tuck * m,
+                                              (s.foot_left, s.foot_right), profile, CAPABILITY)
+        hand_ch = [_unanimated(h, rig) for h in hands.hand_channels(rig, profile, s.com_bone)]
+        probe = probe + heels + hands.hand_curves(rig, split, plan, hand_ch, forward, m, timeline, s.key_style,
+                                                  as_delta=False)
         clashes = ownership.conflicts(rig, probe)
-        work = {"rig": rig, "plan": plan, "body": body, "feet": feet, "forward": forward, "m": m,
+        work = {"profile": profile, "reach_notes": reach_notes, "hands": hand_ch, "rig": rig, "plan": plan, "body": body, "feet": feet, "forward": forward, "m": m,
                 "timeline": timeline, "style": s.key_style, "tuck": s.foot_tuck * m, "clashes": clashes,
                 "specs": probe, "readout": readout, "split": split}
         return work, ""
@@ -142,6 +151,11 @@ class LEAPWRIGHT_OT_write_plan(bpy.types.Operator):
         if layered:
             specs = root_motion.curves(work["split"], plan, work["body"], work["feet"], work["forward"],
                                        work["m"], work["timeline"], work["style"], work["tuck"], as_delta=True)
+            s = context.scene.leapwright_plan
+            specs += reach.heel_specs(rig, plan, work["timeline"], work["forward"], work["m"], work["tuck"],
+                                      (s.foot_left, s.foot_right), work["profile"], CAPABILITY, as_delta=True)[0]
+            specs += hands.hand_curves(rig, work["split"], plan, work["hands"], work["forward"], work["m"],
+                                       work["timeline"], work["style"], as_delta=True)
         weight = bp.weight_curve(plan, work["timeline"])
         markers = bp.phase_markers(plan, work["timeline"])
 
@@ -164,11 +178,23 @@ class LEAPWRIGHT_OT_write_plan(bpy.types.Operator):
         how = " as a layer over your keys" if layered else (" over your keys" if clashes else "")
         self.report({"INFO"}, f"wrote {n_keys} keys on '{rig.name}'{how}: {len(hops)} hop(s), "
                               f"{hops[0].flight_time_s * work['timeline'].fps:.1f} frames in the air")
-        for w in work["readout"]["warnings"]:
+        for w in list(work["readout"]["warnings"]) + work["reach_notes"]:
             self.report({"WARNING"}, w)
         for note in work["readout"].get("stylisations", ()):
             self.report({"INFO"}, "stylised on purpose: " + note)
+        self._report_played(context, work)
         return {"FINISHED"}
+
+    def _report_played(self, context, work):
+        """Play what was written and say where it differs from the plan (:mod:`rig.verify`)."""
+        rig = work["rig"]
+        problems, summary = verify.played_plan(context.scene, rig, work["plan"], work["timeline"],
+                                               work["forward"], context.scene.leapwright_plan.com_bone,
+                                               work["profile"])
+        LAST_PLAYED[rig.name] = [summary] + problems
+        self.report({"INFO"}, summary)
+        for p in problems:
+            self.report({"WARNING"}, p)
 
 
 class LEAPWRIGHT_OT_remove_plan(bpy.types.Operator):
@@ -214,7 +240,49 @@ class LEAPWRIGHT_OT_use_active_bone(bpy.types.Operator):
         s.rig = obj
         bone = obj.data.bones.active
         s.com_bone = bone.name if bone is not None else ""
+        if bone is not None:
+            carries, better, what = rig_profile.body_check(obj, bone.name)
+            if carries is False and better:
+                s.com_bone = better
+                self.report({"WARNING"}, f"'{bone.name}' does not carry the upper body ({what}); using "
+                                         f"'{better}', which does, as the body bone")
+            elif carries is False:
+                self.report({"WARNING"}, f"'{bone.name}' does not carry the upper body ({what}); choose the "
+                                         "control that moves the hips, spine and head together")
         return {"FINISHED"}
 
 
-classes = (LEAPWRIGHT_OT_write_plan, LEAPWRIGHT_OT_remove_plan, LEAPWRIGHT_OT_use_active_bone)
+class LEAPWRIGHT_OT_find_rig_controls(bpy.types.Operator):
+    """Find which of the rig's controls carries the body, plants the feet, rolls the feet and moves the arms,
+    by trying each on the rig (the pose is put back); keep the result on the rig, to edit, and fill in
+    the body bone and the feet"""
+
+    bl_idname = "leapwright.find_rig_controls"
+    bl_label = "Find Rig Controls"
+    bl_options = {"REGISTER", "UNDO"}
+
+    @classmethod
+    def poll(cls, context):
+        s = _settings(context)
+        rig = s.rig if s is not None and s.rig is not None else context.active_object
+        return rig is not None and rig.type == "ARMATURE"
+
+    def execute(self, context):
+        s = context.scene.leapwright_plan
+        rig = s.rig or context.active_object
+        try:
+            profile = rig_profile.refind(rig)
+        except rig_skeleton.BodyError as exc:
+            self.report({"ERROR"}, str(exc))
+            return {"CANCELLED"}
+        rig_profile.save(rig, profile)
+        s.rig = rig
+        if profile.get("body"):
+            s.com_bone = profile["body"]
+        s.foot_left, s.foot_right = profile.get("foot.L", ""), profile.get("foot.R", "")
+        found = ", ".join(f"{k} {v}" for k, v in profile.items()) or "nothing"
+        self.report({"INFO"}, f"'{rig.name}': {found}")
+        return {"FINISHED"}
+
+
+classes = (LEAPWRIGHT_OT_find_rig_controls, LEAPWRIGHT_OT_write_plan, LEAPWRIGHT_OT_remove_plan, LEAPWRIGHT_OT_use_active_bone)

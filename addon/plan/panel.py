@@ -6,7 +6,8 @@ import bpy
 
 from ..blender.panel_parts import wrap_text
 
-from . import link as plan_link
+from . import link as plan_link, operators as plan_operators
+from ..rig import profile as rig_profile
 
 
 class LEAPWRIGHT_PT_plan(bpy.types.Panel):
@@ -58,7 +59,11 @@ class LEAPWRIGHT_PT_plan(bpy.types.Panel):
             box.prop_search(s, "foot_right", rig.data, "bones")
         else:
             box.prop(s, "com_bone")
-        box.operator("leapwright.use_active_bone", icon="BONE_DATA")
+        row = box.row(align=True)
+        row.operator("leapwright.use_active_bone", icon="BONE_DATA")
+        row.operator("leapwright.find_rig_controls", icon="VIEWZOOM")
+        if rig is not None and rig_profile.PROFILE_PROPERTY in rig:
+            box.prop(rig, f'["{rig_profile.PROFILE_PROPERTY}"]', text="Rig controls")
         box.prop(s, "standing_com_height")
         box.prop(s, "foot_tuck")
         box.prop(s, "forward")
@@ -81,6 +86,13 @@ class LEAPWRIGHT_PT_plan(bpy.types.Panel):
         row.scale_y = 1.4
         row.operator("leapwright.write_plan", icon="KEY_HLT")
         layout.operator("leapwright.remove_plan", icon="TRASH")
+        played = plan_operators.LAST_PLAYED.get(rig.name) if rig is not None else None
+        if played:
+            box = layout.box()
+            box.label(text="As it plays", icon="PLAY")
+            for k, text in enumerate(played):
+                for i, line in enumerate(wrap_text(text)):
+                    box.label(text=line, icon=("ERROR" if k else "CHECKMARK") if i == 0 else "BLANK1")
 
 
 def _draw_readout(box, scene):

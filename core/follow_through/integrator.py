@@ -143,7 +143,7 @@ def integrate(slots, coefficients, times, drive, g_ref, cyclic=False, substeps=1
     """
     if substeps > 1:
         times, drive = refine_drive(times, drive, substeps)
-    frames, steps = len(times), len(times) - 1
+    frames = len(times)
     h = np.diff(times)
     forcing, coeffs, mats = _chain_setup(slots, coefficients, drive, g_ref)
     d0 = forcing["d0"]

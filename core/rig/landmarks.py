@@ -23,6 +23,9 @@ UPRIGHT_COSINE = 0.8
 #: A hand must reach at least this fraction of the rig's height sideways from the
 #: midline in the rest pose (T or A pose) to be read as a hand (design choice).
 MIN_ARM_REACH = 0.1
+#: A toe bone points within this angle of the foot bone before it: cos(60 deg) (design
+#: choice; a heel bone across the foot is at about 90 deg).
+TOE_COSINE = 0.5
 #: Expected shoulder-elbow-wrist-fingertip proportions (Drillis & Contini, from memory).
 _ARM_PROPORTIONS = np.array([C.UPPER_ARM_LENGTH_FRACTION, C.FOREARM_LENGTH_FRACTION,
                              C.HAND_LENGTH_FRACTION])
@@ -153,9 +156,21 @@ def map_by_hand(rig, mapping):
     return Landmarks(rig.names, points)
 
 
+class RigLayoutError(LeapwrightError):
+    """The bone tree does not read as a humanoid; ``reason`` says what was not found.
+
+    The message adds how to map the bones in code (:data:`HOW_TO_MAP`); a panel shows
+    ``reason`` with its own fill-in bone map instead.
+    """
+
+    def __init__(self, reason):
+        self.reason = reason
+        super().__init__(f"cannot read the rig's layout: {reason}. Check that the rest pose stands "
+                         f"upright in a T or A pose with the given up and left axes, or {HOW_TO_MAP}")
+
+
 def _unreadable(reason):
-    return LeapwrightError(f"cannot read the rig's layout: {reason}. Check that the rest pose stands "
-                           f"upright in a T or A pose with the given up and left axes, or {HOW_TO_MAP}")
+    return RigLayoutError(reason)
 
 
 class _BoneTree:
@@ -260,7 +275,7 @@ def map_by_topology(rig):
     pts["neck_base"], pts["skull_base"], pts["vertex"] = ((head_path[0], 0),), ((skull, 0),), ((skull, 1),)
     for side, hand, foot in zip("LR", hands, feet):
         for name, pair in {**_arm_points(path(chest, hand), children, rig),
-                           **_leg_points(path(pelvis, foot), rig, up)}.items():
+                           **_leg_points(path(pelvis, foot), rig, up, children)}.items():
             pts[f"{name}.{side}"] = (pair,)
     pts["hip_mid"] = pts["hip.L"] + pts["hip.R"]
     pts["shoulder_mid"] = pts["shoulder.L"] + pts["shoulder.R"]
@@ -296,8 +311,30 @@ def _arm_points(bones, children, rig):
             "knuckles": (bones[w], 1)}
 
 
-def _leg_points(bones, rig, up):
-    """Hip, knee, ankle, ball and toe tip on a leg path from the pelvis to the toes."""
+def _toe_tip(ankle_bone, rig, children):
+    """The last bone of the chain that carries on from the foot bone's direction (the toes).
+
+    The lowest leaf of a leg may be a heel or a foot-roll guide bone lying across the foot
+    (Rigify's meta-rig has one); the toes are the children that keep pointing the foot's
+    way, so the chain is followed by the child most nearly along its parent (cosine
+    above :data:`TOE_COSINE`).
+    """
+    bone = ankle_bone
+    while True:
+        d = rig.tails[bone] - rig.heads[bone]
+        best, best_cos = None, TOE_COSINE
+        for c in children[bone]:
+            e = rig.tails[c] - rig.heads[c]
+            cos = float(d @ e) / max(float(np.linalg.norm(d) * np.linalg.norm(e)), 1e-300)
+            if cos > best_cos:
+                best, best_cos = c, cos
+        if best is None:
+            return bone
+        bone = best
+
+
+def _leg_points(bones, rig, up, children):
+    """Hip, knee, ankle, ball and toe tip on a leg path from the pelvis to the lowest leaf."""
     vec = rig.tails[bones] - rig.heads[bones]
     norm = np.linalg.norm(vec, axis=1)
     upright = np.abs(vec @ up) >= UPRIGHT_COSINE * np.maximum(norm, 1e-300)
@@ -308,4 +345,4 @@ def _leg_points(bones, rig, up):
     s = _joints(bones, rig)
     knee = min(range(first + 1, ankle), key=lambda k: abs(s[k] - 0.5 * (s[first] + s[ankle])))
     return {"hip": (bones[first], 0), "knee": (bones[knee], 0), "ankle": (bones[ankle], 0),
-            "ball": (bones[ankle], 1), "toe_tip": (bones[-1], 1)}
+            "ball": (bones[ankle], 1), "toe_tip": (_toe_tip(bones[ankle], rig, children), 1)}

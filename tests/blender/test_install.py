@@ -11,7 +11,7 @@ import bpy
 
 import conftest
 
-OPERATORS = ("write_plan", "remove_plan", "use_active_bone",  # the blocking pass
+OPERATORS = ("write_plan", "remove_plan", "use_active_bone", "find_rig_controls",  # the blocking pass
              "bake_follow_through", "remove_follow_through",  # follow-through
              "check_body_arc", "keep_body_on_arc", "remove_body_arc", "edit_body_map",  # the body in the air
              "check_jump", "go_to_finding", "clear_check",  # the checker
