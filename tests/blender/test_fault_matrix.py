@@ -16,6 +16,7 @@ import subprocess
 import sys
 import tempfile
 import time
+import zipfile
 
 import bpy
 import pytest
@@ -181,8 +182,13 @@ KILL_POINTS = 8
 
 
 def _cli():
-    exe = os.path.join(REPO, ".venv", "bin", "leapwright")
-    return ([exe], None) if os.path.exists(exe) else ([sys.executable, "-m", "cli.main"], REPO)
+    """The command line of this checkout on this Blender (the test's own interpreter), running the built
+    extension's package as ``leapwright`` (unpacked: the zip holds the add-on with its core), so it
+    needs no install in this environment."""
+    root = tempfile.mkdtemp(prefix="lw-pkg-")
+    with zipfile.ZipFile(os.environ["LW_TEST_ZIP"]) as zf:
+        zf.extractall(os.path.join(root, "leapwright"))
+    return [sys.executable, "-m", "cli.main"], REPO, os.pathsep.join([root, REPO])
 
 
 def _shot_file():
@@ -206,10 +212,11 @@ def _baked(path):
 
 def test_sigkill_during_the_command_line_bake_leaves_the_original_or_the_whole_result():
     path, original = _shot_file()
-    cmd, cwd = _cli()
+    cmd, cwd, pythonpath = _cli()
     cmd = cmd + ["follow-through", path, "--bones", "pony.1,pony.2,pony.3"]
     started = time.monotonic()
-    done = subprocess.run(cmd, cwd=cwd, capture_output=True, text=True, timeout=300)
+    env = dict(os.environ, PYTHONPATH=pythonpath)
+    done = subprocess.run(cmd, cwd=cwd, capture_output=True, text=True, timeout=300, env=env)
     whole = time.monotonic() - started
     assert done.returncode == 0, done.stderr
     assert _baked(path)
@@ -217,7 +224,7 @@ def test_sigkill_during_the_command_line_bake_leaves_the_original_or_the_whole_r
     for k in range(1, KILL_POINTS + 1):
         with open(path, "wb") as fh:
             fh.write(original)
-        proc = subprocess.Popen(cmd, cwd=cwd, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+        proc = subprocess.Popen(cmd, cwd=cwd, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, env=env)
         time.sleep(whole * k / (KILL_POINTS + 1))
         proc.send_signal(signal.SIGKILL)
         proc.wait()
