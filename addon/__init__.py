@@ -155,6 +155,7 @@ side view comes from the rest shoulders (left) and the armature's Z (up):
 Bookkeeping for removal is kept in the rig's ``lw_state`` custom property.
 """
 
+import sys
 from importlib import import_module
 
 # One package per capability, registered in this order: the plan's panel is the parent of every
@@ -167,6 +168,23 @@ CAPABILITIES = (
     ("check", ("settings", "operators", "panel")),
     ("arms", ("settings", "operators", "panel")),
 )
+
+
+def _forget_submodules():
+    """Drop this package's submodules from ``sys.modules``.
+
+    Installing a new version over an old one in the same Blender session
+    imports this file afresh, but ``import_module`` would hand back the old
+    version's submodules still held in ``sys.modules``: forgetting them (when
+    this file is imported, and when the add-on is turned off) makes the new
+    version run its own code.
+    """
+    prefix = __name__ + "."
+    for name in [n for n in sys.modules if n.startswith(prefix)]:
+        del sys.modules[name]
+
+
+_forget_submodules()
 
 
 def _parts():
@@ -184,8 +202,9 @@ def register():
     import bpy
 
     parts = _parts()
+    guard = import_module(".blender.write_guard", __name__)  # every operator that writes goes through it
     for module in parts:
-        for cls in module.classes:
+        for cls in guard.guard_classes(module.classes):
             bpy.utils.register_class(cls)
     for module in parts:
         if hasattr(module, "register_properties"):
@@ -203,3 +222,4 @@ def unregister():
         for cls in reversed(module.classes):
             bpy.utils.unregister_class(cls)
     import_module(".plan.link", __name__).clear_cache()
+    _forget_submodules()

@@ -15,6 +15,10 @@ from concurrent.futures import ProcessPoolExecutor
 
 from leapwright.core.base.errors import InvalidGoalError, LeapwrightError
 
+from cli.output_files import OutputError, reason, write_text
+
+SUMMARY = "summary.json"
+
 
 def file_error(path, exc):
     """A batch result for a file that was bad input: ``{"file", "exit_code": 2, "error"}``,
@@ -119,13 +123,37 @@ def summary_of(results):
     }
 
 
+def report_names(files):
+    """One report file name per input, unique even when inputs share a name.
+
+    ``shot.blend`` gives ``shot.blend.json``; ``a/shot.blend`` and
+    ``b/shot.blend`` give ``a__shot.blend.json`` and ``b__shot.blend.json`` (the
+    path below the folder they share); the same file given twice gets ``-2``.
+    """
+    paths = [os.path.abspath(str(f)) for f in files]
+    names = [os.path.basename(p) for p in paths]
+    if len(paths) > 1:
+        common = os.path.commonpath([os.path.dirname(p) for p in paths])
+        names = [n if names.count(n) == 1 else os.path.relpath(p, common).replace(os.sep, "__")
+                 for n, p in zip(names, paths)]
+    out, taken = [], {SUMMARY}
+    for name in names:
+        candidate, k = name + ".json", 1
+        while candidate in taken:
+            k += 1
+            candidate = f"{name}-{k}.json"
+        taken.add(candidate)
+        out.append(candidate)
+    return out
+
+
 def write_reports(results, out_dir):
-    """One ``<name>.json`` per file and ``summary.json`` in ``out_dir``."""
+    """One report per input (:func:`report_names`) and ``summary.json`` in ``out_dir``, each written whole."""
     out = pathlib.Path(out_dir)
     try:
         out.mkdir(parents=True, exist_ok=True)
-        for r in results:
-            (out / (pathlib.Path(r["file"]).name + ".json")).write_text(json.dumps(r, indent=2))
-        (out / "summary.json").write_text(json.dumps(summary_of(results), indent=2))
     except OSError as exc:
-        raise LeapwrightError(f"cannot write reports to {str(out)!r}: {exc.strerror}; choose a writable folder") from None
+        raise OutputError(f"cannot write reports to {str(out)!r}: {reason(exc)}; choose a writable folder") from None
+    for r, name in zip(results, report_names([r["file"] for r in results])):
+        write_text(out / name, json.dumps(r, indent=2), "a report")
+    write_text(out / SUMMARY, json.dumps(summary_of(results), indent=2), "the summary")

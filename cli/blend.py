@@ -22,17 +22,25 @@ def _bpy():
 
 
 @contextlib.contextmanager
-def _blender_chatter_to_stderr():
-    """Blender prints file-loading notes on stdout at the C level; keep stdout for reports."""
+def _blender_chatter_aside():
+    """Blender prints loading and saving notes on stdout and stderr at the C level; send them nowhere.
+
+    stdout is for reports and stderr for the one-line error: Blender's own words
+    on either would come before it. Its errors still reach us as exceptions.
+    """
     sys.stdout.flush()
-    saved = os.dup(1)
+    sys.stderr.flush()
+    saved = [os.dup(1), os.dup(2)]
+    devnull = os.open(os.devnull, os.O_WRONLY)
     try:
-        os.dup2(2, 1)
+        os.dup2(devnull, 1)
+        os.dup2(devnull, 2)
         yield
     finally:
-        sys.stdout.flush()
-        os.dup2(saved, 1)
-        os.close(saved)
+        os.dup2(saved[0], 1)
+        os.dup2(saved[1], 2)
+        for fd in saved + [devnull]:
+            os.close(fd)
 
 
 def addon_module(name):
@@ -67,7 +75,7 @@ def open_blend(path):
     """Open a .blend in this process (Blender's loading notes go to stderr); returns ``bpy``."""
     bpy = _bpy()
     try:
-        with _blender_chatter_to_stderr():
+        with _blender_chatter_aside():
             bpy.ops.wm.open_mainfile(filepath=os.path.abspath(str(path)), load_ui=False)
     except RuntimeError as exc:
         raise InvalidTrajectoryError(f"{path}: cannot open it as a .blend ({str(exc).strip()[:120]})") from None
@@ -75,10 +83,21 @@ def open_blend(path):
 
 
 def save_blend(path):
-    """Save the open file in place (Blender's note goes to stderr)."""
+    """Save the open file over ``path``, whole or not at all.
+
+    Saved as a copy beside it (same folder: relative paths stay valid) and
+    renamed over it, so a full disk or a killed process leaves the original.
+    """
+    from cli.output_files import OutputError, replacing
+
     bpy = _bpy()
-    with _blender_chatter_to_stderr():
-        bpy.ops.wm.save_mainfile(filepath=os.path.abspath(str(path)))
+    with replacing(path, "the .blend") as tmp:
+        try:
+            with _blender_chatter_aside():
+                bpy.ops.wm.save_as_mainfile(filepath=tmp, copy=True, check_existing=False)
+        except RuntimeError as exc:
+            raise OutputError(f"cannot save {str(path)!r}: {str(exc).strip().splitlines()[-1][:160]}; "
+                              "the file is unchanged") from None
 
 
 def saved_setting(scene, name, group="leapwright_plan"):

@@ -4,6 +4,8 @@ matplotlib is an optional extra (``pip install leapwright[charts]``); it is
 imported only when a chart is asked for.
 """
 
+import os
+
 from leapwright.core.base.errors import LeapwrightError
 
 _PHASE_COLOURS = {
@@ -64,9 +66,10 @@ def force_plate_chart(path, frames, height_m, force_bw, spans, title="", x_label
     for ax in (ax_h, ax_f):
         ax.grid(alpha=0.3)
     fig.tight_layout()
+    from cli.output_files import replacing
+
     try:
-        fig.savefig(path)
-    except OSError as exc:
-        raise LeapwrightError(f"cannot write the chart to {path!r}: {exc.strerror}; choose a writable path") from None
+        with replacing(path, "the chart") as tmp:
+            fig.savefig(tmp, format=os.path.splitext(str(path))[1][1:] or "png")
     finally:
         plt.close(fig)

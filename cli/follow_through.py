@@ -14,6 +14,7 @@ import math
 import sys
 
 from leapwright.core.base.errors import InvalidGoalError
+from leapwright.core.base.limits import check_frame_range
 
 from cli.batch import add_batch_arguments, blend_command_ready, file_error, is_batch, report_batch, run_files
 from cli.blend import addon_module
@@ -86,6 +87,7 @@ def bake_file(path, options):
             message = "removed the bake" if report["removed"] else "had no bake"
         else:
             start, end = options["frames"] or (scene.frame_start, scene.frame_end)
+            check_frame_range(start, end, len(bones))
             request = follow_bake.LagRequest(
                 bones=bones, parameters=follow_bake.chain_preset(options["preset"]), frame_start=start,
                 frame_end=end, key_tolerance=math.radians(options["key_tolerance_deg"]),
@@ -104,7 +106,12 @@ def bake_file(path, options):
         if not _expected(exc, follow_bake):
             raise
         return file_error(path, exc)
-    save_blend(path)
+    try:
+        save_blend(path)
+    except Exception as exc:  # noqa: BLE001 - a full disk or a read-only folder: this file's fault, reported
+        if not _expected(exc, follow_bake):
+            raise
+        return file_error(path, exc)
     return {"file": path, "exit_code": 0, "report": {**report, "message": message}}
 
 
@@ -115,6 +122,8 @@ def run(args):
         raise InvalidGoalError(f"unknown preset {args.preset!r}; choose one of {', '.join(PRESETS)}")
     if not math.isfinite(args.key_tolerance) or not 0.0 <= args.key_tolerance <= 10.0:
         raise InvalidGoalError(f"--key-tolerance must be 0 to 10 deg, got {args.key_tolerance:g}")
+    if args.frames:
+        check_frame_range(min(args.frames), max(args.frames), len(bones))
     if not blend_command_ready(args, "follow-through"):
         return 2
     options = _options(args, bones, preset)

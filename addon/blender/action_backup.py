@@ -15,7 +15,7 @@ as they were before leapwright first touched them.
 
 import bpy
 
-from . import compat as compat, state as ownership_state
+from . import compat, identity, state as ownership_state, written_keys
 from .key_writer import read_keys, restore_keys
 
 STATE_KEY = "backups"
@@ -30,22 +30,27 @@ def backups(state, capability=None):
 def keep(obj, capability, action, paths):
     """Copy ``action`` (once) before ``capability`` edits the curves ``paths`` ((data_path, index), ...).
 
-    Returns the copy's name. The capability is marked as written on ``obj``, so
+    Returns the copy's name. The actions and bones are recorded by id
+    (:mod:`identity`): renaming them changes nothing. The capability is marked as written on ``obj``, so
     "remove what leapwright wrote" restores the curves.
     """
     state = ownership_state.load_state(obj)
-    record = next((r for r in backups(state, capability) if r["action"] == action.name), None)
-    if record is None or bpy.data.actions.get((record["copy"], None)) is None:
+    record = next((r for r in backups(state, capability) if identity.same_action(r["action"], action)), None)
+    if record is None or identity.find_action(record["copy"]) is None:
         copy = action.copy()
+        identity.renew_id(copy)
         copy.name = NAME_PREFIX + action.name
         copy.use_fake_user = True
-        record = {"capability": capability, "action": action.name, "copy": copy.name, "curves": []}
+        if written_keys.WRITES_PROPERTY in copy:  # the record stays with the original only
+            del copy[written_keys.WRITES_PROPERTY]
+        record = {"capability": capability, "action": identity.action_ref(action),
+                  "copy": identity.action_ref(copy), "curves": []}
         state.setdefault(STATE_KEY, []).append(record)
-    known = {tuple(c) for c in record["curves"]}
-    record["curves"] += [[p, int(i)] for p, i in paths if (p, int(i)) not in known]
+    known = {(identity.resolve_path(obj, p), i) for p, i in record["curves"]}
+    record["curves"] += [[identity.path_ref(obj, p), int(i)] for p, i in paths if (p, int(i)) not in known]
     state["written"] = sorted(set(state.get("written", [])) | {capability})
     ownership_state.save_state(obj, state)
-    return record["copy"]
+    return identity.find_action(record["copy"]).name
 
 
 def restore(obj, capability, state):
@@ -55,11 +60,13 @@ def restore(obj, capability, state):
         if rec["capability"] != capability:
             kept.append(rec)
             continue
-        # (name, None): the local datablock of that name, never a linked one that shares it.
-        action, copy = bpy.data.actions.get((rec["action"], None)), bpy.data.actions.get((rec["copy"], None))
+        action, copy = identity.find_action(rec["action"]), identity.find_action(rec["copy"])
         if action is not None and copy is not None:
-            for path, index in rec["curves"]:
-                src = compat.find_fcurve(copy, obj, path, index)
+            for ref, index in rec["curves"]:
+                path = identity.resolve_path(obj, ref)
+                # the copy plays nowhere, so Blender did not rename its paths with the bone
+                old = ref["path"] if isinstance(ref, dict) else ref
+                src = compat.find_fcurve(copy, obj, path, index) or compat.find_fcurve(copy, obj, old, index)
                 dst = compat.find_fcurve(action, obj, path, index)
                 if src is not None and dst is not None:
                     restore_keys(dst, read_keys(src))

@@ -101,8 +101,8 @@ def write_curve(fcurve, frames, values, slopes=None, interpolation="BEZIER", in_
     fcurve.update()
 
 
-def read_keys(fcurve):
-    """Every key attribute of ``fcurve`` as arrays, for byte-exact comparisons.
+def read_keys(fcurve, names=None):
+    """Every key attribute of ``fcurve`` (or those in ``names``) as arrays, for byte-exact comparisons.
 
     Returns
     -------
@@ -111,7 +111,9 @@ def read_keys(fcurve):
     points = fcurve.keyframe_points
     n = len(points)
     out = {}
-    for name, width, dtype in _KEY_FIELDS:
+    for name, width, dtype in KEY_FIELDS:
+        if names is not None and name not in names:
+            continue
         buf = np.zeros(n * width, dtype=dtype)
         points.foreach_get(name, buf)
         out[name] = buf
@@ -125,13 +127,13 @@ def restore_keys(fcurve, keys):
         points.clear()
     n = len(keys["co"]) // 2
     points.add(n)
-    for name, _width, dtype in _KEY_FIELDS:
+    for name, _width, dtype in KEY_FIELDS:
         points.foreach_set(name, np.asarray(keys[name], dtype=dtype))
     fcurve.update()
 
 
 # Keyframe attributes that foreach_get/foreach_set carry (enums as integers).
-_KEY_FIELDS = (
+KEY_FIELDS = (
     ("co", 2, np.float32),
     ("handle_left", 2, np.float32),
     ("handle_right", 2, np.float32),

@@ -8,35 +8,21 @@ records in ``lw_state`` name linked actions by name and library file
 (:func:`action_ref`).
 """
 
-import os
-
-import bpy
-
-from . import compat as compat
+from . import compat, identity
 from .key_writer import read_keys
 
 #: On a local copy of a linked action: the linked action it stands in for.
 LINKED_PROPERTY = "lw_linked_action"
 
 
-def _library_path(lib):
-    # Saving a file may make its library paths relative ('//...'); compare them absolute.
-    return os.path.normpath(bpy.path.abspath(lib.filepath, library=lib.parent))
-
-
 def action_ref(action):
-    """How ``lw_state`` names an action: its name, or ``[name, library file]`` for a linked one."""
-    return action.name if action.library is None else [action.name, _library_path(action.library)]
+    """How records name an action (see :func:`identity.action_ref`)."""
+    return identity.action_ref(action)
 
 
 def find_action(ref):
-    """The action that :func:`action_ref` named (a bare name is a local action), or None."""
-    if not ref:
-        return None
-    if isinstance(ref, list):
-        return next((a for a in bpy.data.actions if a.name == ref[0] and a.library is not None
-                     and _library_path(a.library) == ref[1]), None)
-    return bpy.data.actions.get((ref, None))
+    """The action :func:`action_ref` named, or None (see :func:`identity.find_action`)."""
+    return identity.find_action(ref)
 
 
 def is_linked(action):
@@ -51,6 +37,7 @@ def local_copy(linked):
     is not written on save, and removal after reloading must find it again.
     """
     copy = linked.copy()
+    identity.renew_id(copy)
     copy.use_fake_user = False
     copy[LINKED_PROPERTY] = linked
     return copy

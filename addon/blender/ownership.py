@@ -10,9 +10,13 @@ Each capability ("plan", "follow_through", "body", "arms", ...) owns:
   (:data:`USER_TRACK`) and put back, with its slot, blend, influence and
   extrapolation, when the last one goes.
 
-Keys of the animator's that a run was told to replace are saved first, in the
-rig's ``lw_state`` property (with everything else needed to undo the run), and
-written back on removal. Blender's own undo covers the UI; this is for the
+Every curve written into an action is recorded on that action
+(:mod:`written_keys`: which rig, which capability, the keys it held before, the
+keys written), so renaming the action, the rig or a bone, sharing the action
+between rigs, or keys the animator adds after the write never make removal
+take the wrong keys. The rest (layers, the pushed action, values before the
+first write) is in the rig's ``lw_state`` property (:mod:`state`), naming
+actions by id (:mod:`identity`). Blender's own undo covers the UI; this is for the
 "remove what leapwright wrote" operator and for re-runs.
 
 A rig that plays an action linked from a library never gets keys written
@@ -22,31 +26,27 @@ this file ("make local" done for the animator, the library file untouched);
 removal puts the linked action back and deletes the copy, as long as the copy
 holds nothing but the library's keys (keys the animator added to it are
 theirs, and the copy stays). Linked rigs and library overrides themselves are
-refused before anything is written (:func:`rig_space.linked_library_problem`);
+refused before anything is written (:mod:`write_guard`);
 see :mod:`linked_actions`.
 """
 
 import bpy
-import numpy as np
 
-from . import action_backup, compat as compat, linked_actions
+from . import action_backup, compat, identity, linked_actions, nla_layers, written_keys
+from .identity import action_ref, find_action
 from .key_writer import read_keys, restore_keys, write_curve
-from .linked_actions import action_ref, find_action
-from .state import PREFIX, STATE_PROPERTY, load_state, save_state  # noqa: F401  (part of ownership's API)
-
-USER_TRACK = "lw:your animation"
-
-
-class LayerError(Exception):
-    """Offsets that cannot be layered as asked (checked before anything is written)."""
+from .nla_layers import LayerError, is_our_layer  # noqa: F401  (part of this module's interface)
+from .state import (PREFIX, STATE_PROPERTY, STATE_VERSION, USER_TRACK, StateError, group_name,  # noqa: F401
+                    load_state, save_state)
 
 
-def group_name(capability):
-    return PREFIX + capability
+#: What :func:`clear` kept for the animator since the operator began, as sentences; the write guard
+#: empties it before each operator and reports it after (:mod:`write_guard`).
+NOTES = []
 
 
 def user_action(obj, state=None):
-    """The animator's action: the active one, or the one pushed into :data:`USER_TRACK`."""
+    """The animator's action: the active one, or the one pushed under leapwright's layers."""
     state = load_state(obj) if state is None else state
     pushed = state.get("pushed")
     if pushed:
@@ -58,11 +58,6 @@ def user_action(obj, state=None):
 def is_our_curve(fc):
     """Whether ``fc`` is in one of leapwright's F-curve groups (``lw:<capability>``)."""
     return fc.group is not None and fc.group.name.startswith(PREFIX)
-
-
-def is_our_layer(track):
-    """Whether ``track`` is one of leapwright's NLA layers (not the one holding the animator's action)."""
-    return track.name.startswith(PREFIX) and track.name != USER_TRACK
 
 
 def _strip_actions(strips, out):
@@ -77,9 +72,11 @@ def _strip_actions(strips, out):
 def user_strip_actions(obj):
     """Actions of the animator's own NLA strips (muted ones too: unmuting them must not surprise)."""
     ad = obj.animation_data
+    state = load_state(obj)
+    pushed = nla_layers.user_track(obj, state) if state.get("pushed") else None
     out = []
     for track in (ad.nla_tracks if ad is not None else ()):
-        if not track.name.startswith(PREFIX):  # USER_TRACK holds user_action, the rest are ours
+        if track != pushed and not is_our_layer(track):  # the pushed track holds user_action
             _strip_actions(track.strips, out)
     return out
 
@@ -96,7 +93,8 @@ def conflicts(obj, specs):
     for spec in specs:
         for action in actions:
             fc = compat.find_fcurve(action, obj, spec.data_path, spec.index)
-            if fc is not None and len(fc.keyframe_points) and not is_our_curve(fc):
+            if fc is not None and len(fc.keyframe_points) and (
+                    not is_our_curve(fc) or written_keys.foreign_keys(action, obj, fc)):
                 out.append((spec.data_path, spec.index))
                 break
     return out
@@ -148,52 +146,69 @@ def _restore_static(obj, capability, state):
 
 
 def layer_track(obj, capability):
-    """The NLA track ``lw:<capability>`` of ``obj``, or None."""
-    ad = obj.animation_data
-    return ad.nla_tracks.get(group_name(capability)) if ad is not None else None
+    """The NLA track of ``capability``'s layer on ``obj``, or None."""
+    return nla_layers.layer_track(obj, capability)
+
+
+def _actions_with_writes(obj):
+    return [a for a in bpy.data.actions if written_keys.WRITES_PROPERTY in a and a.library is None]
 
 
 def clear(obj, capability):
-    """Take back everything ``capability`` wrote on ``obj``; the rest is left as it was."""
+    """Take back everything ``capability`` wrote on ``obj``; the rest is left as it was.
+
+    Returns notes for the animator (keys of theirs that were kept, an action
+    that stays where they keyed it).
+    """
     state = load_state(obj)
-    action = user_action(obj, state)
     name = group_name(capability)
-    if action is not None:
-        for fc in [f for f in compat.fcurves(action, obj) if f.group is not None and f.group.name == name]:
-            compat.remove_fcurve(action, obj, fc)
-        grp = next((g for g in compat.groups(action, obj) if g.name == name), None)
-        if grp is not None:
+    notes = []
+    for action in _actions_with_writes(obj):
+        notes += written_keys.take_back(action, obj, capability, is_our_curve)
+        for grp in [g for g in compat.groups(action, obj) if g.name == name and not len(g.channels)]:
             compat.remove_group(action, obj, grp)
-        kept = []
-        for rec in state["replaced"]:
-            if rec["capability"] != capability:
-                kept.append(rec)
-                continue
-            fc = compat.find_fcurve(find_action(rec["action"]), obj, rec["path"], rec["index"])
-            if fc is not None:
-                restore_keys(fc, rec["keys"])
-        state["replaced"] = kept
+    _clear_legacy(obj, capability, state)
     if capability in state["layers"]:
-        _remove_layer(obj, capability, state)
+        notes += nla_layers.remove_layer(obj, capability, state)
     action_backup.restore(obj, capability, state)  # keys of the animator's that the capability moved (arm re-timing)
     state["written"] = [w for w in state.get("written", []) if w != capability]
     _restore_static(obj, capability, state)
     _tidy(obj, state)
     save_state(obj, state)
+    _release_ids(obj)
+    NOTES.extend(notes)
+    return notes
 
 
-def _remove_layer(obj, capability, state):
-    ad = obj.animation_data
-    track = layer_track(obj, capability)
-    if track is not None:
-        actions = [s.action for s in track.strips if s.action is not None]
-        ad.nla_tracks.remove(track)
-        for act in actions:
-            if act.users == 0:
-                bpy.data.actions.remove(act)
-    state["layers"] = [c for c in state["layers"] if c != capability]
-    if not state["layers"] and state.get("pushed"):
-        _pop_user_action(obj, state)
+def _release_ids(obj):
+    """Take off the ids no record needs any more (removal leaves the file as it was)."""
+    records = [o.get(STATE_PROPERTY) for o in bpy.data.objects] + [
+        a.get(written_keys.WRITES_PROPERTY) for a in bpy.data.actions]
+    owners = [obj] + list(obj.pose.bones if obj.pose is not None else ()) + [
+        a for a in bpy.data.actions if a.library is None]
+    identity.release_unused([r for r in records if isinstance(r, str)], owners)
+
+
+def _clear_legacy(obj, capability, state):
+    """Records written before curves were recorded on their action: group and replaced keys by name."""
+    action = user_action(obj, state)
+    if action is None or state.get("version", 1) >= STATE_VERSION:
+        return
+    name = group_name(capability)
+    for fc in [f for f in compat.fcurves(action, obj) if f.group is not None and f.group.name == name]:
+        compat.remove_fcurve(action, obj, fc)
+    grp = next((g for g in compat.groups(action, obj) if g.name == name), None)
+    if grp is not None:
+        compat.remove_group(action, obj, grp)
+    kept = []
+    for rec in state["replaced"]:
+        if rec["capability"] != capability:
+            kept.append(rec)
+            continue
+        fc = compat.find_fcurve(find_action(rec["action"]), obj, rec["path"], rec["index"])
+        if fc is not None:
+            restore_keys(fc, rec["keys"])
+    state["replaced"] = kept
 
 
 def _tidy(obj, state):
@@ -202,10 +217,11 @@ def _tidy(obj, state):
     ad = obj.animation_data
     made = state.get("created_action")
     if made and not state.get("pushed"):
-        act = bpy.data.actions.get(made)
+        act = find_action(made)
         if act is None:
             state["created_action"] = None
-        elif ad is not None and ad.action == act and not len(compat.fcurves(act, obj)):
+        elif ad is not None and ad.action == act and not len(compat.fcurves(act, obj)) \
+                and written_keys.WRITES_PROPERTY not in act:
             ad.action = None
             if act.users == 0:
                 bpy.data.actions.remove(act)
@@ -225,19 +241,20 @@ def _target_action(obj, state):
     action = user_action(obj, state)
     if action is None:
         action = bpy.data.actions.new(f"{obj.name}Action")
+        identity.renew_id(action)
         compat.assign_action(obj, action)
-        state["created_action"] = action.name
+        state["created_action"] = action_ref(action)
     elif linked_actions.is_linked(action):
         action = _adopt_local_copy(obj, action, state)
     return action
 
 
 def _swap_action(obj, old, new, state):
-    """Let ``new`` play wherever ``old`` played for the animator: active, or pushed into USER_TRACK."""
+    """Let ``new`` play wherever ``old`` played for the animator: active, or pushed under the layers."""
     ad = obj.animation_data
     if ad.action == old:
         compat.assign_action(obj, new, compat.active_slot_handle(obj))
-    track = ad.nla_tracks.get(USER_TRACK)
+    track = nla_layers.user_track(obj, state)
     for strip in (track.strips if track is not None else ()):
         if strip.action == old:
             compat.set_strip_action(strip, new)
@@ -262,8 +279,7 @@ def _return_linked(obj, state):
     copy = find_action(adopted["copy"])
     linked = linked_actions.original_of(copy, adopted["original"])
     if copy is not None and linked is not None:
-        if any(is_our_curve(fc) for fc in compat.fcurves(copy, obj)) or any(
-                r["action"] == adopted["copy"] for r in state["replaced"]):
+        if any(is_our_curve(fc) for fc in compat.fcurves(copy, obj)) or written_keys.WRITES_PROPERTY in copy:
             return  # another capability still has keys in the copy
         if not linked_actions.same_keys(obj, copy, linked):
             linked_actions.release(copy)  # the animator keyed the copy: it is their action now
@@ -281,95 +297,36 @@ def write_into_action(obj, capability, specs, replace):
     """Write ``specs`` into the animator's action, in the group ``lw:<capability>``.
 
     Channels the animator already keys are only written when ``replace`` is
-    True; their keys are saved for :func:`clear` and the curve stays where the
-    animator keeps it (its group, modifiers and settings are not touched).
+    True; the curve stays where the animator keeps it (its group, modifiers and
+    settings are not touched). Each curve's write is recorded on the action
+    (:mod:`written_keys`) for :func:`clear`.
     """
     state = load_state(obj)
     _remember_static(obj, capability, specs, state)
     action = _target_action(obj, state)
     for spec in specs:
         fc = compat.find_fcurve(action, obj, spec.data_path, spec.index)
-        if fc is not None and not is_our_curve(fc):
-            if not replace and len(fc.keyframe_points):
-                raise RuntimeError(f"{spec.data_path}[{spec.index}] has the animator's keys")
-            keys = {k: v.tolist() for k, v in read_keys(fc).items()}
-            state["replaced"].append({"capability": capability, "action": action_ref(action), "path": spec.data_path,
-                                      "index": spec.index, "keys": keys})
-        elif fc is None:
+        created = fc is None
+        if created:
             fc = compat.new_fcurve(action, obj, spec.data_path, spec.index, group_name(capability))
+        elif not is_our_curve(fc) and not replace and len(fc.keyframe_points):
+            raise RuntimeError(f"{spec.data_path}[{spec.index}] has the animator's keys")
+        before = None if created else read_keys(fc)
         write_curve(fc, spec.frames, spec.values, spec.slopes, spec.interpolation)
+        written_keys.record(action, obj, capability, fc, created, before)
     state["written"] = sorted(set(state.get("written", [])) | {capability})
+    state["version"] = STATE_VERSION
     save_state(obj, state)
     return action
 
 
-def _push_user_action(obj, state):
-    ad = obj.animation_data
-    action = ad.action
-    if action is None or state.get("pushed"):
-        return
-    state["pushed"] = {"action": action_ref(action), "slot": compat.active_slot_handle(obj),
-                       "blend": ad.action_blend_type, "influence": ad.action_influence,
-                       "extrapolation": ad.action_extrapolation}
-    track = ad.nla_tracks.new()
-    track.name = USER_TRACK
-    strip = compat.new_nla_strip(obj, track, action.name, int(np.floor(action.frame_range[0])), action,
-                                 state["pushed"]["slot"])
-    if strip.frame_start != action.frame_range[0]:
-        # strips.new takes whole frames; slide the strip so the keys keep their times.
-        strip.frame_start_ui = action.frame_range[0]
-    strip.blend_type = ad.action_blend_type
-    strip.extrapolation = ad.action_extrapolation
-    ad.action = None
-
-
-def _pop_user_action(obj, state):
-    ad = obj.animation_data
-    pushed = state.pop("pushed")
-    track = ad.nla_tracks.get(USER_TRACK)
-    if track is not None:
-        ad.nla_tracks.remove(track)
-    action = find_action(pushed["action"])
-    compat.assign_action(obj, action, pushed["slot"])
-    ad.action_blend_type = pushed["blend"]
-    ad.action_influence = pushed["influence"]
-    ad.action_extrapolation = pushed["extrapolation"]
-
-
 def write_layer(obj, capability, specs):
-    """Write ``specs`` as deltas on the NLA track ``lw:<capability>`` (blend COMBINE).
+    """Write ``specs`` as deltas on ``capability``'s NLA track (blend COMBINE), see :mod:`nla_layers`.
 
     The animator's keys are not touched: their active action is pushed into a
     track below while any leapwright layer exists.
     """
-    summed = [s.data_path for s in specs if s.data_path.endswith("rotation_axis_angle")]
-    if summed:
-        raise LayerError(f"{summed[0]} is an axis-angle rotation: under COMBINE its four numbers simply add, "
-                         "which is not a rotation; give the bone quaternion rotation, or bake the "
-                         "correction per frame into its own keys")
-    state = load_state(obj)
-    if obj.animation_data is None:
-        obj.animation_data_create()
-        state["created_anim_data"] = True
-    _remember_static(obj, capability, specs, state)
-    _push_user_action(obj, state)
-    delta = compat.new_delta_action(obj, f"{group_name(capability)} {obj.name}")
-    for spec in specs:
-        fc = compat.new_fcurve(delta, obj, spec.data_path, spec.index, group_name(capability))
-        write_curve(fc, spec.frames, spec.values, spec.slopes, spec.interpolation)
-    ad = obj.animation_data
-    track = ad.nla_tracks.new()
-    track.name = group_name(capability)
-    start = int(np.floor(delta.frame_range[0]))
-    strip = compat.new_nla_strip(obj, track, delta.name, start, delta)
-    if strip.frame_start != delta.frame_range[0]:
-        strip.frame_start_ui = delta.frame_range[0]
-    strip.blend_type = "COMBINE"
-    strip.extrapolation = "HOLD"
-    state["layers"] = sorted(set(state["layers"]) | {capability})
-    state["written"] = sorted(set(state.get("written", [])) | {capability})
-    save_state(obj, state)
-    return delta
+    return nla_layers.write_layer(obj, capability, specs, _remember_static)
 
 
 def capabilities_written(obj):

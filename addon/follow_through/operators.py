@@ -59,6 +59,7 @@ class LEAPWRIGHT_OT_bake_follow_through(bpy.types.Operator):
     bl_idname = "leapwright.bake_follow_through"
     bl_label = "Bake Follow-Through"
     bl_options = {"REGISTER", "UNDO"}
+    lw_rig = staticmethod(_rig)  # the rig the write guard checks: the active object first, as here
 
     bones: StringProperty(name="Bones", description="Comma-separated bone names; empty uses the panel's choice")
     preset: EnumProperty(name="Behaves like", items=PRESET_CHOICES, default="SETTINGS")
@@ -154,6 +155,7 @@ class LEAPWRIGHT_OT_remove_follow_through(bpy.types.Operator):
     bl_idname = "leapwright.remove_follow_through"
     bl_label = "Remove Follow-Through"
     bl_options = {"REGISTER", "UNDO"}
+    lw_rig = staticmethod(_rig)  # the rig the write guard checks: the active object first, as here
 
     @classmethod
     def poll(cls, context):

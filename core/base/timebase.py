@@ -41,6 +41,8 @@ def parse_fps(text):
         raise InvalidGoalError(f"fps {text!r} is not finite; give e.g. 24 or 24000/1001")
     if value <= 0:
         raise InvalidGoalError(f"fps must be greater than 0, got {text!r}; give e.g. 24")
+    if value < MIN_FPS:
+        raise InvalidGoalError(f"fps {text!r} is below {MIN_FPS:g}, Blender's lowest frame rate; give e.g. 24")
     if value > MAX_FPS:
         raise InvalidGoalError(f"fps {text!r} is above {MAX_FPS:g}; give a frame rate such as 24, 30 or 60")
     return value
