@@ -314,11 +314,14 @@ def _measured_flights(times, frames, pos, noise, scene_g, fps):
     speed, accel = capture_flights.measured_acceleration(times, pos[:, 2])
     tol = 3.0 * float(np.hypot(noise, capture_flights.SOFT_TISSUE_WOBBLE_M))
     flights, spans = [], []
-    for m in capture_flights.find_measured_flights(times, pos[:, 2], scene_g, noise):
+    found = capture_flights.find_measured_flights(times, pos[:, 2], scene_g, noise)
+    for m in found:
         flight, span = _flight_record(m.stretch, keep, n, False, times, frames, pos, scene_g, fps, noise, m)
         flights.append(flight)
         spans.append(span)
-    return flights, spans, tol, speed, accel
+    # Long flights measure the jitter better than the quiet windows did (as for keyed paths).
+    refined = flight_fit.noise_from_stretches([m.stretch for m in found])
+    return flights, spans, tol, speed, accel, min(noise, refined) if refined is not None else noise
 
 def gravity_comparisons(implied, scene_gravity):
     """The implied gravity against the scene's, Blender's default and standard gravity."""
@@ -359,9 +362,9 @@ def analyse_trajectory(frames, positions, fps, *, gravity=BLENDER_DEFAULT_GRAVIT
     keep, stepped = flight_fit.key_samples(pos)
     tk, zk = times[keep], pos[keep, 2]
     noise = flight_fit.noise_level(tk, zk)
-    measured = bool(not stepped and capture_flights.looks_measured(zk, noise))
+    measured = bool(not stepped and capture_flights.looks_measured(tk, zk, noise))
     if measured:
-        flights, spans, tol, speed, accel = _measured_flights(times, frames, pos, noise, scene_g, fps)
+        flights, spans, tol, speed, accel, noise = _measured_flights(times, frames, pos, noise, scene_g, fps)
         arcs = []
     else:
         flights, spans, tol, speed, accel, arcs, noise = _keyed_flights(

@@ -35,12 +35,16 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .local_fits import window_derivatives
+from .local_fits import window_derivatives, window_residual_rms
 from .parabola import Parabola, Stretch, fit_parabola
 
 #: Sample noise above this sd [m] means the path was measured, not keyed: keyed curves
 #: are smooth to rounding (1e-7 m), captured ones jitter by a tenth of a millimetre or more.
 MEASURED_NOISE_M = 2.0e-5
+#: Sample noise above this sd [m] is read as measured whatever its texture: even the
+#: quietest 9 frames of a keyed curve miss a quartic by far less (a 0.3 m keyed sine at
+#: 24 fps: 0.11 mm).
+SURELY_MEASURED_M = 5.0e-4
 #: Soft-tissue and marker-placement wobble allowed around a real flight's parabola [m]:
 #: the largest RMS seen on real flights at 120 fps (reference-values.md).
 SOFT_TISSUE_WOBBLE_M = 2.6e-3
@@ -56,25 +60,33 @@ MIN_RISE_M = 0.05
 MAX_ACCELERATION_DRIFT = 0.35
 #: Smoothing window of the acceleration [s] (at least 5 samples).
 ACCELERATION_WINDOW_S = 0.08
+#: Runs of downward acceleration closer than this [s] are searched as one flight; a step's
+#: crests are at least 0.3 s apart (two steps a second or fewer, common practice).
+BRIDGE_S = 0.15
 #: Two-sided 95 % normal quantile.
 Z95 = 1.96
 
 
-def looks_measured(z, noise_sd):
+def looks_measured(t, z, noise_sd):
     """True when the path jitters like a measurement rather than a keyed curve.
 
-    Besides noise above :data:`MEASURED_NOISE_M`, the jitter must be random: the third
-    differences of independent noise change sign between neighbours about 3 times in 4
-    (their lag-1 correlation is -15/20), those of a smooth keyed curve (a sine, a spline
-    that is not quite a parabola) hardly ever. More than half is read as jitter.
+    Besides noise above :data:`MEASURED_NOISE_M`, what a quartic over 9 samples leaves
+    must be random: a fit of degree 6 over the same windows leaves sqrt(2/4) = 0.71 of
+    independent noise (least-squares degrees of freedom), but a small fraction of a smooth
+    curve's misfit (a keyed sine, a spline that is not quite a parabola: the next terms of
+    its Taylor series). Read over the quietest third of the windows; above 0.45 is jitter.
+    Noise above :data:`SURELY_MEASURED_M` is jitter whatever its texture (at 24 fps a
+    wobble of a few hertz is as rough as jitter and fools the ratio).
     """
-    if noise_sd <= MEASURED_NOISE_M or len(z) < 8:
+    if noise_sd <= MEASURED_NOISE_M or len(z) < 12:
         return False
-    d3 = np.diff(z, 3)
-    d3 = d3[d3 != 0]
-    if len(d3) < 5:
-        return False
-    return bool(np.mean(np.sign(d3[1:]) != np.sign(d3[:-1])) > 0.5)
+    if noise_sd > SURELY_MEASURED_M:
+        return True
+    quartic = window_residual_rms(t, z, 9, 4)
+    sextic = window_residual_rms(t, z, 9, 6)
+    quiet = quartic <= np.percentile(quartic, 33)
+    ratio = np.median(sextic[quiet] / np.maximum(quartic[quiet], 1e-300))
+    return bool(ratio > 0.45)
 
 
 @dataclass(frozen=True)
@@ -109,6 +121,18 @@ def measured_acceleration(t, z):
 def _runs(mask):
     idx = np.flatnonzero(np.diff(np.concatenate([[0], mask.astype(np.int8), [0]])))
     return [(int(a), int(b) - 1) for a, b in zip(idx[::2], idx[1::2])]
+
+
+def _bridged(runs, t, gap_s):
+    """Runs joined across gaps up to ``gap_s`` [s]: under a weak gravity (the Moon's) a
+    wobble lifts the smoothed acceleration above the threshold for a moment mid-flight."""
+    out = []
+    for a, b in runs:
+        if out and t[a] - t[out[-1][1]] <= gap_s:
+            out[-1] = (out[-1][0], b)
+        else:
+            out.append((a, b))
+    return out
 
 
 def _grow(t, z, first, last, lo, hi, tol):
@@ -163,10 +187,10 @@ def _edge_time(t, z, edge, inner, side, g, step):
     reach = max(3, int(round(0.12 / step)))
     if side == "start":
         a, b = max(edge - reach, 0), min(inner, n - 1)
-        grid = np.arange(t[a], t[max(min(edge + 2 * reach, b - 3), a)] + 1e-12, step / 4)
+        grid = np.arange(t[a], t[max(min(edge + reach // 2, b - 3), a)] + 1e-12, step / 4)
     else:
         a, b = max(inner, 0), min(edge + reach, n - 1)
-        grid = np.arange(t[min(max(edge - 2 * reach, a + 3), b)], t[b] + 1e-12, step / 4)
+        grid = np.arange(t[min(max(edge - reach // 2, a + 3), b)], t[b] + 1e-12, step / 4)
     tw, zw = t[a:b + 1], z[a:b + 1]
     if len(tw) < 6 or len(grid) == 0:
         return float(t[edge] - step / 2 if side == "start" else t[edge] + step / 2)
@@ -257,7 +281,7 @@ def find_measured_flights(t, z, scene_gravity, noise_sd):
     tol = 3.0 * float(np.hypot(noise_sd, SOFT_TISSUE_WOBBLE_M))
     min_g = MIN_FLIGHT_GRAVITY_FRACTION * scene_gravity
     spans = []
-    for a, b in _runs(accel < -min_g):
+    for a, b in _bridged(_runs(accel < -min_g), t, BRIDGE_S):
         if b - a < 2:
             continue
         margin = max(8, int(round(0.3 / step)))
@@ -295,20 +319,23 @@ def _refine(t, z, first, last, noise_sd, min_g, step):
     fit = fit_parabola(t[first:last + 1], z[first:last + 1])
     if not _plausible(t[first:last + 1], z[first:last + 1], fit, min_g, step, noise_sd):
         return None
-    t_off = t_td = None
+    best = None
     for _ in range(2):
         if fit.gravity < min_g or last - first < 4:
-            return None
+            break
         t_off = _edge_time(t, z, first, (first + last) // 2, "start", fit.gravity, step)
         t_td = _edge_time(t, z, last, (first + last) // 2, "end", fit.gravity, step)
         a = int(np.searchsorted(t, t_off, side="right"))
         b = int(np.searchsorted(t, t_td, side="left")) - 1
         if b - a < 4:
-            return None
-        first, last = a, b
-        fit = fit_parabola(t[first:last + 1], z[first:last + 1])
-    tt, zz = t[first:last + 1], z[first:last + 1]
-    if not _plausible(tt, zz, fit, min_g, step, noise_sd):
+            break
+        trial = fit_parabola(t[a:b + 1], z[a:b + 1])
+        if not _plausible(t[a:b + 1], z[a:b + 1], trial, min_g, step, noise_sd):
+            break  # a wobble pulled an edge into the air: keep the last good ends
+        first, last, fit, best = a, b, trial, (t_off, t_td)
+    if best is None:
         return None
+    t_off, t_td = best
+    tt, zz = t[first:last + 1], z[first:last + 1]
     low, high = gravity_interval(tt, zz, fit, noise_sd)
     return MeasuredFlight(Stretch(first, last, fit, fit, fit.rms, fit.max_abs), t_off, t_td, low, high)
