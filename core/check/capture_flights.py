@@ -172,7 +172,11 @@ def _edge_sse(tw, yw, grid, side, g):
     best = np.full(len(grid), np.inf)
     for extra in ((u * u, u ** 3), (u * u,), (u ** 3,), ()):
         design = np.concatenate([base] + [e[..., None] for e in extra], axis=2)
-        coef = np.einsum("kpw,w->kp", np.linalg.pinv(design), y)
+        # Normal equations (at most 4 unknowns), lightly regularised for candidate times
+        # beyond the window, where the ground terms vanish.
+        ata = np.einsum("kwi,kwj->kij", design, design)
+        ata += 1e-12 * np.trace(ata, axis1=1, axis2=2)[:, None, None] * np.eye(ata.shape[1])[None]
+        coef = np.linalg.solve(ata, np.einsum("kwi,w->ki", design, y)[..., None])[..., 0]
         r = y[None] - np.einsum("kwp,kp->kw", design, coef)
         sse = np.einsum("kw,kw->k", r, r)
         if extra:
@@ -186,10 +190,10 @@ def _edge_time(t, z, edge, inner, side, g, step):
     n = len(t)
     reach = max(3, int(round(0.12 / step)))
     if side == "start":
-        a, b = max(edge - reach, 0), min(inner, n - 1)
+        a, b = max(edge - reach, 0), min(inner, edge + 2 * reach, n - 1)
         grid = np.arange(t[a], t[max(min(edge + reach // 2, b - 3), a)] + 1e-12, step / 4)
     else:
-        a, b = max(inner, 0), min(edge + reach, n - 1)
+        a, b = max(inner, edge - 2 * reach, 0), min(edge + reach, n - 1)
         grid = np.arange(t[min(max(edge - reach // 2, a + 3), b)], t[b] + 1e-12, step / 4)
     tw, zw = t[a:b + 1], z[a:b + 1]
     if len(tw) < 6 or len(grid) == 0:
