@@ -27,7 +27,7 @@ def _pyplot():
     return plt
 
 
-def force_plate_chart(path, frames, height_m, force_bw, spans, title=""):
+def force_plate_chart(path, frames, height_m, force_bw, spans, title="", force_label="ground force [BW]"):
     """Write a PNG with COM height [m] above and force [BW] below, against frames.
 
     Parameters
@@ -39,6 +39,9 @@ def force_plate_chart(path, frames, height_m, force_bw, spans, title=""):
     spans : list of (first_frame, last_frame, label)
         Regions to shade; labels named after a force-plate phase get its colour.
     title : str
+    force_label : str
+        The force axis' label: a plan's curve is the ground force; a checked path's is its
+        apparent weight m(g + a), which is the ground force only where the feet are down.
     """
     plt = _pyplot()
     fig, (ax_h, ax_f) = plt.subplots(2, 1, sharex=True, figsize=(8, 5), dpi=100,
@@ -54,7 +57,7 @@ def force_plate_chart(path, frames, height_m, force_bw, spans, title=""):
     ax_h.set_ylabel("COM height [m]")
     ax_f.plot(frames, force_bw, color="#67000d", lw=1.8)
     ax_f.axhline(1.0, color="k", lw=0.8, ls="--")
-    ax_f.set_ylabel("ground force [BW]")
+    ax_f.set_ylabel(force_label)
     ax_f.set_xlabel("frame")
     ax_f.legend(loc="upper right", fontsize=7, ncol=3, frameon=False)
     if title:

@@ -138,3 +138,13 @@ def gravity_findings(flight, scene_gravity):
             f"({flight.apex_hang_s:.3f} s) beyond free fall, around frame {frame_text(flight.apex_frame)}",
             "a stylisation; if it is not wanted, remove the held frames at the apex"))
     return out
+
+
+def no_flight_reason(height_m):
+    """Why no flight was found in a path of heights [m], in an animator's words, with the fix."""
+    rise = float(max(height_m) - min(height_m)) if len(height_m) else 0.0
+    if rise < 1e-3:
+        return (f"the checked path does not move up or down (within {rise * 1000:.1f} mm); "
+                "pick the body bone (--bone) or follow the whole-body centre of mass (--follow body)")
+    return (f"the path rises and falls by {rise:.3f} m but no stretch of it falls freely "
+            "(the body never leaves the ground, or the arc is not a free-fall curve)")
