@@ -29,7 +29,8 @@ def _pyplot():
     return plt
 
 
-def force_plate_chart(path, frames, height_m, force_bw, spans, title="", x_label="frame"):
+def force_plate_chart(path, frames, height_m, force_bw, spans, title="", x_label="frame",
+                      force_label="ground force [BW]"):
     """Write a PNG with COM height [m] above and force [BW] below, against frames.
 
     Parameters
@@ -43,6 +44,9 @@ def force_plate_chart(path, frames, height_m, force_bw, spans, title="", x_label
     title : str
     x_label : str
         Label of the horizontal axis (a force-plate trace is drawn against seconds).
+    force_label : str
+        The force axis' label: a plan's curve is the ground force; a checked path's is its
+        apparent weight m(g + a), which is the ground force only where the feet are down.
     """
     plt = _pyplot()
     fig, (ax_h, ax_f) = plt.subplots(2, 1, sharex=True, figsize=(8, 5), dpi=100,
@@ -58,7 +62,7 @@ def force_plate_chart(path, frames, height_m, force_bw, spans, title="", x_label
     ax_h.set_ylabel("COM height [m]")
     ax_f.plot(frames, force_bw, color="#67000d", lw=1.8)
     ax_f.axhline(1.0, color="k", lw=0.8, ls="--")
-    ax_f.set_ylabel("ground force [BW]")
+    ax_f.set_ylabel(force_label)
     ax_f.set_xlabel(x_label)
     ax_f.legend(loc="upper right", fontsize=7, ncol=3, frameon=False)
     if title:

@@ -19,6 +19,7 @@ Exit codes: 0 no problem found (stylisations may still be listed), 1 problems fo
 import csv
 import json
 import math
+import os
 import sys
 
 import numpy as np
@@ -29,7 +30,7 @@ from leapwright.core.body.segment_tables import TABLES
 from leapwright.core.check.analysis import FootTrack, analyse_trajectory
 from leapwright.core.base.constants import BLENDER_DEFAULT_GRAVITY
 from leapwright.core.base.errors import InvalidTrajectoryError, LeapwrightError
-from leapwright.core.check.findings import FINDING_KINDS, frame_text
+from leapwright.core.check.findings import FINDING_KINDS, frame_text, no_flight_reason
 from leapwright.core.plan.goals import gravity_from
 from leapwright.core.base.timebase import parse_fps
 
@@ -201,6 +202,7 @@ def to_json_dict(result):
                     "frames": [_frame_value(p.first_frame), _frame_value(p.last_frame)]} for p in result.phases],
         "hops": hops,
         "noise_m": result.noise_m,
+        "measured": result.measured,
         "stepped_keys": result.stepped_keys,
         "findings": [{"kind": f.kind, "severity": f.severity,
                       "frames": [_frame_value(f.first_frame), _frame_value(f.last_frame)],
@@ -216,11 +218,15 @@ def report_text(result, path):
     if result.stepped_keys:
         lines.append("  held frames read as stepped keys (fitted at the key frames)")
     if not result.flights:
-        lines.append("  no ballistic flight found")
+        lines.append("  no ballistic flight found: " + no_flight_reason(result.height_m))
+    elif result.measured:
+        lines.append(f"  read as captured motion (jitter {result.noise_m * 1000:.2f} mm): flights found from "
+                     "free fall; implied g with its 95% interval")
     for i, f in enumerate(result.flights, start=1):
         lines.append(
             f"  flight {i}: frames {frame_text(f.first_frame)}-{frame_text(f.last_frame)}, implied g "
-            f"{f.gravity_m_s2:.3f} m/s^2 ({f.gravity_m_s2 / g:.2f} g), top {f.rise_m:.3f} m above frame "
+            f"{f.gravity_m_s2:.3f} m/s^2 ({f.gravity_m_s2 / g:.2f} g; 95% interval "
+            f"{f.gravity_low_m_s2:.2f}-{f.gravity_high_m_s2:.2f}), top {f.rise_m:.3f} m above frame "
             f"{frame_text(f.first_frame)} at frame {frame_text(round(f.apex_frame, 2))}, hang {f.hang_time_s:.3f} s "
             f"(under {g:g} m/s^2: {f.expected_hang_time_s:.3f} s), fit within {f.max_residual_m * 1000:.3f} mm")
         if f.rise_gravity_m_s2 != f.fall_gravity_m_s2:
@@ -242,8 +248,10 @@ def report_text(result, path):
             parts.append(f"landing peak {h.peak_landing_bw:.2f} BW, mean {h.mean_landing_bw:.2f} BW "
                          f"over {h.stopping_distance_m:.3f} m ({h.landing_grade})")
         lines.append(f"  hop {h.hop + 1}: " + "; ".join(parts))
-    if not result.findings:
+    if not result.findings and result.flights:
         lines.append("no findings: the jump is physically consistent")
+    elif not result.findings:
+        lines.append("no findings, but nothing was checked against gravity without a flight")
     for f in result.findings:
         label = "stylisation" if f.severity == "stylisation" else "problem"
         lines.append(f"[{label}] {f.kind} frames {frame_text(f.first_frame)}-{frame_text(f.last_frame)}: {f.message}")
@@ -258,7 +266,8 @@ def write_chart(result, path, title):
     # Phases are inclusive frame ranges; widen by half a frame so neighbours meet.
     half = 0.5 * float(np.median(np.diff(result.frames)))
     spans = [(float(p.first_frame) - half, float(p.last_frame) + half, p.name) for p in result.phases]
-    force_plate_chart(path, result.frames, result.height_m, result.force_bw, spans, title)
+    force_plate_chart(path, result.frames, result.height_m, result.force_bw, spans, title,
+                      force_label="apparent weight m(g+a) [BW]")
 
 
 def analyse_file(path, fps=None, gravity=None, leg_lengths=(), object_name=None, bone_name=None, **body_options):
@@ -380,7 +389,7 @@ def run(args):
         path = args.files[0]
         result, arc, checked = check_path(path, **_options(args))
         if args.chart:
-            write_chart(result, args.chart, f"{path} at {result.fps:g} fps")
+            write_chart(result, args.chart, f"{os.path.basename(str(path))} at {result.fps:g} fps")
     except LeapwrightError as exc:
         print(f"leapwright check: {exc}", file=sys.stderr)
         return 2

@@ -35,7 +35,7 @@ import numpy as np
 from ..base.constants import BLENDER_DEFAULT_GRAVITY, STANDARD_GRAVITY
 from ..base.errors import InvalidTrajectoryError, require_finite
 from .findings import frame_text, gravity_findings
-from . import flight_fit
+from . import capture_flights, flight_fit
 from . import physics_checks as contact_checks
 from .jump_phases import PhaseSpan, phase_spans  # noqa: F401  (PhaseSpan is part of the API)
 
@@ -83,6 +83,11 @@ class Flight:
         estimated half a sample outside the airborne samples [m/s]
     forward_speed_m_s : float  mean horizontal speed [m/s]
     residual_m, max_residual_m : float  RMS and largest distance of the samples from the fit [m]
+    gravity_low_m_s2, gravity_high_m_s2 : float  95 % confidence interval of the implied
+        gravity [m/s^2] (of the rise); a gravity finding needs it to exclude the scene's
+    takeoff_frame, touchdown_frame : float  sub-frame estimates of leaving and meeting the
+        ground [frame]: half-way between samples for keyed paths, where the path leaves and
+        rejoins its parabola for measured ones
     """
 
     first_frame: float
@@ -103,6 +108,10 @@ class Flight:
     forward_speed_m_s: float
     residual_m: float
     max_residual_m: float
+    gravity_low_m_s2: float = None
+    gravity_high_m_s2: float = None
+    takeoff_frame: float = None
+    touchdown_frame: float = None
 
 
 @dataclass(frozen=True)
@@ -139,6 +148,9 @@ class TrajectoryAnalysis:
     force_bw : ndarray  apparent weight 1 + a_z/g [body weights]
     noise_m : float  estimated sample noise sd [m]
     fit_tolerance_m : float  largest residual read as noise [m]
+    measured : bool  the path jitters like a capture (noise above
+        ``capture_flights.MEASURED_NOISE_M``): flights were found from free fall through a
+        noise model of jitter plus soft-tissue wobble, and the acceleration is smoothed
     stepped_keys : bool  held frames were read as stepped keys
     flights : tuple of Flight
     implied_gravity_m_s2 : float or None  of the longest flight; None when nothing is ballistic
@@ -165,6 +177,7 @@ class TrajectoryAnalysis:
     phases: tuple
     hops: tuple
     findings: tuple = field(default=())
+    measured: bool = False
 
     @property
     def longest_flight(self):
@@ -217,8 +230,8 @@ def _validate(frames, positions, fps, gravity):
     return frames, positions, fps, gravity
 
 
-def _flight_record(s, keep, n, stepped, times, frames, pos, scene_g, fps):
-    """A Flight from a fitted stretch of key samples."""
+def _flight_record(s, keep, n, stepped, times, frames, pos, scene_g, fps, noise=0.0, measured=None):
+    """A Flight from a fitted stretch of key samples (``measured``: its MeasuredFlight)."""
     i0 = int(keep[s.first])
     if s.last + 1 < len(keep):
         i1 = int(keep[s.last + 1]) - 1 if stepped else int(keep[s.last])
@@ -228,6 +241,13 @@ def _flight_record(s, keep, n, stepped, times, frames, pos, scene_g, fps):
     # one (and back): half-way is the estimate that is never off by more than half.
     t_off = 0.5 * (times[i0 - 1] + times[i0]) if i0 > 0 else times[i0]
     t_down = 0.5 * (times[i1] + times[i1 + 1]) if i1 + 1 < n else times[i1]
+    if measured is not None:
+        t_off, t_down = measured.takeoff_time_s, measured.touchdown_time_s
+        g_low, g_high = measured.gravity_low, measured.gravity_high
+    else:
+        k_rise = keep[s.first:s.last + 1]
+        g_low, g_high = capture_flights.gravity_interval(times[k_rise], pos[k_rise, 2], s.rise, noise) \
+            if s.rise is s.fall else (s.rise.gravity, s.rise.gravity)
     rise, fall = s.rise, s.fall
     top = max(rise.apex_height, fall.apex_height)
     z0, z1 = pos[keep[s.first], 2], pos[keep[s.last], 2]
@@ -250,8 +270,58 @@ def _flight_record(s, keep, n, stepped, times, frames, pos, scene_g, fps):
         apex_hang_s=float(apex_hang), hang_frames_at_apex=int(round(apex_hang * fps)),
         takeoff_speed_m_s=float(rise.speed(t_off)), touchdown_speed_m_s=float(fall.speed(t_down)),
         forward_speed_m_s=horizontal, residual_m=s.rms, max_residual_m=s.max_abs,
+        gravity_low_m_s2=float(g_low), gravity_high_m_s2=float(g_high),
+        takeoff_frame=float(frames[0] + t_off * fps), touchdown_frame=float(frames[0] + t_down * fps),
     ), (i0, i1)
 
+
+
+def _keyed_flights(keep, stepped, times, frames, pos, noise, scene_g, fps):
+    """Flights of a keyed path: stretches one parabola fits within the (tiny) noise."""
+    n = len(frames)
+    tk, zk = times[keep], pos[keep, 2]
+    tol = flight_fit.fit_tolerance(noise)
+    speed_k, accel_k = flight_fit.local_derivatives(tk, zk)
+    speed = np.interp(times, tk, speed_k)
+    accel = np.interp(times, tk, accel_k)
+    min_g = flight_fit.MIN_FLIGHT_GRAVITY_FRACTION * scene_g
+    # First pass: ends judged by each flight's own scatter, which measures the noise.
+    stretches = flight_fit.find_ballistic_stretches(tk, zk, tol, min_g, 0.0)
+    refined = flight_fit.noise_from_stretches(stretches)
+    if refined is not None and refined < noise:
+        # The longest flights measure the noise better than the quiet windows did.
+        noise, tol = refined, flight_fit.fit_tolerance(refined)
+        stretches = flight_fit.find_ballistic_stretches(tk, zk, tol, min_g, noise)
+    flights, spans = [], []
+    for s in stretches:
+        flight, span = _flight_record(s, keep, n, stepped, times, frames, pos, scene_g, fps, noise)
+        flights.append(flight)
+        spans.append(span)
+    arcs = contact_checks.non_ballistic_arcs(pos[:, 2], accel, spans, scene_g)
+    # A parabola that fits only the crest of an arc is the crest's curvature, not a flight.
+    kept = [i for i, (i0, i1) in enumerate(spans) if not any(i0 <= b and a <= i1 for a, b in arcs)]
+    return [flights[i] for i in kept], [spans[i] for i in kept], tol, speed, accel, arcs, noise
+
+
+def _measured_flights(times, frames, pos, noise, scene_g, fps):
+    """Flights of a measured path (:mod:`.capture_flights`), with the smoothed speed and acceleration.
+
+    No arc is reported as not ballistic: a captured body that rises and falls on the
+    ground (a step, a squat) is real motion, not a mistake.
+    """
+    n = len(frames)
+    keep = np.arange(n)
+    speed, accel = capture_flights.measured_acceleration(times, pos[:, 2])
+    tol = 3.0 * float(np.hypot(noise, capture_flights.SOFT_TISSUE_WOBBLE_M))
+    flights, spans = [], []
+    found = capture_flights.find_measured_flights(times, pos[:, 2], scene_g, noise)
+    for m in found:
+        flight, span = _flight_record(m.stretch, keep, n, False, times, frames, pos, scene_g, fps, noise, m)
+        flights.append(flight)
+        spans.append(span)
+    # Long flights measure the jitter better than the quiet windows did (as for keyed paths).
+    refined = flight_fit.noise_from_stretches([m.stretch for m in found])
+    return flights, spans, tol, speed, accel, min(noise, refined) if refined is not None else noise
 
 def gravity_comparisons(implied, scene_gravity):
     """The implied gravity against the scene's, Blender's default and standard gravity."""
@@ -292,29 +362,14 @@ def analyse_trajectory(frames, positions, fps, *, gravity=BLENDER_DEFAULT_GRAVIT
     keep, stepped = flight_fit.key_samples(pos)
     tk, zk = times[keep], pos[keep, 2]
     noise = flight_fit.noise_level(tk, zk)
-    tol = flight_fit.fit_tolerance(noise)
-    speed_k, accel_k = flight_fit.local_derivatives(tk, zk)
-    speed = np.interp(times, tk, speed_k)
-    accel = np.interp(times, tk, accel_k)
+    measured = bool(not stepped and capture_flights.looks_measured(tk, zk, noise))
+    if measured:
+        flights, spans, tol, speed, accel, noise = _measured_flights(times, frames, pos, noise, scene_g, fps)
+        arcs = []
+    else:
+        flights, spans, tol, speed, accel, arcs, noise = _keyed_flights(
+            keep, stepped, times, frames, pos, noise, scene_g, fps)
     force = 1.0 + accel / scene_g
-
-    min_g = flight_fit.MIN_FLIGHT_GRAVITY_FRACTION * scene_g
-    # First pass: ends judged by each flight's own scatter, which measures the noise.
-    stretches = flight_fit.find_ballistic_stretches(tk, zk, tol, min_g, 0.0)
-    refined = flight_fit.noise_from_stretches(stretches)
-    if refined is not None and refined < noise:
-        # The longest flights measure the noise better than the quiet windows did.
-        noise, tol = refined, flight_fit.fit_tolerance(refined)
-        stretches = flight_fit.find_ballistic_stretches(tk, zk, tol, min_g, noise)
-    flights, spans = [], []
-    for s in stretches:
-        flight, span = _flight_record(s, keep, n, stepped, times, frames, pos, scene_g, fps)
-        flights.append(flight)
-        spans.append(span)
-    arcs = contact_checks.non_ballistic_arcs(pos[:, 2], accel, spans, scene_g)
-    # A parabola that fits only the crest of an arc is the crest's curvature, not a flight.
-    kept = [i for i, (i0, i1) in enumerate(spans) if not any(i0 <= b and a <= i1 for a, b in arcs)]
-    flights, spans = [flights[i] for i in kept], [spans[i] for i in kept]
 
     findings = []
     findings += contact_checks.arc_findings(frames, times, pos[:, 2], accel, arcs, scene_g, fps)
@@ -324,9 +379,9 @@ def analyse_trajectory(frames, positions, fps, *, gravity=BLENDER_DEFAULT_GRAVIT
         for f in flights:
             findings += gravity_findings(f, scene_g)
     for flight, span in zip(flights, spans):
-        findings += contact_checks.forward_findings(frames, times, pos, keep, span, tol)
+        findings += contact_checks.forward_findings(frames, times, pos, keep, span, tol, noise)
     findings += contact_checks.dip_findings(frames, force, spans, keep, arcs)
-    hops = contact_checks.hop_forces(frames, pos[:, 2], force, flights, spans, fps)
+    hops = contact_checks.hop_forces(frames, pos[:, 2], force, flights, spans, fps, noise)
     findings += contact_checks.force_findings(hops)
     for foot in feet:
         findings += contact_checks.foot_findings(frames, pos, foot, spans, noise)
@@ -336,7 +391,7 @@ def analyse_trajectory(frames, positions, fps, *, gravity=BLENDER_DEFAULT_GRAVIT
     findings.sort(key=lambda f: (f.first_frame, f.kind))
     return TrajectoryAnalysis(
         frames=frames, fps=fps, scene_gravity_m_s2=scene_g, height_m=pos[:, 2].copy(),
-        vertical_speed_m_s=speed, force_bw=force, noise_m=noise, fit_tolerance_m=tol,
+        vertical_speed_m_s=speed, force_bw=force, noise_m=noise, fit_tolerance_m=tol, measured=measured,
         stepped_keys=stepped, flights=tuple(flights), implied_gravity_m_s2=implied,
         gravity_comparisons=comparisons,
         character_scale=(scene_g / implied) if implied else None,

@@ -103,7 +103,11 @@ def gravity_findings(flight, scene_gravity):
     g = flight.rise_gravity_m_s2
     ratio = g / scene_gravity
     where = (flight.first_frame, flight.last_frame)
-    if abs(ratio - 1.0) > GRAVITY_MATCH_TOLERANCE:
+    low = flight.gravity_low_m_s2 if flight.gravity_low_m_s2 is not None else g
+    high = flight.gravity_high_m_s2 if flight.gravity_high_m_s2 is not None else g
+    # Reported only when the fit is sure: the 95 % interval leaves the scene's gravity out.
+    sure = not (low <= scene_gravity <= high)
+    if abs(ratio - 1.0) > GRAVITY_MATCH_TOLERANCE and sure:
         scale = scene_gravity / g
         retime = (g / scene_gravity) ** 0.5
         if ratio < 1:
@@ -113,7 +117,9 @@ def gravity_findings(flight, scene_gravity):
         out.append(Finding(
             kind, *where,
             f"flight frames {frame_text(where[0])}-{frame_text(where[1])} moves as if g were "
-            f"{g:.2f} m/s^2 ({ratio:.2f} g of the scene's {scene_gravity:.4g}): it {feel}; "
+            f"{g:.2f} m/s^2 ({ratio:.2f} g of the scene's {scene_gravity:.4g}"
+            + (f"; 95% interval {low:.2f}-{high:.2f}" if high - low > 0.005 * g else "")
+            + f"): it {feel}; "
             f"this timing is real for a character {scale:.2f} times this size",
             f"keep the heights and make the flight {retime:.2f}x as long "
             f"(hang time {flight.hang_time_s:.3f} s -> {flight.expected_hang_time_s:.3f} s), "
@@ -132,3 +138,13 @@ def gravity_findings(flight, scene_gravity):
             f"({flight.apex_hang_s:.3f} s) beyond free fall, around frame {frame_text(flight.apex_frame)}",
             "a stylisation; if it is not wanted, remove the held frames at the apex"))
     return out
+
+
+def no_flight_reason(height_m):
+    """Why no flight was found in a path of heights [m], in an animator's words, with the fix."""
+    rise = float(max(height_m) - min(height_m)) if len(height_m) else 0.0
+    if rise < 1e-3:
+        return (f"the checked path does not move up or down (within {rise * 1000:.1f} mm); "
+                "pick the body bone (--bone) or follow the whole-body centre of mass (--follow body)")
+    return (f"the path rises and falls by {rise:.3f} m but no stretch of it falls freely "
+            "(the body never leaves the ground, or the arc is not a free-fall curve)")

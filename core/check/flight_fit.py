@@ -16,6 +16,7 @@ import numpy as np
 
 from .parabola import Parabola, Stretch, fit_parabola  # noqa: F401  (re-exported)
 from .stylised_flights import merge_stylised
+from .local_fits import window_derivatives, window_residual_rms
 
 #: Smallest number of key samples accepted as a flight; a parabola has 3 parameters,
 #: so 5 samples leave two degrees of freedom to test it.
@@ -53,27 +54,23 @@ def key_samples(positions):
     stepped : bool
     """
     n = len(positions)
-    same = np.all(positions[1:] == positions[:-1], axis=1)
-    runs = []  # (start, length) of runs of identical samples
-    i = 0
-    while i < n:
-        j = i
-        while j + 1 < n and same[j]:
-            j += 1
-        runs.append((i, j - i + 1))
-        i = j + 1
-    short = [r for r in runs if 2 <= r[1] <= MAX_HOLD_FRAMES]
-    moving_frames = sum(length for _, length in runs if length <= MAX_HOLD_FRAMES)
-    held = sum(length for _, length in short)
-    if len(short) < 3 or held < 0.4 * max(moving_frames, 1):
+    if n < 2:
         return np.arange(n), False
-    keep = []
-    for start, length in runs:
-        if length <= MAX_HOLD_FRAMES:
-            keep.append(start)
-        else:
-            keep.extend(range(start, start + length))
-    keep = np.asarray(keep, dtype=int)
+    same = np.all(positions[1:] == positions[:-1], axis=1)
+    # Runs of identical samples: a run starts where a sample differs from the one before.
+    starts = np.flatnonzero(np.concatenate([[True], ~same]))
+    lengths = np.diff(np.concatenate([starts, [n]]))
+    short = (lengths >= 2) & (lengths <= MAX_HOLD_FRAMES)
+    moving_frames = int(lengths[lengths <= MAX_HOLD_FRAMES].sum())
+    held = int(lengths[short].sum())
+    if int(short.sum()) < 3 or held < 0.4 * max(moving_frames, 1):
+        return np.arange(n), False
+    # Short holds keep their first frame; long holds (standing still) keep every frame.
+    long_run = lengths > MAX_HOLD_FRAMES
+    per_sample_keep = np.repeat(long_run, lengths)
+    first_of_run = np.zeros(n, bool)
+    first_of_run[starts] = True
+    keep = np.flatnonzero(per_sample_keep | first_of_run)
     if len(keep) < 3:
         return np.arange(n), False
     return keep, True
@@ -92,20 +89,7 @@ def local_derivatives(t, z, half_width=2):
     -------
     speed, acceleration : ndarray  [m/s], [m/s^2]
     """
-    n = len(t)
-    w = min(2 * half_width + 1, n)
-    starts = np.clip(np.arange(n) - w // 2, 0, n - w)
-    idx = starts[:, None] + np.arange(w)[None, :]
-    dt = t[idx] - t[:, None]
-    span = np.maximum(np.ptp(dt, axis=1), 1e-300)[:, None]
-    u = dt / span
-    design = np.stack([np.ones_like(u), u, u * u], axis=2)  # (n, w, 3)
-    ata = np.einsum("nwi,nwj->nij", design, design)
-    atb = np.einsum("nwi,nw->ni", design, z[idx])
-    coef = np.linalg.solve(ata + 1e-12 * np.eye(3)[None], atb[..., None])[..., 0]
-    speed = coef[:, 1] / span[:, 0]
-    accel = 2.0 * coef[:, 2] / span[:, 0] ** 2
-    return speed, accel
+    return window_derivatives(t, z, half_width)
 
 
 def noise_level(t, z):
@@ -118,19 +102,11 @@ def noise_level(t, z):
     take-off and landing do not count as noise. Both this and the third-difference
     estimate only overstate the noise when motion leaks in, so the smaller is used.
     """
-    n = len(t)
     w = 9
     by_jerk = _noise_from_third_differences(t, z)
-    if n < w + 2:
+    if len(t) < w + 2:
         return by_jerk if np.isfinite(by_jerk) else 0.0
-    rms = np.empty(n - w + 1)
-    for s in range(n - w + 1):
-        tt = t[s:s + w] - t[s + w // 2]
-        u = tt / max(float(np.ptp(tt)), 1e-300)
-        design = np.vander(u, 5)
-        coef, *_ = np.linalg.lstsq(design, z[s:s + w], rcond=None)
-        r = z[s:s + w] - design @ coef
-        rms[s] = np.sqrt(np.mean(r * r))
+    rms = window_residual_rms(t, z, w, 4)
     return min(float(np.percentile(rms, 10) / np.sqrt(1.064 / w)), by_jerk)
 
 

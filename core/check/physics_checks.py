@@ -17,6 +17,7 @@ from ..base.constants import LANDING_FORCE_GRADES, PUSH_FORCE_GRADES, TAKEOFF_SP
 from ..base.constants import UNWEIGHTING_FORCE_FLOOR_GRADES
 from ..base.errors import InvalidTrajectoryError
 from .findings import Finding, frame_text, grade
+from .capture_flights import MEASURED_NOISE_M
 from .parabola import fit_parabola
 
 #: An arc is a run of downward acceleration stronger than this fraction of g.
@@ -55,6 +56,8 @@ class HopForces:
     mean_landing_bw : float or None  1 + fall / stopping distance [BW]
     unweighting_grade, push_grade, landing_grade, takeoff_speed_grade : str or None
     push_frames, landing_frames : (float, float) or None
+    stopping_distance_sd_m : float or None  standard error of the stopping distance [m]
+        (0 for keyed paths); a landing is too hard or too soft only beyond twice it
     """
 
     hop: int
@@ -71,6 +74,7 @@ class HopForces:
     takeoff_speed_grade: str
     push_frames: object
     landing_frames: object
+    stopping_distance_sd_m: object = None
 
 
 def validate_foot(foot, n):
@@ -149,8 +153,13 @@ def arc_findings(frames, times, z, accel, arcs, scene_g, fps):
     return out
 
 
-def forward_findings(frames, times, pos, keep, span, tol):
-    """``forward_speed_changes_in_flight`` when horizontal travel is not linear in the air."""
+def forward_findings(frames, times, pos, keep, span, tol, noise=0.0):
+    """``forward_speed_changes_in_flight`` when horizontal travel is not linear in the air.
+
+    The change is read from a quadratic fitted to all airborne samples (not from the end
+    samples, which jitter), and reported only when it exceeds
+    :data:`FORWARD_SPEED_CHANGE_TOLERANCE` by more than its 95 % uncertainty.
+    """
     i0, i1 = span
     k = keep[(keep >= i0) & (keep <= i1)]
     if len(k) < 4:
@@ -165,13 +174,33 @@ def forward_findings(frames, times, pos, keep, span, tol):
     change = float(np.hypot(*(v_end - v_start)))
     if np.max(np.abs(resid)) <= tol or change <= FORWARD_SPEED_CHANGE_TOLERANCE:
         return []
+    spread = _speed_change_spread(t, xy, quad, noise)
+    if change - 1.96 * spread <= FORWARD_SPEED_CHANGE_TOLERANCE:
+        return []
     s0, s1 = float(np.hypot(*v_start)), float(np.hypot(*v_end))
     return [Finding(
         "forward_speed_changes_in_flight", frames[i0], frames[i1],
         f"horizontal speed goes from {s0:.2f} to {s1:.2f} m/s between frames "
-        f"{frame_text(frames[i0])} and {frame_text(frames[i1])}; in the air nothing can push it",
+        f"{frame_text(frames[i0])} and {frame_text(frames[i1])} (fitted over the flight, "
+        f"+-{1.96 * spread:.2f} m/s); in the air nothing can push it",
         f"space the horizontal travel evenly across the flight ({float(np.hypot(*lin[0])):.2f} m/s "
         "on average), with linear interpolation on the forward channel")]
+
+
+def _speed_change_spread(t, xy, quad, noise):
+    """Standard error [m/s] of the fitted change of horizontal speed over the samples ``t``.
+
+    The change is ``2 a (t_end - t_start)`` for the quadratic coefficient ``a``; its error
+    comes from the fit's residual scale (never below the sample noise).
+    """
+    n = len(t)
+    if n <= 3:
+        return 0.0
+    design = np.stack([t * t, t, np.ones_like(t)], axis=1)
+    resid = xy - design @ quad
+    sigma = max(float(np.sqrt(np.sum(resid * resid) / (2 * (n - 3)))), noise)
+    var_a = float(np.linalg.pinv(design.T @ design)[0, 0]) * sigma ** 2
+    return 2.0 * float(t[-1] - t[0]) * float(np.sqrt(max(var_a, 0.0)))
 
 
 def dip_findings(frames, force, spans, keep, arcs=()):
@@ -198,13 +227,38 @@ def dip_findings(frames, force, spans, keep, arcs=()):
 
 
 def _touchdown_height(flight, frames, i1, fps):
-    """Fall parabola's height half a sample after the last airborne sample [m]."""
-    step = (frames[i1 + 1] - frames[i1]) / fps if i1 + 1 < len(frames) else 0.0
-    t_td = (flight.last_frame - flight.apex_frame) / fps - flight.apex_hang_s + 0.5 * step
+    """Fall parabola's height at touchdown [m]: at the flight's touchdown estimate, else
+    half a sample after the last airborne sample."""
+    if flight.touchdown_frame is not None:
+        t_td = (flight.touchdown_frame - flight.apex_frame) / fps - flight.apex_hang_s
+    else:
+        step = (frames[i1 + 1] - frames[i1]) / fps if i1 + 1 < len(frames) else 0.0
+        t_td = (flight.last_frame - flight.apex_frame) / fps - flight.apex_hang_s + 0.5 * step
     return flight.apex_height_m - 0.5 * flight.fall_gravity_m_s2 * t_td * t_td
 
 
-def hop_forces(frames, z, force, flights, spans, fps):
+def _lowest_height(frames, z, low, first, last, fps, noise):
+    """Height of the lowest point after a landing [m] and its standard error [m].
+
+    Keyed paths: the lowest sample. Measured paths: the bottom of a quadratic fitted
+    over about 0.1 s around the lowest sample, so that one sample's jitter does not set it.
+    """
+    if noise <= MEASURED_NOISE_M:
+        return float(z[low]), 0.0
+    step = float(np.median(np.diff(frames))) / fps if len(frames) > 1 else 1.0
+    half = max(2, int(round(0.05 / max(step, 1e-12))))
+    a, b = max(low - half, first), min(low + half, last)
+    if b - a < 3:
+        return float(z[low]), noise
+    tt = (frames[a:b + 1] - frames[low]) / fps
+    coef = np.polyfit(tt, z[a:b + 1], 2)
+    if coef[0] <= 0:
+        return float(z[low]), noise
+    bottom = float(coef[2] - coef[1] ** 2 / (4 * coef[0]))
+    return min(bottom, float(np.max(z[a:b + 1]))), noise * float(np.sqrt(3.0 / (b - a + 1)))
+
+
+def hop_forces(frames, z, force, flights, spans, fps, noise=0.0):
     """Peak forces, landing work and grades for each flight's push and landing.
 
     The landing's fall height and stopping distance are split at the touchdown
@@ -223,15 +277,23 @@ def hop_forces(frames, z, force, flights, spans, fps):
             peak_push = float(np.max(force[lowest:e + 1]))
             push_frames = (frames[lowest], frames[e])
         nxt = spans[hop + 1][0] - 1 if hop + 1 < len(spans) else n - 1
-        peak_land = fall = stop = mean_land = None
+        peak_land = fall = stop = mean_land = stop_sd = None
         land_frames = None
         if nxt - (i1 + 1) >= 1:
             low_l = i1 + 1 + int(np.argmin(z[i1 + 1:nxt + 1]))
             end = min(max(low_l, i1 + 3), nxt)
             peak_land = float(np.max(force[i1 + 1:end + 1]))
-            z_td = min(_touchdown_height(flight, frames, i1, fps), float(z[i1]))
+            z_td = _touchdown_height(flight, frames, i1, fps)
+            if flight.touchdown_frame is None or noise <= MEASURED_NOISE_M:
+                z_td = min(z_td, float(z[i1]))
+            z_low, low_sd = _lowest_height(frames, z, low_l, i1 + 1, nxt, fps, noise)
             fall = float(max(flight.apex_height_m - z_td, 0.0))
-            stop = float(max(z_td - z[low_l], 0.0))
+            stop = float(max(z_td - z_low, 0.0))
+            # Touchdown height: the parabola's spread plus where on it touchdown falls
+            # (a quarter sample at the touchdown speed).
+            step = (frames[min(i1 + 1, n - 1)] - frames[i1]) / fps
+            stop_sd = float(np.hypot(low_sd, np.hypot(noise, 0.25 * abs(flight.touchdown_speed_m_s) * step))) \
+                if noise > MEASURED_NOISE_M else 0.0
             mean_land = 1.0 + fall / max(stop, 1e-4)
             land_frames = (frames[i1 + 1], frames[end])
         out.append(HopForces(
@@ -243,7 +305,8 @@ def hop_forces(frames, z, force, flights, spans, fps):
             push_grade=None if peak_push is None else grade(peak_push, PUSH_FORCE_GRADES),
             landing_grade=None if peak_land is None else grade(max(peak_land, mean_land), LANDING_FORCE_GRADES),
             takeoff_speed_grade=grade(abs(flight.takeoff_speed_m_s), TAKEOFF_SPEED_GRADES),
-            push_frames=push_frames, landing_frames=land_frames))
+            push_frames=push_frames, landing_frames=land_frames,
+            stopping_distance_sd_m=stop_sd if peak_land is not None else None))
     return out
 
 
@@ -259,14 +322,18 @@ def force_findings(hops):
                 "lengthen the push (more frames from the lowest point to take-off) or deepen the crouch"))
         if h.peak_landing_bw is None:
             continue
+        spread = 1.96 * (h.stopping_distance_sd_m or 0.0)
+        # The mean force with the stop as long (short) as the uncertainty allows.
+        least = 1.0 + h.fall_height_m / max(h.stopping_distance_m + spread, 1e-4)
+        most = 1.0 + h.fall_height_m / max(h.stopping_distance_m - spread, 1e-4)
         hardest = max(h.peak_landing_bw, h.mean_landing_bw)
-        if hardest > LANDING_FORCE_GRADES[1]:
+        if max(h.peak_landing_bw, least) > LANDING_FORCE_GRADES[1]:
             out.append(Finding(
                 "landing_too_hard", *h.landing_frames,
                 f"a {h.fall_height_m:.2f} m fall stopped within {h.stopping_distance_m * 100:.1f} cm "
                 f"takes {hardest:.1f} body weights, beyond the athletic {LANDING_FORCE_GRADES[1]:g} BW",
                 "let the body sink further after touchdown (bend the knees over more frames)"))
-        elif h.fall_height_m >= SOFT_LANDING_MIN_FALL_M and h.mean_landing_bw < SOFT_LANDING_MEAN_FORCE_BW:
+        elif h.fall_height_m >= SOFT_LANDING_MIN_FALL_M and most < SOFT_LANDING_MEAN_FORCE_BW:
             out.append(Finding(
                 "landing_too_soft", *h.landing_frames,
                 f"a {h.fall_height_m:.2f} m fall sinks {h.stopping_distance_m:.2f} m after touchdown: "

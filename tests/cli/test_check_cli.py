@@ -201,3 +201,16 @@ def test_json_of_any_analysis_is_strict_json(pos):
         return
     text = json.dumps(to_json_dict(result), allow_nan=False)  # no NaN or Infinity (RFC 8259)
     assert json.loads(text)["frame_count"] == len(pos)
+
+
+def test_a_still_path_is_never_called_consistent():
+    # A path that does not move has no flight to check against gravity (issue: a .blend
+    # object sampled instead of its body bone was reported "physically consistent").
+    from cli.check import report_text
+    from leapwright.core.check.analysis import analyse_trajectory
+
+    frames = np.arange(1.0, 49.0)
+    pos = np.tile([0.0, 0.0, 1.0], (len(frames), 1))
+    text = report_text(analyse_trajectory(frames, pos, 24.0), "still.csv")
+    assert "does not move" in text and "pick the body bone" in text
+    assert "physically consistent" not in text

@@ -1,0 +1,104 @@
+"""Benchmark: ``leapwright check``'s analysis of a 1,000,000-sample path.
+
+Two paths of 1,000,000 samples each, checked by ``analyse_trajectory`` (the same call the
+command line and the panel make):
+
+* measured: captured-like, 240 fps (69 minutes): countermovement jumps every 3 s with
+  quiet standing between them, 0.5 mm jitter and 1.5 mm soft-tissue wobble;
+* keyed: the same jumps without noise (a hand-keyed path is smooth to rounding).
+
+The jumps come from textbook mechanics (a smooth push to a 2.6 m/s take-off, free flight,
+a settle back to standing), not from the planner, so the bench measures the checker alone.
+Time is wall-clock for one run; peak memory is the process's resident peak
+(``resource.getrusage``), which includes the path itself. The last line is one JSON object.
+
+Usage::
+
+    .venv/bin/python bench/check_path.py [--samples 1000000]
+"""
+
+import argparse
+import json
+import resource
+import sys
+import time
+
+import numpy as np
+
+from leapwright.core.check.analysis import analyse_trajectory
+
+FPS = 240.0
+G = 9.81
+#: The issue's targets for 1,000,000 samples.
+TARGET_S = 10.0
+TARGET_MB = 1024.0
+
+
+def jump_cycle(fps, period_s=3.0, v0=2.6, dip_m=0.3):
+    """Heights [m] of one jump cycle: stand, dip and push, fly, settle, stand."""
+    t = np.arange(int(period_s * fps)) / fps
+    push_s = 0.45
+    t_off = 0.8
+    t_fl = 2 * v0 / G
+    z = np.zeros_like(t)
+    dip = (t >= t_off - push_s) & (t < t_off)
+    s = (t[dip] - (t_off - push_s)) / push_s
+    # Down and back up, leaving at v0: z(0) = z(1) = 0 and dz/dt(1) = v0.
+    z[dip] = v0 * push_s * (s ** 3 - s ** 2) - dip_m * 4 * s * (1 - s) ** 2
+    air = (t >= t_off) & (t < t_off + t_fl)
+    tau = t[air] - t_off
+    z[air] = v0 * tau - 0.5 * G * tau ** 2
+    land = t >= t_off + t_fl
+    tau = t[land] - (t_off + t_fl)
+    z[land] = -0.12 * np.sin(np.pi * np.minimum(tau / 0.5, 1.0)) * np.exp(-tau)
+    return 1.0 + z
+
+
+def long_path(samples, noisy, seed=0):
+    cycle = jump_cycle(FPS)
+    z = np.tile(cycle, samples // len(cycle) + 1)[:samples]
+    t = np.arange(samples) / FPS
+    pos = np.stack([0.1 * np.sin(0.05 * t), np.zeros_like(t), z], axis=1)
+    if noisy:
+        rng = np.random.default_rng(seed)
+        pos += rng.normal(0, 5e-4, pos.shape)
+        wob = sum(rng.normal() * np.sin(2 * np.pi * rng.uniform(1.5, 6.0) * t + rng.uniform(0, 6.3)) for _ in range(4))
+        pos[:, 2] += 1.5e-3 * wob / np.std(wob)
+    return pos, samples // len(cycle)
+
+
+def timed(pos):
+    frames = np.arange(len(pos), dtype=float)
+    start = time.perf_counter()
+    result = analyse_trajectory(frames, pos, FPS, gravity=G)
+    return time.perf_counter() - start, result
+
+
+def main(argv=None):
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--samples", type=int, default=1_000_000)
+    parser.add_argument("--paths", default="measured,keyed", help="which paths to check (comma-separated)")
+    args = parser.parse_args(argv)
+    out = {}
+    for name, noisy in (("measured", True), ("keyed", False)):
+        if name not in args.paths.split(","):
+            continue
+        pos, jumps = long_path(args.samples, noisy)
+        seconds, result = timed(pos)
+        good = [f for f in result.flights if abs(f.gravity_m_s2 / G - 1) < 0.05]
+        print(f"{name}: {args.samples} samples ({jumps} jumps) checked in {seconds:.2f} s; "
+              f"{len(result.flights)} flights, {len(good)} within 5% of g; measured={result.measured}")
+        out[f"check_1e6_{name}_s"] = round(seconds, 3)
+        out[f"check_1e6_{name}_flights"] = len(result.flights)
+        out[f"check_1e6_{name}_jumps"] = jumps
+    peak_mb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
+    out["check_1e6_s"] = max(v for k, v in out.items() if k.endswith("_s"))
+    out["check_1e6_peak_mb"] = round(peak_mb, 1)
+    out["targets"] = {"seconds": TARGET_S, "megabytes": TARGET_MB}
+    print(f"peak resident memory {peak_mb:.0f} MB (targets: {TARGET_S:g} s, {TARGET_MB:g} MB)")
+    print(json.dumps(out))
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
