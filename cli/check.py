@@ -16,7 +16,6 @@ Exit codes: 0 no problem found (stylisations may still be listed), 1 problems fo
 2 bad input (one line on stderr).
 """
 
-import csv
 import json
 import math
 import os
@@ -35,11 +34,9 @@ from leapwright.core.plan.goals import gravity_from
 from leapwright.core.base.timebase import parse_fps
 
 from cli import body as body_arc
+from cli.path_csv import REQUIRED_COLUMNS, _number, read_csv_tracks, read_trajectory_csv  # noqa: F401  (part of check's API)
 from cli.batch import add_batch_arguments, is_batch, report_batch, run_files
 from cli.force_trace import add_force_trace_arguments, run_force_trace
-
-REQUIRED_COLUMNS = ("frame", "x", "y", "z")
-
 
 def add_parser(subparsers):
     """Register ``check`` on an argparse subparsers object."""
@@ -73,68 +70,6 @@ def add_parser(subparsers):
     add_force_trace_arguments(p)
     p.set_defaults(func=run)
     return p
-
-
-def _number(text, line, column):
-    try:
-        value = float(text)
-    except (TypeError, ValueError):
-        raise InvalidTrajectoryError(f"line {line}: {column} = {text!r} is not a number") from None
-    if not math.isfinite(value):
-        raise InvalidTrajectoryError(
-            f"line {line}: {column} is {text.strip()!r}; every value must be a finite number "
-            "(fill it in or drop the row)")
-    return value
-
-
-def read_trajectory_csv(path):
-    """Frames, positions (n, 3) [m] and foot tracks ``{name: (n, 3)}`` from a CSV file.
-
-    Landmark columns (:data:`body_arc.LANDMARK_COLUMNS`) are not foot tracks; see
-    :func:`read_csv_tracks` for every column triple.
-    """
-    frames, positions, tracks = read_csv_tracks(path)
-    return frames, positions, {k: v for k, v in tracks.items() if k not in body_arc.LANDMARK_COLUMNS}
-
-
-def read_csv_tracks(path):
-    """Frames, positions (n, 3) [m] and every column triple ``{name: (n, 3)}`` of a CSV file.
-
-    Raises
-    ------
-    InvalidTrajectoryError
-        Missing file or column, a non-numeric or non-finite value, naming the line.
-    """
-    try:
-        with open(path, newline="", encoding="utf-8-sig") as fh:
-            rows = list(csv.reader(fh))
-    except OSError as exc:
-        raise InvalidTrajectoryError(f"cannot read {path!r}: {exc.strerror}") from None
-    except UnicodeDecodeError:
-        raise InvalidTrajectoryError(f"{path!r} is not a text CSV file") from None
-    if not rows:
-        raise InvalidTrajectoryError(f"{path!r} is empty; it needs a header frame,x,y,z and one row per frame")
-    header = [h.strip() for h in rows[0]]
-    missing = [c for c in REQUIRED_COLUMNS if c not in header]
-    if missing:
-        raise InvalidTrajectoryError(
-            f"{path!r} has no column {', '.join(repr(m) for m in missing)} (header: {','.join(header)}); "
-            "the header must contain frame,x,y,z")
-    col = {name: i for i, name in enumerate(header)}
-    triple_names = sorted(name[:-2] for name in header
-                        if name.endswith("_x") and name[:-2] + "_y" in col and name[:-2] + "_z" in col)
-    wanted = list(REQUIRED_COLUMNS) + [f"{f}_{a}" for f in triple_names for a in "xyz"]
-    data = []
-    for line, row in enumerate(rows[1:], start=2):
-        if not any(cell.strip() for cell in row):
-            continue
-        if len(row) < len(header):
-            raise InvalidTrajectoryError(
-                f"line {line} has {len(row)} values but the header has {len(header)}; fill in every column")
-        data.append([_number(row[col[c]], line, c) for c in wanted])
-    arr = np.array(data, dtype=float).reshape(-1, len(wanted))
-    tracks = {name: arr[:, 4 + 3 * k:7 + 3 * k] for k, name in enumerate(triple_names)}
-    return arr[:, 0], arr[:, 1:4], tracks
 
 
 def _leg_lengths(items, feet):
