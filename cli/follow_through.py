@@ -42,7 +42,11 @@ def add_parser(subparsers):
 
 
 def _bone_names(values):
-    return tuple(n.strip() for v in values for n in v.split(",") if n.strip())
+    names = tuple(n.strip() for v in values for n in v.split(",") if n.strip())
+    twice = sorted({n for n in names if names.count(n) > 1})
+    if twice:
+        raise InvalidGoalError(f"--bones names {', '.join(twice)} more than once; name each bone once")
+    return names
 
 
 def _find_rig(bpy, name, bones):

@@ -11,6 +11,7 @@ import bpy
 from ..blender import scene_units
 from ..blender import ownership
 from ..plan import link as plan_link
+from ..blender.write_guard import in_object_or_pose_mode
 from ..rig import space as rig_space, verify
 from . import keys as arm_keys, retime
 from ..core.base.errors import LeapwrightError
@@ -46,7 +47,7 @@ class _ArmOperator:
 
     @classmethod
     def poll(cls, context):
-        return _ready(context)
+        return in_object_or_pose_mode(cls, context, "the arm swing is found and keyed") and _ready(context)
 
     def _refuse(self, message):
         self.report({"ERROR"}, message)

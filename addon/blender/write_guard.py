@@ -32,6 +32,15 @@ GUARD_ATTRIBUTE = "_lw_guarded"
 READOUTS = frozenset({"implied_gravity"})
 
 
+def in_object_or_pose_mode(cls, context, doing):
+    """An operator's poll: True in object or pose mode; otherwise Blender shows the animator how to
+    get there (``poll_message_set``) instead of its own "context is incorrect"."""
+    if context.mode in {"OBJECT", "POSE"}:
+        return True
+    cls.poll_message_set(f"leave edit mode (Tab): {doing} in object or pose mode")
+    return False
+
+
 def _settings_groups(scene):
     for name in dir(scene):
         if name.startswith("leapwright"):

@@ -6,6 +6,7 @@ run leaves the file as it was. No ``bpy.ops`` inside ``execute``.
 
 import bpy
 
+from ..blender.write_guard import in_object_or_pose_mode
 from ..blender import scene_units
 from . import arc as ac
 from ..rig import space as rig_space
@@ -74,7 +75,7 @@ class LEAPWRIGHT_OT_keep_body_on_arc(bpy.types.Operator):
 
     @classmethod
     def poll(cls, context):
-        return _ready(context)
+        return in_object_or_pose_mode(cls, context, "the body is kept on its arc") and _ready(context)
 
     def execute(self, context):
         scene, rig = context.scene, rig_space.chosen_rig(context)

@@ -146,6 +146,19 @@ def test_follow_through_frames_beyond_blender_are_refused_before_blender_starts(
     assert blend.read_bytes() == b"not opened: the frames are refused first"
 
 
+@pytest.mark.parametrize("bones", [("a,b,a",), ("a", "b", "a"), ("a,b", "b")])
+def test_a_bone_named_twice_is_refused_before_blender_starts(tmp_path, bones):
+    # Two simulations writing the same bone's keys would fight over them: the panel's guard refuses
+    # a bone named twice, and so does the command line, before the file is opened.
+    blend = tmp_path / "shot.blend"
+    blend.write_bytes(b"not opened: the bones are refused first")
+    res = leapwright("follow-through", str(blend), "--bones", *bones)
+    assert res.returncode == 2
+    line = _one_line(res)
+    assert "more than once" in line and ("a" in line or "b" in line)
+    assert blend.read_bytes() == b"not opened: the bones are refused first"
+
+
 def test_a_frame_range_too_big_for_memory_is_refused_before_allocating():
     # 2,000,001 frames x 60 bones x 512 B = 61 GB: more than half of any 64 GB machine's free memory.
     assert limits.memory_problem(2_000_001, 60, available=64 << 30) is not None
