@@ -42,7 +42,7 @@ from .state import (PREFIX, STATE_PROPERTY, STATE_VERSION, USER_TRACK, StateErro
 
 #: What :func:`clear` kept for the animator since the operator began, as sentences; the write guard
 #: empties it before each operator and reports it after (:mod:`write_guard`).
-NOTES = []
+NOTES: list = []
 
 
 def user_action(obj, state=None):

@@ -21,7 +21,7 @@ from ..core.base.errors import LeapwrightError
 
 CAPABILITY = "plan"
 #: Rig name -> lines of the last played-back comparison (shown in the panel; not saved).
-LAST_PLAYED = {}
+LAST_PLAYED: dict = {}
 
 CONFLICT_ITEMS = (
     ("ASK", "Ask", "Stop and say which channels already have your keys"),

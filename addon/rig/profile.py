@@ -65,7 +65,7 @@ def stored(rig):
 
 
 #: Profiles found this session and not saved: (rig name, bone count) -> profile.
-_FOUND = {}
+_FOUND: dict = {}
 
 
 def known(rig, find=True):
