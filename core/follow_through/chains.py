@@ -24,18 +24,15 @@ Calling from the add-on (F samples, B chosen bones)::
 With the NLA COMBINE blend, quaternions multiply on the right (``lower @ delta``),
 which is the convention of the deltas here.
 
-Model (details in :mod:`.integrator` and :mod:`.chain_mechanics`): every chosen
-bone is a point mass (its bob) on a rigid link, held by a damped rotational spring
-to its chain parent; a child's head rides on its parent, so the chain is a true
-multi-link pendulum: a child's weight and inertia pull on every joint above it,
-and a parent's swing carries its children. Every bob feels the effective gravity
-``g_eff = g - a_head`` (``|g_eff| = W/m``, zero in flight) and the animated turning
-of its own bone. The animated pose is the loaded shape at 1 g, so
+Model (details in :mod:`.spring_integrator`): every chosen bone is a point mass on
+a rigid link held by a damped rotational spring to its chain parent. It feels the
+effective gravity ``g_eff = g - a_head`` (``|g_eff| = W/m``, zero in flight) and the
+animated turning of its own bone. The animated pose is the loaded shape at 1 g, so
 
 * a rig standing still gets exactly zero offset;
-* in free fall each joint floats up to its unloaded shape: ``-sag`` for a chain
-  held level (``-sag * sin(angle from straight down)`` for one bone in general, as
-  a pendulum's lever gives);
+* in free fall each joint floats up to its unloaded shape: ``-sag`` for a bone
+  whose loaded direction is horizontal (``-sag * sin(angle from straight down)``
+  in general, as a pendulum's lever gives);
 * on landing the extra weight bends it further, in proportion to the force.
 
 The parameters are defined operationally, on one bone:
@@ -44,23 +41,17 @@ The parameters are defined operationally, on one bone:
 * ``sag`` [rad]: static bend at standard gravity, standing still, of a bone held
   horizontal, measured from its unloaded shape. It fixes the swing length
   ``l = g0 / (sag * omega_n^2)`` (``g0`` standard gravity): sag is a property of
-  the object, so under moon gravity the same hair swings slower and sags less.
-  In a chain each joint's spring and damper are scaled by the load it carries
-  (chain held straight and level), so every joint sags by ``sag`` and the last
-  bone keeps the one-bone frequency and damping ratio;
+  the object, so under moon gravity the same hair swings slower and sags less;
 * ``angle_limit`` [rad]: largest bend of a joint away from its animated rotation;
 * ``transmission`` mu in [0, 1]: the share of a joint's damping that works across
   the joint, against the parent's swing rate, and so carries the parent's motion
   into the child; the rest works against the world, as still air would. 1 is
   internal friction only (a loose whip); lower values make the chain trail in
-  space (drag). Statics do not depend on it, so the sag stays the sag;
-* ``mass`` [relative]: how heavy the bone is against the others of its chain.
+  space (drag). Statics do not depend on it, so the sag stays the sag.
 
-Simplifications, each kept on purpose: a bone's mass sits at one point (its bob);
-the mass matrix is that of the chain's first animated pose, the same for the three
-axes (the difference is carried by the sweeps); the bobs' centripetal pull uses
-the simulated rates only; a weightless bone (sag 0) neither weighs on nor pulls
-its parent beyond its spring.
+Simplifications, each kept on purpose: a bone carries only its own weight (so
+each joint sags by the same ``sag``), and the offsets do not move the heads below
+them (the drive is the animated motion; the coupling runs parent to child only).
 """
 
 import math
@@ -76,10 +67,9 @@ from ..base.errors import InvalidGoalError
 from ..base.rotation_vectors import (quaternion_conjugate, quaternion_multiply, quaternion_to_rotvec,
     rotvec_to_quaternion)
 from .apparent_weight import apparent_gravity
-from .contacts import Colliders
 from .integrator import ChainSlots, integrate
 
-__all__ = ["BakeOptions", "ChainBake", "ChainParameters", "Colliders", "LinkCoefficients", "bake_chains"]
+__all__ = ["BakeOptions", "ChainBake", "ChainParameters", "LinkCoefficients", "bake_chains"]
 
 @dataclass(frozen=True)
 class BakeOptions:
@@ -150,8 +140,22 @@ class ChainBake:
     passes: int
 
 
-def bake_chains(times, heads, rotations, parents, parameters, gravity=(0.0, 0.0, -STANDARD_GRAVITY), options=BakeOptions(),
-                colliders=None):
+def _drive(slots, times, directions, accel, alpha, g_ref, cyclic, padding):
+    """The integrator's drive on the slots, at the samples and halfway between (``_mid``):
+    animated bone directions, apparent gravity at the heads [m/s^2] and angular
+    accelerations [rad/s^2]."""
+    drive = {}
+    for name, value in (("directions", directions), ("head_acceleration", accel), ("alpha", alpha)):
+        drive[name] = slots.to_slots(value)
+        drive[name + "_mid"] = slots.to_slots(midpoint_values(times, value, cyclic))
+    for suffix in ("", "_mid"):
+        # from the accelerations, so a still rig feels g_ref exactly (zero offset)
+        drive["g_eff" + suffix] = apparent_gravity(g_ref, drive.pop("head_acceleration" + suffix))
+        drive["directions" + suffix][:, padding, 1] = 1.0  # unused slots get any unit direction
+    return drive
+
+
+def bake_chains(times, heads, rotations, parents, parameters, gravity=(0.0, 0.0, -STANDARD_GRAVITY), options=BakeOptions()):
     """Simulate drag and follow-through for the chosen bones.
 
     Parameters
@@ -174,8 +178,6 @@ def bake_chains(times, heads, rotations, parents, parameters, gravity=(0.0, 0.0,
         Scene gravity [m/s^2], world frame; the animated pose is the loaded shape
         under it.
     options : BakeOptions
-    colliders : Colliders, optional
-        Body capsules and ground the bones' tips stay out of (:mod:`.contacts`).
 
     Returns
     -------
@@ -192,7 +194,6 @@ def bake_chains(times, heads, rotations, parents, parameters, gravity=(0.0, 0.0,
     frames, bones = heads.shape[:2]
     coeffs = coefficient_arrays(parameters, bones)
     substeps, tolerance = _check_options(options, frames)
-    contact = _contact_arrays(colliders, frames, bones, substeps, g_ref)
     slots = ChainSlots.from_parents(parents)
     slot_coeffs = {name: slots.to_slots(value[:, None], 0.0)[:, 0] for name, value in coeffs.items()}
     slot_coeffs["limit"] = slots.to_slots(coeffs["limit"][:, None], math.pi)[:, 0]
@@ -205,9 +206,8 @@ def bake_chains(times, heads, rotations, parents, parameters, gravity=(0.0, 0.0,
         seg_times = times[lo:hi]
         accel, alpha = frame_accelerations(seg_times, heads[lo:hi], rots[lo:hi], options.cyclic)
         check_drive(accel, alpha, seg_times, lo)
-        drive = _segment_drive(slots, seg_times, heads[lo:hi], rots[lo:hi], parents, accel, alpha, g_ref, options.cyclic, padding)
-        here = None if contact is None else _contact_nodes(contact, lo, hi, slots)
-        offsets, sweeps, _ = integrate(slots, slot_coeffs, seg_times, drive, g_ref, options.cyclic, substeps, here)
+        drive = _drive(slots, seg_times, rots[lo:hi, :, :, 1], accel, alpha, g_ref, options.cyclic, padding)
+        offsets, sweeps, _ = integrate(slots, slot_coeffs, seg_times, drive, g_ref, options.cyclic, substeps)
         passes = max(passes, sweeps)
         world[lo:hi] = offsets[:, slots.slot]
     # joint rotation in world axes, R(psi_p)^T R(psi_c), then in the bone's own axes
@@ -226,48 +226,6 @@ def bake_chains(times, heads, rotations, parents, parameters, gravity=(0.0, 0.0,
         mask = reduce_keys(quats, tolerance, mask, stepped, split_segments(frames, options.resets))
     peaks = np.max(np.linalg.norm(rotvecs, axis=-1), axis=0) if bones else np.zeros(0)
     return ChainBake(times, rotvecs, quats, world, mask, stepped, peaks, mismatch, passes)
-
-
-def _segment_drive(slots, times, heads, rots, parents, accel, alpha, g_ref, cyclic, padding):
-    """The integrator's drive on the slots, at the samples and halfway between (``_mid``):
-    animated bone directions, apparent gravity at the heads [m/s^2], angular
-    accelerations [rad/s^2] and each head's offset from its parent's head [m]."""
-    levers = np.where((parents >= 0)[None, :, None], heads - heads[:, np.maximum(parents, 0)], 0.0)
-    per_frame = {"directions": rots[:, :, :, 1], "head_acceleration": accel, "alpha": alpha, "levers": levers,
-                 "heads": heads}
-    drive = {}
-    for name, value in per_frame.items():
-        drive[name] = slots.to_slots(value)
-        drive[name + "_mid"] = slots.to_slots(midpoint_values(times, value, cyclic))
-    for suffix in ("", "_mid"):
-        # from the accelerations, so a still rig feels g_ref exactly (zero offset)
-        drive["g_eff" + suffix] = apparent_gravity(g_ref, drive.pop("head_acceleration" + suffix))
-        drive["directions" + suffix][:, padding, 1] = 1.0  # unused slots get any unit direction
-    return drive
-
-
-def _contact_arrays(colliders, frames, bones, substeps, g_ref):
-    """Checked collider arrays, or None without colliders."""
-    if colliders is None:
-        return None
-    if not isinstance(colliders, Colliders):
-        raise InvalidGoalError(f"colliders must be Colliders, got {type(colliders).__name__}; build one with Colliders(...)")
-    if substeps != 1:
-        raise InvalidGoalError(f"body contact is held at the frames and halfway between them, so it needs substeps 1, got {substeps}")
-    starts, ends, radii, ground, lengths = colliders.checked(frames, bones)
-    gnorm = float(np.linalg.norm(g_ref))
-    up = -g_ref / gnorm if gnorm > 0.0 else np.array([0.0, 0.0, 1.0])
-    return {"starts": starts, "ends": ends, "radii": radii, "ground": ground, "up": up, "lengths": lengths}
-
-
-def _contact_nodes(contact, lo, hi, slots):
-    """The colliders of samples ``lo:hi`` at the frames, then halfway between (linear)."""
-    out = dict(contact)
-    for name in ("starts", "ends"):
-        seg = contact[name][lo:hi]
-        out[name] = np.concatenate([seg, 0.5 * (seg[:-1] + seg[1:])])
-    out["lengths"] = slots.to_slots(contact["lengths"][:, None])[:, 0]
-    return out
 
 
 def _check_options(options, frames):

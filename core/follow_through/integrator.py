@@ -1,46 +1,54 @@
-"""Chains as multi-link pendulums under apparent weight, stepped exactly mode by mode.
+"""Chains of damped rotational springs under apparent weight, stepped exactly.
 
-Every bone is a point mass on a rigid link at its swing length from its head; a
-child's head rides on its parent, and each joint holds its child with a damped
-rotational spring (:mod:`.chain_mechanics`). The state of bone ``i`` is its
-world-frame offset ``psi_i`` [rad] (a rotation vector: simulated world rotation =
-``R(psi_i) W_i``, ``W_i`` the animated one) and its rate ``psi_i'`` [rad/s]. The
-equations of motion of every chain,
+Each bone ``i`` is a point mass on a rigid link of swing length ``l_i`` from its
+head, held by a damped rotational spring. Its state is the world-frame offset
+``psi_i`` [rad] (a rotation vector: simulated world rotation = ``R(psi_i) W_i``,
+``W_i`` the animated one) and its rate ``psi_i'`` [rad/s]. Per unit of the bone's
+inertia (Newton's second law about the moving head, point mass):
 
-    M0 psi'' + C psi' + K psi = Q(psi, psi', psi'', t),
+    psi_i'' = -k_i (psi_i - psi_p) - c_i (psi_i' - mu_i psi_p')
+              + (1/l_i) [d_i x g_eff_i - d0_i x g_ref] - alpha_i,perp
 
-have the mass matrix ``M0`` of the chain's first animated pose (the same for the
-three axes), the joint springs ``K`` and dampers ``C`` (a spring's reaction pulls
-the parent as much as it holds the child), and every other generalized force in
-``Q``: apparent weight relative to the loaded pose (the animated pose is the
-loaded shape at the reference gravity, so a still rig stays put), the animated
-turning, the chain bending away from ``M0``'s pose, the centripetal pulls.
+with ``k_i = omega_n^2`` [1/s^2], ``c_i = 2 zeta omega_n`` [1/s], ``p`` the chain
+parent (``psi_p = 0`` for a chain's first bone), ``mu_i`` the *transmission* (the
+share of the damping that acts across the joint, against the parent's swing rate;
+the rest acts against the world, as still air would), ``d_i`` the
+simulated bone direction, ``d0_i`` the animated one, ``g_eff = g - a_head`` and
+``alpha_i,perp`` the animated world angular acceleration across the bone (a point
+mass has no inertia about its own link). The constant ``d0 x g_ref`` term makes the
+animated pose the loaded shape at the reference gravity, so a still rig stays put.
 
 How it is stepped (a whole bake is a handful of array passes, no per-bone loop):
 
-* Per tree, the modes of ``(K, M0)`` turn the linear part into independent scalar
-  oscillators. Per frame interval and mode, the mode's spring, its share of the
-  damping and its share of the apparent weight's stiffness (evaluated halfway
-  through the interval) are stepped exactly in closed form (:mod:`.steps`); every
-  other force enters as the parabola through its values at the interval's start,
-  middle and end. An exact step of a damped oscillator never grows, so no
-  stiffness or frame rate can make a bake blow up; a buckling (negative)
-  stiffness beyond the spring's own stays in the force, and the angle limit
-  bounds the pose. The modes' steps are affine maps composed in pairs three
-  times over (an eighth of the frames in the sequential part).
-* ``Q`` is nonlinear in the path. The whole range is swept: each sweep evaluates
-  ``Q`` along the previous sweep's path (joints held within their limits) and
-  solves the modes' recurrences, until no offset changes by more than
-  :data:`SWEEP_TOLERANCE`, or the distance left, estimated from the rate of
-  convergence, is below :data:`ERROR_TOLERANCE` (waveform relaxation). The inertia
-  the linear part already holds (``M0 psi''``) is added back to ``Q`` with the
-  previous path's accelerations, as is the stiffness the exact step applies, so
-  at convergence the full equations hold. ``Q`` has no part about a bone's own
-  animated axis (a point mass has no inertia there), so the twist follows the
-  parent through the springs. A cyclic bake solves each sweep's periodic state
-  directly (the product of the step maps is the monodromy matrix). At
-  convergence this is a collocation scheme: exact for the linear part, at least
-  second order for the rest.
+* Per frame interval and bone, the spring, its damper and the gravity stiffness
+  ``s = (d . g_eff)/l`` (evaluated halfway through the interval, on the animated
+  pose) form a scalar oscillator, the same for the three axes, stepped exactly in
+  closed form (:mod:`.chain_steps`). Every other force enters as the parabola
+  through its values at the interval's start, middle and end. An exact step of a
+  damped oscillator never grows, so no stiffness or frame rate can make a bake
+  blow up; a buckling (negative) stiffness beyond the spring's own stays in the
+  force, and the angle limit bounds the pose.
+* The pull of the parent (``k psi_p + mu c psi_p'``, its middle value from the
+  cubic Hermite interpolant of the parent's states) is linear in the parent's
+  states at the interval's ends, so a chain's step is the affine map
+  ``X_{f+1} = M_f X_f + Q_f U_f`` with ``M_f = (I - E1)^-1 (Phi + E0)``: ``E1``
+  only links children to parents, so forward substitution, one chain level at a
+  time, gives ``M_f`` and ``Q_f`` exactly.
+  The maps of all intervals are built at once; only their composition runs frame
+  by frame, after composing them in pairs three times over (an eighth of the
+  frames in the sequential part).
+* Gravity's torque is nonlinear in the offsets. The whole range is swept: each
+  sweep evaluates the force along the previous sweep's path (joints held within
+  their limits) and solves the affine recurrence, until no offset changes by
+  more than :data:`SWEEP_TOLERANCE`, or the distance left, estimated from the rate of
+  convergence, is below :data:`ERROR_TOLERANCE` (waveform relaxation). The stiffness ``s``
+  the exact step applies is given back in the force on the swing only, and the
+  force has no part about the bone's own animated axis (a point mass has no
+  inertia there), so the twist is stepped in the linear part alone: it follows
+  the parent through the spring, held by ``k + s``. A cyclic bake solves each
+  sweep's periodic state directly (the product of the step maps is the monodromy
+  matrix). At convergence this is a collocation scheme: exact for the linear
+  part, at least second order for the rest.
 * The angle limit is a hold on the path (joint rotations scaled back to the
   limit), not an impact: the rate is not stopped there.
 * Stability: every sweep is a stable linear map of its force (exact steps of
@@ -50,8 +58,6 @@ How it is stepped (a whole bake is a handful of array passes, no per-bone loop):
 
 References
 ----------
-Goldstein, H., Poole, C. & Safko, J. 2002, "Classical Mechanics", 3rd ed., ch. 6
-(normal modes of small oscillations, ``K q = omega^2 M q``).
 Hochbruck, M. & Ostermann, A. 2010, "Exponential integrators", Acta Numerica
 19:209-286 (exponential integrators with a polynomial force, their stability).
 Van Loan, C. F. 1978, "Computing integrals involving the matrix exponential",
@@ -66,18 +72,16 @@ of a general class of recurrence equations", IEEE Trans. Computers C-22(8):786-7
 
 import numpy as np
 
-from .affine_runs import compose_pairs, periodic_start, run_affine
-from .contacts import hold_outside
-from .chain_mechanics import bob_inertia, chain_loads, chain_matrices, generalized_forces, per_tree_product, turned
 from .samples import refine_drive
-from .slots import ChainSlots, limit_joints
+from .slots import ChainSlots, flat_matrices, limit_joints  # noqa: F401  (ChainSlots is part of the API)
+from .affine_runs import compose_pairs, periodic_start, run_affine
 from .steps import expm_batched, oscillator_steps
 
 __all__ = ["ChainSlots", "expm_batched", "integrate", "SWEEP_TOLERANCE", "ERROR_TOLERANCE", "MAX_SWEEPS"]
 
 #: A sweep that changes no offset by more than this [rad] (0.017 deg) ends the iteration.
 SWEEP_TOLERANCE = 3e-4
-#: The sweeps converge linearly (several times a sweep on a violent drive, hair tips swinging
+#: The sweeps converge linearly (4-7x a sweep on a violent drive, hair tips swinging
 #: past 90 deg), so the distance left to the converged path is about
 #: ``change * rate / (1 - rate)``, with ``rate`` the slower of the last two ratios of
 #: successive changes (the a-posteriori bound of a contraction). The iteration also
@@ -92,6 +96,102 @@ STIFFNESS_SWEEPS = 1
 _PAIR_LEVELS = 3
 
 
+def _turned(px, py, pz, d0):
+    """Components of ``d0`` (3, ...) turned by the rotation vectors ``(px, py, pz)`` (Rodrigues)."""
+    theta = np.sqrt(px * px + py * py + pz * pz)
+    # sin(t)/t = sin(t/2) cos(t/2) / (t/2) and (1 - cos t)/t^2 = (sin(t/2)/(t/2))^2 / 2,
+    # written with the half angle so that neither loses digits near t = 0
+    half = 0.5 * theta
+    sinc_half = np.sin(half) / np.where(half > 0.0, half, 1.0)
+    sinc_half[half == 0.0] = 1.0
+    a = sinc_half * np.cos(half)
+    b = 0.5 * sinc_half * sinc_half
+    dx, dy, dz = d0
+    c1x, c1y, c1z = py * dz - pz * dy, pz * dx - px * dz, px * dy - py * dx
+    c2x, c2y, c2z = py * c1z - pz * c1y, pz * c1x - px * c1z, px * c1y - py * c1x
+    return dx + a * c1x + b * c2x, dy + a * c1y + b * c2y, dz + a * c1z + b * c2z
+
+
+def _gravity_and_turn(psi, d0, ge, al, gain, loaded):
+    """Force on each bone [rad/s^2] from gravity (relative to the loaded pose) and the turning.
+
+    Every vector is component-first, (3, nodes, slots); so is the result.
+    """
+    dx, dy, dz = _turned(psi[0], psi[1], psi[2], d0)
+    gx, gy, gz = ge
+    ax, ay, az = al
+    along = ax * dx + ay * dy + az * dz
+    fx = gain * (dy * gz - dz * gy) - loaded[0] - ax + along * dx
+    fy = gain * (dz * gx - dx * gz) - loaded[1] - ay + along * dy
+    fz = gain * (dx * gy - dy * gx) - loaded[2] - az + along * dz
+    # no torque about the bone's own (animated) axis: a point mass has no inertia there
+    ex, ey, ez = d0
+    tw = fx * ex + fy * ey + fz * ez
+    fx, fy, fz = fx - tw * ex, fy - tw * ey, fz - tw * ez
+    return np.stack([fx, fy, fz])
+
+
+def _map_layout(slots):
+    """Where the entries of every bone's rows go in a tree's ``[Phi + E0 | push]`` block.
+
+    Returns flat indices into (trees, n, 2, 5n), the matching columns of the per-step source
+    ``[phi | g0 | beta]``, and per tree position (trees, n) its parent's and whether it has one.
+    """
+    trees, n = slots.trees, slots.size
+    cols = 5 * n
+    t, i, r, s = np.meshgrid(np.arange(trees), np.arange(n), np.arange(2), np.arange(2), indexing="ij")
+    row = ((t * n + i) * 2 + r) * cols
+    own = (row + 2 * i + s).ravel()
+    own_src = (((t * n + i) * 2 + r) * 2 + s).ravel()
+    parent_pos = slots.parent_matrix.argmax(axis=-1)  # (trees, n)
+    has_parent = slots.parent_matrix.sum(axis=-1) > 0
+    linked = has_parent[t, i].ravel()
+    link = (row + 2 * parent_pos[t, i] + s).ravel()[linked]
+    link_src = (4 * trees * n + own_src)[linked]
+    t, i, r, node = np.meshgrid(np.arange(trees), np.arange(n), np.arange(2), np.arange(3), indexing="ij")
+    push = (((t * n + i) * 2 + r) * cols + 2 * n + node * n + i).ravel()
+    push_src = (8 * trees * n + ((t * n + i) * 3 + node) * 2 + r).ravel()
+    return np.concatenate([own, link, push]), np.concatenate([own_src, link_src, push_src]), parent_pos, has_parent
+
+
+def _chain_maps(phi, beta, k, c, mu, h, slots):
+    """Per-interval affine maps of whole trees and the transfer of the nodal forces.
+
+    ``phi`` (S-1, N, 2, 2) and ``beta`` (S-1, N, 3, 2) per interval and slot.
+    Returns ``M`` (S-1, trees, 2n, 2n) and ``Q`` (S-1, trees, 2n, 3n): the state after
+    an interval is ``M X + Q U`` with ``U`` the force at the start, middle and end
+    (n rows each). State rows are ``2 i + {0: psi, 1: rate}``.
+    """
+    steps, n, trees = phi.shape[0], slots.size, slots.trees
+    hh = h[:, None]
+    kk, kd = k[None, :] + 0.0 * hh, (mu * c)[None, :] + 0.0 * hh
+    kc = np.stack([kk, kd], -1)  # (S-1, N, 2)
+    # parent's force k psi + mu c psi' in the middle, from the cubic Hermite interpolant
+    mid_start = np.stack([0.5 * kk - 1.5 * kd / hh, kk * hh / 8.0 - 0.25 * kd], -1)
+    mid_end = np.stack([0.5 * kk + 1.5 * kd / hh, -kk * hh / 8.0 - 0.25 * kd], -1)
+    b0, bm, b1 = beta[..., 0, :], beta[..., 1, :], beta[..., 2, :]
+    g0 = b0[..., :, None] * kc[..., None, :] + bm[..., :, None] * mid_start[..., None, :]
+    g1 = b1[..., :, None] * kc[..., None, :] + bm[..., :, None] * mid_end[..., None, :]
+    # [Phi + E0 | push] for every step, by one scatter of flat entries (a bone's own
+    # block, its link to its parent, the force nodes' columns)
+    where, source, parent_pos, has_parent = _map_layout(slots)
+    entries = np.concatenate([phi.reshape(steps, -1), g0.reshape(steps, -1), beta.reshape(steps, -1)], axis=1)
+    x = np.zeros((steps, trees * n * 2 * 5 * n))
+    x[:, where] = entries[:, source]
+    x = x.reshape(steps, trees, n, 2, 5 * n)
+    # (I - E1) X = [Phi + E0 | push]: E1 links a bone to its parent's end state, and
+    # parents come first within a tree, so each bone adds its finished parent's rows
+    g1 = g1.reshape(steps, trees, n, 2, 2)
+    for i in range(1, n):
+        t = np.nonzero(has_parent[:, i])[0]
+        if t.size == 0:
+            continue
+        rows, link = x[:, t, parent_pos[t, i]], g1[:, t, i]  # a 2x2 times two rows, spelled out
+        x[:, t, i] += link[..., :, 0, None] * rows[..., None, 0, :] + link[..., :, 1, None] * rows[..., None, 1, :]
+    x = x.reshape(steps, trees, 2 * n, 5 * n)
+    return np.ascontiguousarray(x[..., :2 * n]), np.ascontiguousarray(x[..., 2 * n:])
+
+
 def _error_left(changes):
     """Distance to the converged path estimated from the sweeps' changes [rad] (inf if unknown).
 
@@ -104,33 +204,59 @@ def _error_left(changes):
     return changes[-1] * rate / (1.0 - rate) if rate < 1.0 else np.inf
 
 
-def integrate(slots, coefficients, times, drive, g_ref, cyclic=False, substeps=1, contact=None):
+def _drive_nodes(drive, g_ref, gain):
+    """The drive at the frame nodes then the middles, component-first (3, nodes, slots): unit
+    bone directions, apparent gravity [m/s^2], angular acceleration [rad/s^2], and the load
+    ``gain * (d x g_ref)`` under which the animated pose is the rest shape [1/s^2]."""
+    mids = drive["directions_mid"] / np.linalg.norm(drive["directions_mid"], axis=-1, keepdims=True)
+
+    def first(*parts):
+        return np.ascontiguousarray(np.concatenate(parts).transpose(2, 0, 1))
+
+    d0 = first(drive["directions"], mids)
+    ge = first(drive["g_eff"], drive["g_eff_mid"])
+    al = first(drive["alpha"], drive["alpha_mid"])
+    loaded = gain * np.stack([d0[1] * g_ref[2] - d0[2] * g_ref[1], d0[2] * g_ref[0] - d0[0] * g_ref[2],
+                              d0[0] * g_ref[1] - d0[1] * g_ref[0]])
+    return d0, ge, al, loaded
+
+
+def _nodal_forces(psi, d0, force, stiff, frames, trees, n):
+    """Each interval's forces at its start, middle and end, (steps, trees, 3 * n, 3).
+
+    The stiffness the exact step applies is given back on the swing only: the twist keeps it
+    (it follows the parent a little less, and converges in one sweep).
+    """
+    steps = frames - 1
+    swing = psi - (psi[0] * d0[0] + psi[1] * d0[1] + psi[2] * d0[2]) * d0
+    nodal = np.concatenate([force[:, :steps] + stiff * swing[:, :steps], force[:, frames:] + stiff * swing[:, frames:],
+                            force[:, 1:frames] + stiff * swing[:, 1:frames]], axis=-1)  # (3, S-1, 3N)
+    return nodal.reshape(3, steps, 3, trees, n).transpose(1, 3, 2, 4, 0).reshape(steps, trees, 3 * n, 3)
+
+
+def integrate(slots, coefficients, times, drive, g_ref, cyclic=False, substeps=1):
     """Offsets of every chain over the sampled drive, starting from rest (or periodic).
 
     Parameters
     ----------
     slots : ChainSlots
     coefficients : dict of numpy.ndarray
-        Per-slot ``spring`` k [1/s^2], ``damping`` c [1/s] (per unit of the bone's
-        own inertia), ``gain`` 1/l [1/m], ``transmission`` mu [-], ``mass`` [relative]
-        and ``limit`` [rad], each shape (trees * size,).
+        Per-slot ``spring`` k [1/s^2], ``damping`` c [1/s], ``gain`` 1/l [1/m],
+        ``transmission`` mu [-] and ``limit`` [rad], each shape (trees * size,).
     times : numpy.ndarray, shape (F,)
         Sample times [s], increasing.
     drive : dict of numpy.ndarray
         ``directions`` (animated unit bone directions), ``g_eff`` (apparent gravity
-        at the heads [m/s^2]), ``alpha`` (animated world angular acceleration
-        [rad/s^2]) and ``levers`` (animated offset of each head from its parent's
-        [m]), each (F, trees * size, 3) at the samples, and the same with ``_mid``
-        appended, (F - 1, trees * size, 3), halfway between samples.
+        at the heads [m/s^2]) and ``alpha`` (animated world angular acceleration
+        [rad/s^2]), each (F, trees * size, 3) at the samples, and the same with
+        ``_mid`` appended, (F - 1, trees * size, 3), halfway between samples. Within
+        an interval the drive is the parabola through the three.
     g_ref : numpy.ndarray, shape (3,)
         Gravity under which the animated pose is the loaded shape [m/s^2].
     cyclic : bool
         Start in the periodic state (the last sample is the first one's moment).
     substeps : int
         Exact steps per frame interval.
-    contact : dict, optional
-        Colliders at the nodes, for :func:`.contacts.hold_outside` (needs ``heads``
-        in the drive).
 
     Returns
     -------
@@ -143,37 +269,42 @@ def integrate(slots, coefficients, times, drive, g_ref, cyclic=False, substeps=1
     """
     if substeps > 1:
         times, drive = refine_drive(times, drive, substeps)
+    trees, n = slots.trees, slots.size
+    k, c, gain, mu, limit = (coefficients[name] for name in ("spring", "damping", "gain", "transmission", "limit"))
     frames = len(times)
     h = np.diff(times)
-    forcing, coeffs, mats = _chain_setup(slots, coefficients, drive, g_ref)
-    d0 = forcing["d0"]
-    modal_c = np.diagonal(mats.modal_damping, axis1=-2, axis2=-1).reshape(-1)
-    off_c = mats.modal_damping * (1.0 - np.eye(slots.size))
-    psi = np.zeros((3, 2 * frames - 1, slots.trees * slots.size))
-    rates, accel = np.zeros_like(psi), np.zeros_like(psi)
-    best, change, sweeps = None, np.inf, 0
-    history = []  # changes of the sweeps so far [rad]
+    used = np.zeros(trees * n, dtype=bool)
+    used[slots.slot] = True
+    d0, ge, al, loaded = _drive_nodes(drive, g_ref, gain)
+    psi = np.zeros((3, 2 * frames - 1, trees * n))
+    state_shape = (trees, 2 * n, 3)
+    start = np.zeros(state_shape)
+    best, change, sweeps, history = None, np.inf, 0, []  # history: changes of the sweeps so far [rad]
+    hm = h[None, :, None]
+    flat = flat_matrices(slots)
     for sweeps in range(1, MAX_SWEEPS + 1):
-        d = d0 + turned(psi[0], psi[1], psi[2], d0)
         if sweeps <= STIFFNESS_SWEEPS:
-            stiff = _modal_weight_stiffness(d[:, frames:], forcing, coeffs, mats, slots)
-            stiff = np.maximum(stiff, -mats.rates)
-            phi, beta = oscillator_steps(mats.rates + stiff, modal_c, h[:, None])
-            maps = compose_pairs(phi, _PAIR_LEVELS)
-        nodal = _nodal_forces({"psi": psi, "rates": rates, "accel": accel, "d": d}, forcing, coeffs, mats, slots, stiff, off_c)
-        forces = sum(beta[..., j, :, None] * nodal[j].transpose(1, 2, 0)[:, :, None, :] for j in range(3))
-        shape = (psi.shape[-1], 2, 3)
-        start = periodic_start(maps, forces, shape) if cyclic else np.zeros(shape)
-        states = run_affine(maps, forces, start)
-        new, new_rates, new_accel = _path_of(states, nodal, stiff + mats.rates, modal_c, h, mats)
+            dx, dy, dz = _turned(psi[0, frames:], psi[1, frames:], psi[2, frames:], d0[:, frames:])
+            stiff = np.maximum(gain * (dx * ge[0, frames:] + dy * ge[1, frames:] + dz * ge[2, frames:]), -k)
+            # unused slots get any stiffness whose exact step is cheap; their force is 0
+            k_net = np.where(used, k + stiff, 1.0 / h[:, None] ** 2)
+            phi, beta = oscillator_steps(k_net, c, h[:, None])
+            m, push = _chain_maps(phi, beta, k, c, mu, h, slots)
+            maps = compose_pairs(m, _PAIR_LEVELS)
+        force = _gravity_and_turn(psi, d0, ge, al, gain, loaded)
+        forces = push @ _nodal_forces(psi, d0, force, stiff, frames, trees, n)
+        if cyclic:
+            start = periodic_start(maps, forces, state_shape)
+        states = run_affine(maps, forces, start).reshape(frames, trees * n, 2, 3)
+        p = states[:, :, 0].transpose(2, 0, 1)
+        v = states[:, :, 1].transpose(2, 0, 1)
+        new = np.concatenate([p, 0.5 * (p[:, :-1] + p[:, 1:]) + hm * (v[:, :-1] - v[:, 1:]) / 8.0], axis=1)
         if not np.all(np.isfinite(new)):
             break
         # the next sweep's force sees joints held within their limits
-        new = limit_joints(new, slots, coeffs["limit"])
-        if contact is not None:  # and every tip outside the body and above the ground
-            new = hold_outside(new, slots, forcing, contact)
+        new = limit_joints(new, flat, limit)
         change = float(np.max(np.abs(new[:, :frames] - psi[:, :frames]))) if new.size else 0.0
-        psi, rates, accel = new, new_rates, new_accel
+        psi = new
         if best is None or change <= best[0]:
             best = (change, psi)
         history.append(change)
@@ -183,101 +314,3 @@ def integrate(slots, coefficients, times, drive, g_ref, cyclic=False, substeps=1
         best = (np.inf, np.zeros_like(psi))
     change, psi = best
     return psi[:, :frames:substeps].transpose(1, 2, 0), sweeps, change
-
-
-def _chain_setup(slots, coefficients, drive, g_ref):
-    """The forcing at the nodes (component-first, frames then middles), the coefficients
-    with the joints scaled by their loads, and the chains' matrices and modes."""
-    mids = drive["directions_mid"] / np.linalg.norm(drive["directions_mid"], axis=-1, keepdims=True)
-
-    def first(*parts):  # frame nodes, then the middles, component-first (3, nodes, slots)
-        return np.ascontiguousarray(np.concatenate(parts).transpose(2, 0, 1))
-
-    d0 = first(drive["directions"], mids)
-    forcing = {"d0": d0, "ge": first(drive["g_eff"], drive["g_eff_mid"]), "al": first(drive["alpha"], drive["alpha_mid"]),
-               "levers": first(drive["levers"], drive["levers_mid"]), "g_ref": g_ref}
-    if "heads" in drive:
-        forcing["heads"] = first(drive["heads"], drive["heads_mid"])
-    coeffs = dict(coefficients)
-    used = np.zeros(slots.trees * slots.size, dtype=bool)
-    used[slots.slot] = True
-    coeffs["spring"] = np.where(used, coeffs["spring"], 1.0)  # padding: any distinct, cheap mode; no force moves it
-    load = chain_loads(coeffs["gain"], coeffs["mass"], np.linalg.norm(drive["levers"][0], axis=-1), slots)
-    coeffs["spring"], coeffs["damping"] = coeffs["spring"] * load, coeffs["damping"] * load
-    mats = chain_matrices(coeffs, {"levers": forcing["levers"][:, 0], "directions": d0[:, 0]}, slots)
-    return forcing, coeffs, mats
-
-
-def _nodal_forces(state, forcing, coeffs, mats, slots, stiff, off_c):
-    """Modal forces at every interval's start, middle and end, each (3, S-1, N), along
-    the path in ``state``: the generalized forces, the inertia and stiffness the linear
-    part already holds given back, the damping the modes do not hold."""
-    d0 = forcing["d0"]
-    steps = stiff.shape[0]
-    frames = steps + 1
-    force = generalized_forces(state, forcing, coeffs, slots) + _times_mass(mats, state["accel"])
-    # no torque about a bone's own (animated) axis: a point mass has no inertia there
-    force -= (force[0] * d0[0] + force[1] * d0[1] + force[2] * d0[2]) * d0
-    q, qdot = mats.to_modes(_times_mass(mats, state["psi"])), mats.to_modes(_times_mass(mats, state["rates"]))
-    modal = mats.to_modes(force) - _per_tree(off_c, qdot)
-    # the stiffness the exact step applies is given back in the force, on the swing only:
-    # the twist keeps it (it follows the parent a little less, and converges in one sweep)
-    return [modal[:, part] + _swing_give_back(mats, stiff * q[:, part], d0[:, part])
-            for part in (slice(None, steps), slice(frames, None), slice(1, frames))]
-
-
-def _per_tree(matrices, values):
-    """``matrices`` (trees, n, n) times per-slot values (..., trees * n)."""
-    return per_tree_product(matrices, values)
-
-
-def _times_mass(mats, values):
-    return _per_tree(mats.mass, values)
-
-
-def _swing_give_back(mats, modal, d0):
-    """Modal forces (3, nodes, N) ``modal`` as physical forces with their part about each
-    bone's own animated axis ``d0`` taken out, back in modes."""
-    force = _times_mass(mats, mats.from_modes(modal))  # the force whose modal part it is
-    force -= (force[0] * d0[0] + force[1] * d0[1] + force[2] * d0[2]) * d0
-    return mats.to_modes(force)
-
-
-def _modal_weight_stiffness(d, forcing, coeffs, mats, slots):
-    """Stiffness [1/s^2] the apparent weight gives each mode over every interval, (S-1, N):
-    the diagonal of ``modes^T G modes``, ``G_a = sum_j m_j r_aj . g_eff`` (the weight's
-    torque per radian about joint ``a``, textbook pendulum statics)."""
-    frames = d.shape[1] + 1
-    ge = forcing["ge"][:, frames:]
-    ell, _, weight = bob_inertia(coeffs["gain"], coeffs["mass"])
-    own = np.where(weight > 0.0, weight * ell, coeffs["gain"]) * (d[0] * ge[0] + d[1] * ge[1] + d[2] * ge[2])
-    pulled = weight * ge  # weight of every subtree, summed up the tree
-    total = own.copy()
-    for level in slots.levels[::-1]:
-        p = slots.parent_slot[level]
-        e = forcing["levers"][:, frames:, level]
-        w = pulled[:, :, level]
-        np.add.at(total, (slice(None), p), e[0] * w[0] + e[1] * w[1] + e[2] * w[2])
-        np.add.at(pulled, (slice(None), slice(None), p), pulled[:, :, level])
-    squared = mats.modes * mats.modes  # (trees, a, m)
-    return per_tree_product(np.swapaxes(squared, -1, -2), total)
-
-
-def _path_of(states, nodal, k_net, c, h, mats):
-    """Offsets, rates and accelerations (3, 2F-1, N) at the frames and the middles from
-    the modal states (F, N, 2, 3), the force nodes and the step's stiffness."""
-    p = states[:, :, 0].transpose(2, 0, 1)
-    v = states[:, :, 1].transpose(2, 0, 1)
-    hh = h[None, :, None]
-    pm = 0.5 * (p[:, :-1] + p[:, 1:]) + hh * (v[:, :-1] - v[:, 1:]) / 8.0
-    # rates at the middles: the derivative of the cubic Hermite through the ends
-    vm = 1.5 * (p[:, 1:] - p[:, :-1]) / hh - 0.25 * (v[:, :-1] + v[:, 1:])
-    # accelerations from each mode's own equation: a frame's from the interval that ends
-    # there (the first frame's from the first interval), so no frame sees a later step
-    a_start = nodal[0][:, :1] - c * v[:, :1] - k_net[:1] * p[:, :1]
-    a_end = nodal[2] - c * v[:, 1:] - k_net * p[:, 1:]
-    am = nodal[1] - c * vm - k_net * pm
-    q = np.concatenate([p, pm], axis=1)
-    qd = np.concatenate([v, vm], axis=1)
-    qa = np.concatenate([a_start, a_end, am], axis=1)
-    return mats.from_modes(q), mats.from_modes(qd), mats.from_modes(qa)

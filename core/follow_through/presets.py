@@ -1,19 +1,14 @@
-"""Starting values for common trailing parts: a small frozen table by name, and
-parameters from a physical description (hair length, a tail's taper, a fabric's
-weight) through the hanging chain's first mode.
+"""A small frozen table of starting values for common trailing parts.
 
-The table's values are from memory or common practice, not measured: a starting
-point to tune by eye. The reasoning sits beside each entry.
+Every value is from memory or common practice, not measured: a starting point to
+tune by eye. The reasoning sits beside each entry.
 """
 
 import math
 from types import MappingProxyType
 
-import numpy as np
-
-from ..base.constants import STANDARD_GRAVITY
-from ..base.errors import InvalidGoalError
 from .parameters import ChainParameters
+from ..base.errors import InvalidGoalError
 
 CHAIN_PRESETS = MappingProxyType(
     {
@@ -52,101 +47,3 @@ def chain_preset(name):
     if key not in CHAIN_PRESETS:
         raise InvalidGoalError(f"unknown chain preset {name!r}; choose one of {', '.join(sorted(CHAIN_PRESETS))}")
     return CHAIN_PRESETS[key]
-
-
-#: First zero of the Bessel function J0: a uniform hanging chain of length L swings in
-#: its first mode at omega_1 = (2.4048 / 2) sqrt(g / L) (textbook hanging-chain result,
-#: Bernoulli and Euler; the formula from memory, the zero from any table of J0).
-BESSEL_J0_FIRST_ZERO = 2.404825557695773
-#: Areal density of a mid-weight dress fabric [kg/m^2] (200 g/m^2, common practice) at
-#: which the "cloth" preset's damping ratio 0.45 and transmission 0.85 apply.
-REFERENCE_FABRIC_DENSITY = 0.200
-
-
-def hanging_frequency(length, gravity=STANDARD_GRAVITY):
-    """First-mode frequency [Hz] of a uniform chain of ``length`` [m] hanging free:
-    ``(2.4048 / 2) sqrt(g / L) / (2 pi)`` (textbook hanging-chain result)."""
-    return 0.5 * BESSEL_J0_FIRST_ZERO * math.sqrt(gravity / length) / (2.0 * math.pi)
-
-
-def _spring_frequency(length, sag):
-    """Spring-alone frequency [Hz] whose bone, hanging, swings at the hanging chain's
-    first mode: a hanging bone's rate is omega_n^2 + g/l = omega_n^2 (1 + sag) (its
-    swing length l = g0 / (sag omega_n^2)), so omega_n = omega_1 / sqrt(1 + sag)."""
-    return hanging_frequency(length) / math.sqrt(1.0 + sag)
-
-
-def _positive(name, value, unit, example):
-    try:
-        value = float(value)
-    except (TypeError, ValueError):
-        value = math.nan
-    if not (value > 0.0 and math.isfinite(value)):
-        raise InvalidGoalError(f"{name} must be a positive number of {unit}, got {value!r}; e.g. {example}")
-    return value
-
-
-def hair_parameters(length, sag=math.radians(20.0), damping_ratio=0.25):
-    """Parameters of hair or a ponytail of ``length`` [m] hanging from the head.
-
-    The frequency is set so a hanging bone swings like the hanging chain's first mode,
-    ``f = (2.4048 / 2) sqrt(g / L) / (2 pi) / sqrt(1 + sag)`` (textbook hanging-chain
-    result, see :func:`hanging_frequency`); ``sag`` [rad] says how limp it is (how far a
-    lock held level bends under its weight), ``damping_ratio`` the air and strand
-    friction (0.25: from memory).
-
-    Returns
-    -------
-    ChainParameters
-    """
-    length = _positive("length", length, "metres", "0.25 for a shoulder-length ponytail")
-    preset = chain_preset("hair")
-    return ChainParameters(_spring_frequency(length, sag), damping_ratio, sag, preset.angle_limit, preset.transmission)
-
-
-def tail_parameters(length, bones, tip_mass_ratio=0.2, sag=math.radians(10.0), damping_ratio=0.2):
-    """Per-bone parameters of a tail of ``length`` [m] in ``bones`` bones, tapering so
-    the tip's mass is ``tip_mass_ratio`` of the root's.
-
-    The mass of each bone follows a cone's cross-section (radius linear along the tail,
-    mass per length as radius squared: solid geometry); the frequency is the hanging
-    chain's first mode as for :func:`hair_parameters`, a carried tail's stiffness given
-    by its small ``sag`` (10 deg: common practice, tails are carried).
-
-    Returns
-    -------
-    list of ChainParameters, root first
-    """
-    length = _positive("length", length, "metres", "0.6 for a cat-sized tail")
-    count = int(_positive("bones", bones, "bones", "5"))
-    ratio = _positive("tip_mass_ratio", tip_mass_ratio, "(tip mass over root mass)", "0.2")
-    preset = chain_preset("tail")
-    frequency = _spring_frequency(length, sag)
-    radius = 1.0 - (1.0 - math.sqrt(ratio)) * (np.arange(count) + 0.5) / count
-    return [ChainParameters(frequency, damping_ratio, sag, preset.angle_limit, preset.transmission, mass=float(r * r))
-            for r in radius]
-
-
-def skirt_parameters(length, fabric_density, sag=math.radians(25.0)):
-    """Parameters of a skirt, cape or panel of ``length`` [m] in a fabric of
-    ``fabric_density`` [kg/m^2] (e.g. 0.1 for voile, 0.2 for a dress fabric, 0.4 for
-    denim).
-
-    A hanging panel is a hanging chain, so its first mode does not depend on its weight
-    (textbook hanging-chain result). What the weight changes is how much the air holds
-    it back against its inertia: air drag per unit area is the same for any fabric, so
-    the damping ratio goes as one over the areal density (drag over mass), 0.45 at
-    200 g/m^2 (the "cloth" preset, from memory), kept within 0.1-1.5; a lighter fabric
-    also trails in the air more than it follows its seam (transmission rho / (rho +
-    35 g/m^2), 0.85 at 200 g/m^2).
-
-    Returns
-    -------
-    ChainParameters
-    """
-    length = _positive("length", length, "metres", "0.5 for a knee-length skirt")
-    density = _positive("fabric_density", fabric_density, "kg per square metre", "0.2 for a dress fabric")
-    preset = chain_preset("cloth")
-    zeta = min(1.5, max(0.1, 0.45 * REFERENCE_FABRIC_DENSITY / density))
-    transmission = density / (density + 0.035)
-    return ChainParameters(_spring_frequency(length, sag), zeta, sag, preset.angle_limit, transmission)

@@ -228,15 +228,7 @@ def _lagrange_weights(nodes, at):
 
 
 def midpoint_values(times, values, cyclic=False):
-    """Values halfway between samples, from the four nearest samples, weighted away
-    from a kink.
-
-    The cubic through the four nearest samples is the blend of the parabolas through
-    the left three and the right three (Neville's recursion). Where one of them bends
-    far more than the other (a touchdown between two samples, a cut in the motion),
-    the blend leans on the smoother one (weighted essentially non-oscillatory
-    interpolation), so a landing does not leak into the interval before it; on a
-    smooth signal the weights are the cubic's.
+    """Values halfway between samples, from the cubic through the four nearest samples.
 
     Parameters
     ----------
@@ -252,11 +244,6 @@ def midpoint_values(times, values, cyclic=False):
     numpy.ndarray, shape (F - 1, ...)
         Fourth-order accurate for a smooth signal, so a drive that changes within a
         few frames is not flattened the way straight lines between samples would.
-
-    References
-    ----------
-    Jiang, G.-S. & Shu, C.-W. 1996, "Efficient implementation of weighted ENO
-    schemes", J. Comput. Phys. 126:202-228 (smoothness indicators and weights).
     """
     frames = len(times)
     if frames == 2 or (cyclic and frames == 3):
@@ -269,42 +256,20 @@ def midpoint_values(times, values, cyclic=False):
         idx = k[:, None] + np.arange(-1, 3)
         shift = np.floor_divide(idx, frames - 1)
         nodes = times[np.mod(idx, frames - 1)] + shift * period
-        return _blended_midpoints(nodes, mid, values[np.mod(idx, frames - 1)], values)
-    lo = np.clip(k - 1, 0, frames - 3)
-    idx = lo[:, None] + np.arange(3)
-    inner = (k >= 1) & (k <= frames - 3)
-    w3 = _lagrange_weights(times[idx], mid)
-    out = np.einsum("km,km...->k...", w3, values[idx])
-    if np.any(inner):
-        idx4 = k[inner][:, None] + np.arange(-1, 3)
-        out[inner] = _blended_midpoints(times[idx4], mid[inner], values[idx4], values)
-    return out
-
-
-def _blended_midpoints(nodes, at, stencil, values):
-    """WENO blend at ``at`` (K,) of the parabolas through ``stencil`` (K, 4, ...) samples
-    0-2 and 1-3 at ``nodes`` (K, 4); ``values`` (F, ...) sets the scale of a kink."""
-    expand = (slice(None),) + (None,) * (stencil.ndim - 2)
-    left = np.einsum("km,km...->k...", _lagrange_weights(nodes[:, :3], at), stencil[:, :3])
-    right = np.einsum("km,km...->k...", _lagrange_weights(nodes[:, 1:], at), stencil[:, 1:])
-    # Neville: the cubic is gamma_left * left + gamma_right * right
-    gamma_left = ((at - nodes[:, 3]) / (nodes[:, 0] - nodes[:, 3]))[expand]
-    bend = []
-    for part, t in ((stencil[:, :3], nodes[:, :3]), (stencil[:, 1:], nodes[:, 1:])):
-        second = 2.0 * np.einsum("km,km...->k...", 1.0 / _node_products(t), part)  # second derivative
-        bend.append((second * (0.5 * (t[:, 2] - t[:, 0]))[expand] ** 2) ** 2)
-    # smoothness floor: a part in 1e4 of the signal's size, so smooth signals keep the cubic
-    floor = (1e-4 * np.max(np.abs(values), axis=0)) ** 2 + 1e-100
-    # Jiang-Shu weights gamma / (floor + bend)^2, each multiplied by both denominators
-    a_left = gamma_left * (floor + bend[1]) ** 2
-    a_right = (1.0 - gamma_left) * (floor + bend[0]) ** 2
-    return (a_left * left + a_right * right) / (a_left + a_right)
-
-
-def _node_products(nodes):
-    """``prod_{i != j} (t_j - t_i)`` for each of three nodes (K, 3): divided-difference weights."""
-    t0, t1, t2 = nodes[:, 0], nodes[:, 1], nodes[:, 2]
-    return np.stack([(t0 - t1) * (t0 - t2), (t1 - t0) * (t1 - t2), (t2 - t0) * (t2 - t1)], axis=1)
+        idx = np.mod(idx, frames - 1)
+    else:
+        lo = np.clip(k - 1, 0, frames - 3)
+        idx = lo[:, None] + np.arange(3)
+        inner = (k >= 1) & (k <= frames - 3)
+        idx4 = np.clip(k[:, None] + np.arange(-1, 3), 0, frames - 1)
+        w3 = _lagrange_weights(times[idx], mid)
+        out = np.einsum("km,km...->k...", w3, values[idx])
+        if np.any(inner):
+            w4 = _lagrange_weights(times[idx4[inner]], mid[inner])
+            out[inner] = np.einsum("km,km...->k...", w4, values[idx4[inner]])
+        return out
+    weights = _lagrange_weights(nodes, mid)
+    return np.einsum("km,km...->k...", weights, values[idx])
 
 
 def refine_drive(times, drive, substeps):
@@ -321,7 +286,7 @@ def refine_drive(times, drive, substeps):
     h = np.diff(times)
     fine_t = np.concatenate([(times[:-1, None] + w[None, :] * h[:, None]).ravel(), times[-1:]])
     out = {}
-    for name in ("directions", "g_eff", "alpha", "levers", "heads"):
+    for name in ("directions", "g_eff", "alpha"):
         s, m, e = drive[name][:-1], drive[name + "_mid"], drive[name][1:]
         nodes = at(s, m, e, w).reshape((-1,) + s.shape[1:])
         out[name] = np.concatenate([nodes, drive[name][-1:]])

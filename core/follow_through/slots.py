@@ -1,16 +1,10 @@
-"""Where each simulated bone sits in the padded per-tree arrays, and the joint hold.
-
-Bones are grouped into trees (independent chains), parents before children, each
-tree padded to the same size so a whole bake steps as a few array passes. Walking
-a tree is done one depth level at a time over all trees at once, so every
-operation here costs in proportion to the bones (no bones x bones matrix).
+"""Where each bone of the chains sits in the padded per-chain arrays the integrator steps,
+and the joints' bend held within its limit.
 """
 
 from dataclasses import dataclass
 
 import numpy as np
-
-__all__ = ["ChainSlots", "limit_joints"]
 
 
 @dataclass(frozen=True)
@@ -25,24 +19,18 @@ class ChainSlots:
         Flat slot ``tree * size + position`` of each bone.
     trees, size : int
         Number of independent chains (trees) and bones per padded tree.
-    parent_position : numpy.ndarray of int, shape (trees, size)
-        Position of each slot's parent within its tree (0 where it has none).
-    has_parent : numpy.ndarray of bool, shape (trees, size)
-        Whether the slot holds a bone with a simulated parent.
-    parent_slot : numpy.ndarray of int, shape (trees * size,)
-        Flat slot of each slot's parent, -1 for chain roots and padding.
-    levels : tuple of numpy.ndarray
-        Flat slots of the bones at depth 1, 2, ... (a chain's first bone is depth 0).
+    parent_matrix : numpy.ndarray, shape (trees, size, size)
+        ``P[t, i, j] = 1`` when slot ``j`` is the parent of slot ``i``.
+    path_matrix : numpy.ndarray, shape (trees, size, size)
+        ``(I - P)^-1``: sums a bone's own and its ancestors' joint rotations.
     """
 
     parents: np.ndarray
     slot: np.ndarray
     trees: int
     size: int
-    parent_position: np.ndarray
-    has_parent: np.ndarray
-    parent_slot: np.ndarray
-    levels: tuple
+    parent_matrix: np.ndarray
+    path_matrix: np.ndarray
 
     @classmethod
     def from_parents(cls, parents):
@@ -69,20 +57,16 @@ class ChainSlots:
         start = np.concatenate([[0], np.cumsum(sizes)[:-1]])
         position[order] = np.arange(count) - start[tree_of[order]]
         slot = tree_of * size + position
-        parent_position = np.zeros((trees, size), dtype=int)
-        has_parent = np.zeros((trees, size), dtype=bool)
-        parent_slot = np.full(trees * size, -1, dtype=int)
+        pm = np.zeros((trees, size, size))
         child = np.nonzero(parents >= 0)[0]
-        parent_position[tree_of[child], position[child]] = position[parents[child]]
-        has_parent[tree_of[child], position[child]] = True
-        parent_slot[slot[child]] = slot[parents[child]]
-        levels = tuple(np.sort(slot[depth == level]) for level in range(1, int(depth.max(initial=0)) + 1))
-        return cls(parents, slot, trees, size, parent_position, has_parent, parent_slot, levels)
+        pm[tree_of[child], position[child], position[parents[child]]] = 1.0
+        path = np.linalg.inv(np.eye(size) - pm)
+        return cls(parents, slot, trees, size, pm, np.rint(path))
 
     @property
     def depth(self):
         """Longest parent-to-child path in any tree (0 for lone bones)."""
-        return len(self.levels)
+        return int(self.path_matrix.sum(axis=-1).max()) - 1 if self.size else 0
 
     def to_slots(self, per_bone, fill=0.0):
         """Scatter (..., B, k) per-bone values into (..., trees * size, k) slots."""
@@ -93,29 +77,28 @@ class ChainSlots:
         out[..., self.slot, :] = per_bone
         return out
 
-    def of_parents(self, values):
-        """``values`` (..., slots) taken at each slot's parent, 0 where there is none."""
-        out = np.zeros_like(values)
-        for level in self.levels:
-            out[..., level] = values[..., self.parent_slot[level]]
-        return out
 
-    def down_the_tree(self, own):
-        """Each slot's ``own`` (..., slots) plus all its ancestors' (a sum from the root)."""
-        total = np.array(own, dtype=float, copy=True)
-        for level in self.levels:
-            total[..., level] += total[..., self.parent_slot[level]]
-        return total
-
-
-def limit_joints(psi, slots, limit):
+def limit_joints(psi, flat, limit):
     """Offsets (3, nodes, trees * size), component-first, with every joint's bend
-    (its offset relative to its parent's) held within ``limit`` (trees * size,) [rad]."""
-    rel = psi - slots.of_parents(psi)
+    (its offset relative to its parent's) held within ``limit`` (trees * size,) [rad];
+    ``flat`` from :func:`flat_matrices`."""
+    joint_of, path_of = flat
+    rel = psi @ joint_of
     angle2 = rel[0] * rel[0] + rel[1] * rel[1] + rel[2] * rel[2]
     over = angle2 > limit * limit
     if not np.any(over):
         return psi
     shrink = np.where(over, limit / np.sqrt(np.where(over, angle2, 1.0)) - 1.0, 0.0)
     # each joint pulled back moves itself and everything below it by the same rotation
-    return psi + slots.down_the_tree(rel * shrink)
+    return psi + (rel * shrink) @ path_of
+
+
+def flat_matrices(slots):
+    """``(I - P)^T`` and ``path^T`` over all slots: joint rotations and their sums by matmul."""
+    count = slots.trees * slots.size
+    joint, path = np.zeros((count, count)), np.zeros((count, count))
+    for t in range(slots.trees):
+        cut = slice(t * slots.size, (t + 1) * slots.size)
+        joint[cut, cut] = (np.eye(slots.size) - slots.parent_matrix[t]).T
+        path[cut, cut] = slots.path_matrix[t].T
+    return joint, path

@@ -35,12 +35,6 @@ def lift(bake, bone):
     return bake.rotvecs[:, bone, 0]
 
 
-def world_lift(bake, bone):
-    """Upward turn of a +Y bone's direction in the world [rad] (its world offset about +X): the
-    bone's own joint plus every joint above it."""
-    return bake.world_offsets[:, bone, 0]
-
-
 def test_standing_still_gives_zero_offset():
     # A still rig is in its loaded shape at 1 g by definition: zero offset, exactly,
     # in any pose and under any scene gravity (statics: nothing moves, nothing changes).
@@ -84,8 +78,6 @@ def test_landing_droops_more_for_a_bigger_spike():
     # Touchdown after 0.32 / 0.62 / 1.03 m drops, 2.5 / 3.5 / 4.5 m/s (Zhang, Bates &
     # Dufek 2000), each stopped in 0.1 s: the bigger the force spike, the further the
     # chain droops past its standing angle, and it does so within 0.1 s of contact.
-    # The chain's droop is read at its tip in the world: in a multi-link pendulum the tip's
-    # own joint may whip up against its parent while the whole chain, tip included, drops.
     fps, stop = 60.0, 0.1
     t = np.arange(0, 2.0, 1 / fps)
     peaks, spikes = [], []
@@ -95,7 +87,7 @@ def test_landing_droops_more_for_a_bigger_spike():
         heads[:, :, 2] += z[:, None]
         # the fall before touchdown is at constant speed (g_eff = g), so only the landing drives
         bake = bake_chains(t, heads, rot, parents, chain_preset("hair"))
-        droop = -world_lift(bake, 2)
+        droop = -lift(bake, 2)
         # the drive between samples is a cubic through four of them, so the sample
         # before contact sees a trace of it
         assert np.abs(droop[t < 0.6 - 1e-9]).max() < 1e-6
