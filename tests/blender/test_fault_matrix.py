@@ -26,7 +26,7 @@ from scene_probe import addon, file_state
 
 #: Operator id and arguments: every leapwright operator that can write (checked against the registered ones).
 WRITERS = (
-    ("write_plan", {"on_conflict": "REPLACE"}), ("remove_plan", {}), ("use_active_bone", {}),
+    ("write_plan", {"on_conflict": "REPLACE"}), ("remove_plan", {}), ("use_active_bone", {}), ("find_rig_controls", {}),
     ("check_export", {"snap_keys": True}), ("split_clips", {}),
     ("bake_follow_through", {"bones": "spine"}), ("remove_follow_through", {}),
     ("keep_body_on_arc", {}), ("remove_body_arc", {}), ("edit_body_map", {}),
