@@ -107,7 +107,7 @@ class LEAPWRIGHT_OT_remove_body_arc(bpy.types.Operator):
     """Remove the in-air correction layer, leaving the animation as it was before"""
 
     bl_idname = "leapwright.remove_body_arc"
-    bl_label = "Remove Arc Fix"
+    bl_label = "Remove Body Arc Fix"
     bl_options = {"REGISTER", "UNDO"}
 
     @classmethod
