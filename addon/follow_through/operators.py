@@ -15,6 +15,7 @@ from bpy.props import EnumProperty, StringProperty
 
 from . import bake as follow_bake
 from .bake_job import BakeJob
+from ..blender.write_guard import in_object_or_pose_mode
 from ..rig import verify
 from ..core.base.errors import LeapwrightError
 from .settings import PRESET_ITEMS
@@ -47,10 +48,7 @@ def _request(context, op, rig):
 
 def _can_run(cls, context):
     """Poll of both operators: object or pose mode, and the settings registered."""
-    if context.mode not in {"OBJECT", "POSE"}:
-        cls.poll_message_set("leave edit mode (Tab): follow-through is baked in object or pose mode")
-        return False
-    return _lag(context) is not None
+    return in_object_or_pose_mode(cls, context, "follow-through is baked") and _lag(context) is not None
 
 
 class LEAPWRIGHT_OT_bake_follow_through(bpy.types.Operator):

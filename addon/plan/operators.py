@@ -14,6 +14,7 @@ from bpy.props import EnumProperty
 from ..blender import scene_units
 from . import blocking_pass as bp
 from ..blender import ownership
+from ..blender.write_guard import in_object_or_pose_mode
 from ..blender.curves import MEASURED_PROPERTY, Timeline
 from . import hands, link as plan_link, reach, root_motion
 from ..rig import space as rig_space, verify, profile as rig_profile, skeleton as rig_skeleton
@@ -74,10 +75,7 @@ class LEAPWRIGHT_OT_write_plan(bpy.types.Operator):
 
     @classmethod
     def poll(cls, context):
-        if context.mode not in {"OBJECT", "POSE"}:
-            cls.poll_message_set("leave edit mode (Tab): the jump is written in object or pose mode")
-            return False
-        return _settings(context) is not None
+        return in_object_or_pose_mode(cls, context, "the jump is written") and _settings(context) is not None
 
     def _prepare(self, context):
         """Everything to write, or a message saying why not: ``(work, error)``."""
