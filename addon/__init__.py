@@ -39,8 +39,8 @@ the active object when that is empty):
     location curves in the rig's active action, group ``lw:plan`` (the
     action and animation data are made if missing); ``lw_weight_bw`` (a custom
     property on the rig, animated: ground force in body weights, 0 in the air);
-    scene timeline markers ``lw:<phase>`` at each phase start (``lw:flight 2``
-    for hops). Re-running replaces what the previous run wrote. If the
+    scene timeline markers at each phase start in the animator's words
+    (``lw:anticipation``, ``lw:push-off 2`` for hops; ``core.base.phase_words``). Re-running replaces what the previous run wrote. If the
     animator already keys one of those channels: 'ASK' writes nothing and
     warns (in the UI a dialog offers the choice); 'REPLACE' writes over those
     keys (saved, and restored by ``remove_plan``); 'LAYER' leaves them
@@ -95,7 +95,7 @@ segments by the bone tree, or by the rig's ``lw_body_map`` text
     Writes nothing.
 ``keep_body_on_arc()``
     Offsets the carrier so the centre of mass follows, in each flight (the
-    ``lw:flight`` markers, or its own free-fall stretches), the arc fixed at
+    ``lw:take-off`` markers, or its own free-fall stretches), the arc fixed at
     take-off, limbs as animated; written as deltas on the NLA track ``lw:body``
     (blend COMBINE). Re-running replaces it. Reports the largest correction.
 ``remove_body_arc()``

@@ -65,9 +65,11 @@ def arms_pass(demo):
 
 
 def markers(scene):
-    """``{phase: frame}`` of the written jump's ``lw:`` markers (first hop)."""
-    return {m.name[3:]: m.frame for m in scene.timeline_markers
-            if m.name.startswith("lw:") and " " not in m.name[3:]}
+    """``{force-plate phase: frame}`` of the written jump's ``lw:`` markers (first hop)."""
+    from leapwright.core.base.phase_words import phase_of_marker  # the repository's core: the marker words
+
+    found = {m.frame: phase_of_marker(m.name) for m in scene.timeline_markers}
+    return {p[0]: frame for frame, p in found.items() if p is not None and p[1] in (None, 1)}
 
 
 def arm_points(scene, rig, frames):

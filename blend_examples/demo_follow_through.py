@@ -67,7 +67,11 @@ def follow_through_pass(demo):
 
 
 def _markers(scene):
-    return {m.name[len("lw:"):]: int(m.frame) for m in scene.timeline_markers if m.name.startswith("lw:")}
+    """``{force-plate phase: frame}`` of the jump's phase markers (named in the animator's words)."""
+    from leapwright.core.base.phase_words import phase_of_marker  # the repository's core: the marker words
+
+    found = ((phase_of_marker(m.name), int(m.frame)) for m in scene.timeline_markers)
+    return {p[0]: frame for p, frame in found if p is not None}
 
 
 def _angles_from_down(scene, rig, names, frames):

@@ -20,10 +20,14 @@ REPO = os.path.dirname(os.path.dirname(os.path.abspath(__file__)))
 
 
 def lw_markers(scene):
-    """``[(frame, phase name)]`` of the ``lw:`` markers, in frame order."""
-    marks = [(m.frame, m.name[len(MARKER_PREFIX):]) for m in scene.timeline_markers
-             if m.name.startswith(MARKER_PREFIX)]
-    return sorted(marks)
+    """``[(frame, force-plate phase name)]`` of the ``lw:`` phase markers, in frame order.
+
+    The markers are named in the animator's words; the charts keep the force-plate names.
+    """
+    from leapwright.core.base.phase_words import phase_of_marker  # the repository's core: the marker words
+
+    found = [(m.frame, phase_of_marker(m.name)) for m in scene.timeline_markers]
+    return sorted((frame, p[0] if p[1] is None else f"{p[0]} {p[1]}") for frame, p in found if p is not None)
 
 
 def sample_scene(scene, rig, body_bone, substeps=4):
@@ -131,8 +135,8 @@ def key_moments(samples):
     after = f >= touchdown
     bottom = int(f[after][np.argmin(z[after])])
     dip = int(f[f < takeoff][np.argmin(z[f < takeoff])])
-    return [(int(f[0]), "stand"), (dip, "dip"), (takeoff, "take-off"), ((takeoff + apex) // 2, "rising"),
-            (apex, "apex"), (touchdown, "touchdown"), (bottom, "landing"), (int(f[-1]), "stand on crate")]
+    return [(int(f[0]), "stand"), (dip, "crouch"), (takeoff, "take-off"), ((takeoff + apex) // 2, "rising"),
+            (apex, "apex"), (touchdown, "touchdown"), (bottom, "settle"), (int(f[-1]), "stand on crate")]
 
 
 def add_com_trail(scene, samples, rig, body_bone, colour=(0.75, 0.0, 0.22), nearer=0.35):

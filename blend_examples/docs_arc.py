@@ -39,10 +39,12 @@ def _pyplot():
 
 
 def flight_markers(scene):
-    """(take-off frame, touchdown frame) of the written jump's ``lw:flight`` / ``lw:landing`` markers."""
+    """(take-off frame, touchdown frame) of the written jump's ``lw:take-off`` / ``lw:touchdown`` markers."""
+    from leapwright.core.base.phase_words import phase_of_marker  # the repository's core: the marker words
+
     marks = sorted((m.frame, m.name) for m in scene.timeline_markers if m.name.startswith("lw:"))
-    names = [n for _, n in marks]
-    i = names.index("lw:flight")
+    names = [(phase_of_marker(n) or ("",))[0] for _, n in marks]
+    i = names.index("flight")
     return marks[i][0], marks[i + 1][0]
 
 

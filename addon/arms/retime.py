@@ -25,6 +25,7 @@ from . import strip_time
 from ..core.arms.swing import arm_com_distance
 from ..core.base.errors import LeapwrightError
 from ..core.base.keys import BezierKeys
+from ..core.base.phase_words import marker_name, phase_of_marker
 from ..core.arms.timing import (ContactWindow, detect_swing, elevation_angles, retime_swing, swing_warnings,
     window_from_com, window_from_feet, window_from_plan)
 from ..blender.key_writer import read_keys, restore_keys
@@ -73,16 +74,16 @@ def _marker_window(scene, hop, fps):
     marks = _lw_markers(scene)
 
     def find(phase):
-        for i, (frame, name) in enumerate(marks):
-            if name in (f"lw:{phase} {hop}", f"lw:{phase}" if hop == 1 else None):
+        for i, (frame, name) in enumerate(marks):  # this version's markers and the force-plate names of before
+            if phase_of_marker(name) in ((phase, hop), (phase, None) if hop == 1 else None):
                 return i, frame
         return None, None
 
     _, push = find("propulsion")
     i, takeoff = find("flight")
     if push is None or takeoff is None:
-        raise SwingError(f"no lw:propulsion and lw:flight markers for hop {hop}: write the jump first, or "
-                         "choose another Contact from")
+        raise SwingError(f"no {marker_name('propulsion')} and {marker_name('flight')} markers for hop {hop}: "
+                         "write the jump first, or choose another Contact from")
     touchdown = marks[i + 1][0] if i + 1 < len(marks) else None
     plan, _ = plan_link.plan_for(scene)
     if plan is not None and 1 <= hop <= len(plan.hops):

@@ -14,7 +14,8 @@ from bpy.props import BoolProperty, EnumProperty, FloatProperty, IntProperty, Po
 CONTACT_ITEMS = (
     ("AUTO", "Markers, else the body", "The lw: markers of the written jump (exact times when the plan still "
                                        "matches them); without them the body bone's fall, then the feet"),
-    ("MARKERS", "Phase markers", "Only the lw:propulsion and lw:flight markers on the timeline"),
+    ("MARKERS", "Phase markers", "Only the lw:push-off and lw:take-off markers on the timeline "
+                                 "(force plate: propulsion and flight)"),
     ("BODY", "Body's free fall", "Where the body bone's height follows a falling arc (take-off to touchdown)"),
     ("FEET", "Foot heights", "Where both foot controllers are off the ground"),
 )

@@ -1,6 +1,6 @@
 """Keep the whole-body centre of mass (COM) on its arc in the air, as a delta layer.
 
-Flow: find the flight stretches (the ``lw:flight`` markers the blocking pass left,
+Flow: find the flight stretches (the ``lw:take-off`` markers the blocking pass left,
 or the COM's own ballistic stretches, else the torso's), sample the evaluated rig
 over the scene's frame range, let :mod:`core.body.arc` give the world offset per frame,
 and write it on the carrier's location channels as deltas on the NLA track
@@ -24,10 +24,11 @@ from ..core.body import arc as fc
 from ..core.check.analysis import analyse_trajectory
 from ..core.body.mass import group_coms, whole_body_com
 from ..core.base.errors import LeapwrightError
+from ..core.base.phase_words import marker_name, phase_of_marker
 
 CAPABILITY = "body"
 TRACK = ownership.group_name(CAPABILITY)
-FLIGHT_MARKER = "lw:flight"
+FLIGHT_MARKER = marker_name("flight")
 #: Sub-frame step of the samples that read the take-off velocity [frame]: a tenth of a
 #: frame makes the backward difference's jerk error a hundred times smaller than whole
 #: frames would (design choice).
@@ -77,7 +78,7 @@ class AirWork:
 
 
 def marker_stretches(scene, first, last):
-    """(arc start, last frame in the air) of each ``lw:flight`` marker within ``first..last``.
+    """(arc start, last frame in the air) of each take-off marker (``lw:take-off``, before ``lw:flight``) within ``first..last``.
 
     A marker stands at the take-off rounded to a frame, so the take-off is less than
     half a frame either side of it: the arc starts one frame later, the first frame
@@ -87,7 +88,7 @@ def marker_stretches(scene, first, last):
     marks = sorted((m.frame, m.name) for m in scene.timeline_markers if m.name.startswith(ownership.PREFIX))
     out = []
     for i, (frame, name) in enumerate(marks):
-        if name == FLIGHT_MARKER or name.startswith(FLIGHT_MARKER + " "):
+        if (phase_of_marker(name) or ("",))[0] == "flight":  # this version's take-off, or an older lw:flight
             end = marks[i + 1][0] - 1 if i + 1 < len(marks) else last
             if first <= frame + 1 < min(end, last):
                 out.append((int(frame) + 1, int(min(end, last))))

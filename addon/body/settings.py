@@ -13,9 +13,9 @@ TABLE_ITEMS = tuple((key, {"de_leva_male": "de Leva 1996, men", "de_leva_female"
                            "dempster_winter": "Dempster (Winter 2009)"}.get(key, key), t.source)
                     for key, t in TABLES.items())
 FLIGHT_ITEMS = (
-    ("AUTO", "Markers, else the arc", "The lw:flight markers of the written jump; without them, the stretches "
+    ("AUTO", "Markers, else the arc", "The lw:take-off markers of the written jump (flight); without them, the stretches "
                                       "where the body's centre of mass falls freely"),
-    ("MARKERS", "Flight markers", "Only the lw:flight markers the jump keys left on the timeline"),
+    ("MARKERS", "Take-off markers", "Only the lw:take-off markers (flight) the jump keys left on the timeline"),
     ("BALLISTIC", "Free-fall stretches", "Stretches where the body's centre of mass follows a falling arc"),
 )
 

@@ -21,6 +21,7 @@ from ..rig import space as rig_space, verify
 from ..body.com import BodyError
 from ..blender.curves import MEASURED_PROPERTY, CurveSpec
 from ..core.check.analysis import analyse_trajectory
+from ..core.base.phase_words import words_for
 from ..core.base.errors import LeapwrightError
 
 CAPABILITY = "check"
@@ -106,7 +107,7 @@ class LEAPWRIGHT_OT_check_jump(bpy.types.Operator):
             item.first_frame, item.last_frame = int(round(first)), int(round(last))
         if settings.add_markers:
             for p in result.phases:
-                scene.timeline_markers.new(MARKER_PREFIX + p.name, frame=int(p.first_frame))
+                scene.timeline_markers.new(MARKER_PREFIX + words_for(p.name).marker, frame=int(p.first_frame))
         g = result.implied_gravity_m_s2
         settings.implied_gravity = float("nan") if g is None else g
         settings.summary = (f"{path.text}: {len(result.flights)} flight(s), implied g "

@@ -11,6 +11,7 @@ import numpy as np
 from ..core.plan.feet import foot_ball_path
 from ..blender.curves import MARKER_PREFIX, WEIGHT_PROPERTY, CurveSpec  # noqa: F401  (re-exported as bp.*)
 from ..core.base.keys import evaluate_hermite, frame_keys, held_pose_keys, hermite_keys, phase_pose_keys
+from ..core.base.phase_words import marker_name
 
 _UP = np.array([0.0, 0.0, 1.0])
 _NEGLIGIBLE = 1e-12  # channel change per metre below which a channel is left alone
@@ -184,10 +185,11 @@ def weight_curve(plan, timeline):
 
 
 def phase_markers(plan, timeline):
-    """``(name, frame)`` of a marker at each phase start (hop number added for hops)."""
+    """``(name, frame)`` of a marker at each phase start, in the animator's words
+    (:mod:`core.base.phase_words`; hop number added for hops)."""
     several = len(plan.hops) > 1
     out = []
     for p in plan.phases:
-        name = MARKER_PREFIX + p.name + (f" {p.hop}" if several and p.name != "weighing" else "")
+        name = marker_name(p.name, p.hop if several and p.name != "weighing" else None)
         out.append((name, int(round(float(timeline.frames(p.start_s))))))
     return out

@@ -32,7 +32,7 @@ def test_ntsc_fps_base_works_with_the_true_frame_rate():
     configure(rig, height=0.4, weighing_duration=2.0)
     works(rig)
     plan = scene_plan()
-    landing = [m.frame for m in scene.timeline_markers if m.name == "lw:landing"]
+    landing = [m.frame for m in scene.timeline_markers if m.name == "lw:touchdown"]
     assert landing == [int(round(1 + plan.hops[0].touchdown_time_s * 24 / 1.001))]
 
 

@@ -79,7 +79,7 @@ def _flight(scene):
     """Arc start and last frame in the air, from the written markers (take-off + 1, landing - 1)."""
     marks = sorted((m.frame, m.name) for m in scene.timeline_markers)
     names = [n for _, n in marks]
-    i = names.index("lw:flight")
+    i = names.index("lw:take-off")
     return marks[i][0] + 1, marks[i + 1][0] - 1
 
 

@@ -57,7 +57,7 @@ def _jumping_rig():
     assert run_write(rig) == {"FINISHED"}
     scene = bpy.context.scene
     marks = {m.name: m.frame for m in scene.timeline_markers}
-    scene.frame_start, scene.frame_end = 1, marks["lw:landing"] + 20
+    scene.frame_start, scene.frame_end = 1, marks["lw:touchdown"] + 20
     return rig, marks
 
 
@@ -121,7 +121,7 @@ def test_euler_bones_get_the_same_rotation_as_quaternion_bones():
     from mathutils import Euler
     rig, marks = _jumping_rig()
     scene = bpy.context.scene
-    frames = np.arange(marks["lw:flight"] - 2, marks["lw:landing"] + 6)
+    frames = np.arange(marks["lw:take-off"] - 2, marks["lw:touchdown"] + 6)
     sampling, compat = addon().rig.sampling, addon().blender.compat
     user = Euler((0.1, -0.2, 0.05), "ZXY")  # the animator's held pose of pony.2
     pb = rig.pose.bones["pony.2"]
@@ -164,12 +164,12 @@ def test_ponytail_floats_in_flight_and_droops_past_standing_after_touchdown(pres
     baked, _ = sampling.sample_pose_world(scene, rig, frames, ["pony.3"])
     sag = addon().core.follow_through.presets.chain_preset(preset).sag
     lift = _angle_from_down(baked[:, 0]) - _angle_from_down(animated[:, 0])
-    flight = (frames >= marks["lw:flight"]) & (frames < marks["lw:landing"])
+    flight = (frames >= marks["lw:take-off"]) & (frames < marks["lw:touchdown"])
     assert lift[flight].max() >= 0.5 * sag, (math.degrees(lift[flight].max()), math.degrees(sag))
     standing = _angle_from_down(animated[0, 0])
-    assert _angle_from_down(baked[frames == marks["lw:landing"] - 1, 0])[0] > standing  # still up before
+    assert _angle_from_down(baked[frames == marks["lw:touchdown"] - 1, 0])[0] > standing  # still up before
     fps = scene.render.fps / scene.render.fps_base
-    soon = (frames >= marks["lw:landing"]) & (frames <= marks["lw:landing"] + droop_within * fps)
+    soon = (frames >= marks["lw:touchdown"]) & (frames <= marks["lw:touchdown"] + droop_within * fps)
     assert _angle_from_down(baked[soon, 0]).min() < standing
 
 

@@ -80,7 +80,7 @@ def test_hops_get_numbered_markers():
     bpy.context.view_layer.objects.active = rig
     assert bpy.ops.leapwright.write_plan() == {"FINISHED"}
     names = {m.name for m in bpy.context.scene.timeline_markers}
-    assert {"lw:weighing", "lw:flight 1", "lw:flight 2", "lw:flight 3", "lw:landing 3"} <= names
+    assert {"lw:stand", "lw:take-off 1", "lw:take-off 2", "lw:take-off 3", "lw:touchdown 3"} <= names
 
 
 def test_axis_angle_offsets_are_refused_before_anything_is_written():

@@ -18,6 +18,8 @@ import sys
 import numpy as np
 import pytest
 
+from leapwright.core.base.phase_words import marker_name, phase_of_marker
+
 REPO = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
 HERE = os.path.dirname(os.path.abspath(__file__))
 OUT = os.environ.get("LW_DEMO_OUT", os.path.join(REPO, "blend_examples", "out"))
@@ -70,7 +72,8 @@ def probe(outputs):
 
 
 def _marker_frames(probe):
-    return {name[len("lw:"):]: frame for frame, name in probe["markers"] if name.startswith("lw:")}
+    found = ((phase_of_marker(name), frame) for frame, name in probe["markers"])
+    return {p[0]: frame for p, frame in found if p is not None}
 
 
 def _png_size(path):
@@ -99,7 +102,7 @@ def test_blend_opens_with_rig_set_and_camera(probe, outputs):
 
 def test_markers_are_the_six_phases_in_order(probe):
     names = [name for _, name in probe["markers"] if name.startswith("lw:")]
-    assert names == [f"lw:{p}" for p in PHASES]
+    assert names == [marker_name(p) for p in PHASES]  # in the animator's words: lw:anticipation, lw:take-off
 
 
 def test_weight_property_is_animated(probe):
