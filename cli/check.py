@@ -23,6 +23,7 @@ import sys
 
 import numpy as np
 
+from leapwright.core.base.phase_words import animator_word
 from leapwright.core.body.arc import ARC_TOLERANCE
 from leapwright.core.body.segment_tables import TABLES
 
@@ -172,15 +173,15 @@ def report_text(result, path):
                      f"character {c.character_scale:.3f}x this size (or retime the flight by {c.retime_factor:.3f})")
     if result.phases:
         lines.append("  phases: " + ", ".join(
-            f"{p.name} {frame_text(p.first_frame)}-{frame_text(p.last_frame)}" for p in result.phases))
+            f"{animator_word(p.name)} {frame_text(p.first_frame)}-{frame_text(p.last_frame)}" for p in result.phases))
     for h in result.hops:
         parts = []
         if h.min_unweighting_bw is not None:
-            parts.append(f"unweighting low {h.min_unweighting_bw:.2f} BW ({h.unweighting_grade})")
-            parts.append(f"push peak {h.peak_push_bw:.2f} BW ({h.push_grade})")
+            parts.append(f"lightest in the anticipation {h.min_unweighting_bw:.2f} BW ({h.unweighting_grade})")
+            parts.append(f"hardest push-off {h.peak_push_bw:.2f} BW ({h.push_grade})")
         parts.append(f"take-off {abs(h.takeoff_speed_m_s):.2f} m/s ({h.takeoff_speed_grade})")
         if h.peak_landing_bw is not None:
-            parts.append(f"landing peak {h.peak_landing_bw:.2f} BW, mean {h.mean_landing_bw:.2f} BW "
+            parts.append(f"hardest touchdown {h.peak_landing_bw:.2f} BW, mean {h.mean_landing_bw:.2f} BW "
                          f"over {h.stopping_distance_m:.3f} m ({h.landing_grade})")
         lines.append(f"  hop {h.hop + 1}: " + "; ".join(parts))
     if not result.findings and result.flights:

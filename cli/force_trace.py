@@ -10,6 +10,7 @@ import math
 import numpy as np
 
 from leapwright.core.base.errors import InvalidGoalError, LeapwrightError
+from leapwright.core.base.phase_words import animator_word
 from leapwright.core.check.force_trace import read_force_csv, read_force_trace
 
 
@@ -64,17 +65,18 @@ def trace_summary(reading):
 
 def trace_text(summary, path):
     lines = [f"leapwright check: {path} (force-plate trace, body weight {summary['body_weight_n']:.0f} N = "
-             f"{summary['mass_kg']:.1f} kg)", "", "  phase          start s    end s   duration s"]
+             f"{summary['mass_kg']:.1f} kg)", "", "  phase          start s    end s   duration s   force plate"]
     for p in summary["phases"]:
-        lines.append(f"  {p['name']:<12} {p['start_s']:8.3f} {p['end_s']:8.3f} {p['duration_s']:10.3f}")
+        lines.append(f"  {animator_word(p['name']):<12} {p['start_s']:8.3f} {p['end_s']:8.3f} "
+                     f"{p['duration_s']:10.3f}   {p['name']}")
     lines += ["",
-              f"  take-off speed             {summary['takeoff_speed_m_s']:6.3f} m/s (impulse-momentum from rest)",
-              f"  jump height                {summary['jump_height_m']:6.3f} m (v^2 / 2g)",
-              f"  countermovement depth      {summary['depth_m']:6.3f} m",
-              f"  lowest unweighting force   {summary['lowest_unweighting_force_bw']:6.2f} BW",
-              f"  peak push force            {summary['peak_push_force_bw']:6.2f} BW"]
+              f"  take-off speed               {summary['takeoff_speed_m_s']:6.3f} m/s (impulse-momentum from rest)",
+              f"  jump height                  {summary['jump_height_m']:6.3f} m (v^2 / 2g)",
+              f"  crouch depth                 {summary['depth_m']:6.3f} m (countermovement depth)",
+              f"  lightest in the anticipation {summary['lowest_unweighting_force_bw']:6.2f} BW (lowest unweighting force)",
+              f"  hardest push-off             {summary['peak_push_force_bw']:6.2f} BW (peak push force)"]
     if summary["peak_landing_force_bw"] is not None:
-        lines.append(f"  peak landing force         {summary['peak_landing_force_bw']:6.2f} BW")
+        lines.append(f"  hardest touchdown            {summary['peak_landing_force_bw']:6.2f} BW (peak landing force)")
     lines.append(f"  fastest {summary['peak_speed_before_takeoff_s']:.3f} s before take-off, "
                  f"{100 * summary['speed_lost_by_takeoff']:.1f} % slower at take-off")
     return "\n".join(lines)

@@ -4,6 +4,7 @@ import json
 import math
 
 from leapwright.core.base.errors import InvalidGoalError, LeapwrightError
+from leapwright.core.base.phase_words import animator_word, figure_label
 from leapwright.core.plan.goals import JumpGoals, gravity_from
 from leapwright.core.base.keys import hermite_keys
 from leapwright.core.plan.planner import plan_jump
@@ -115,11 +116,12 @@ def _table(summary):
                  f" apex rise {summary['apex_rise_m']:.3f} m")
     for f in summary["figures"]:
         newtons = f"  ({f['newtons']:.0f} N)" if f["newtons"] is not None else ""
-        lines.append(f"  {f['name']:<26} {f['value']:7.2f} {f['unit']:<4} {f['grade']}{newtons}")
-    lines.append(f"  friction needed            {summary['friction_needed']:7.2f}")
-    lines += ["", "  phase         hop   start frame   end frame"]
+        lines.append(f"  {figure_label(f['name']):<28} {f['value']:7.2f} {f['unit']:<4} {f['grade']}{newtons}")
+    lines.append(f"  friction needed              {summary['friction_needed']:7.2f}")
+    lines += ["", "  phase          hop   start frame   end frame   force plate"]
     for p in summary["phases"]:
-        lines.append(f"  {p['name']:<12} {p['hop']:>4}   {p['start_frame']:11.2f} {p['end_frame']:11.2f}")
+        lines.append(f"  {animator_word(p['name']):<13} {p['hop']:>4}   {p['start_frame']:11.2f} "
+                     f"{p['end_frame']:11.2f}   {p['name']}")
     lines.append("")
     lines.append(f"  {summary['height_keys']} height keys reproduce the COM path")
     for note in summary["stylisations"]:

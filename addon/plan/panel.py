@@ -5,6 +5,7 @@ import math
 import bpy
 
 from ..blender.panel_parts import wrap_text
+from ..core.base.phase_words import figure_label
 
 from . import link as plan_link, operators as plan_operators
 from ..rig import profile as rig_profile
@@ -107,9 +108,9 @@ def _draw_readout(box, scene):
     col.label(text=f"In the air: {frames} frames")
     col.label(text=f"Whole jump: {r['duration_frames']:.0f} frames")
     if not math.isnan(r["peak_force_bw"]):
-        col.label(text=f"Hardest push or landing: {r['peak_force_bw']:.2f} × body weight")
+        col.label(text=f"Hardest push-off or touchdown: {r['peak_force_bw']:.2f} × body weight")
     for name, value, unit, grade in r["figures"]:
-        col.label(text=f"{name.capitalize()}: {value:.2f} {unit} ({grade})")
+        col.label(text=f"{figure_label(name).capitalize()}: {value:.2f} {unit} ({grade})")
     for w in r["warnings"]:
         for i, line in enumerate(wrap_text(w)):
             col.label(text=line, icon="ERROR" if i == 0 else "BLANK1")

@@ -68,15 +68,22 @@ class LeapwrightPlanSettings(bpy.types.PropertyGroup):
                                        default=1.0, min=0.01, update=_changed,
                                        description="Height of the centre of mass above the ground when standing")
     custom_timing: BoolProperty(name="Set timing", default=False, update=_changed,
-                                description="Set the dip, push and landing yourself instead of the defaults")
-    depth: FloatProperty(name="Dip depth", subtype="DISTANCE", unit="LENGTH", default=0.36, min=0.0,
-                         update=_changed)
-    dip_duration: FloatProperty(name="Dip", unit="TIME_ABSOLUTE", default=0.6, min=0.0, update=_changed)
-    push_duration: FloatProperty(name="Push", unit="TIME_ABSOLUTE", default=0.25, min=0.0, update=_changed)
-    landing_duration: FloatProperty(name="Landing", unit="TIME_ABSOLUTE", default=0.3, min=0.0,
-                                    update=_changed)
+                                description="Set the anticipation, push-off and settle yourself instead of the "
+                                            "defaults")
+    depth: FloatProperty(name="Crouch depth", subtype="DISTANCE", unit="LENGTH", default=0.36, min=0.0,
+                         update=_changed, description="How far the body sinks in the anticipation, standing "
+                                                      "to the lowest point of the crouch")
+    dip_duration: FloatProperty(name="Anticipation", unit="TIME_ABSOLUTE", default=0.6, min=0.0, update=_changed,
+                                description="From the first move down to the lowest point of the crouch "
+                                            "(force plate: unweighting and braking)")
+    push_duration: FloatProperty(name="Push-off", unit="TIME_ABSOLUTE", default=0.25, min=0.0, update=_changed,
+                                 description="From the crouch up to the take-off (force plate: propulsion)")
+    landing_duration: FloatProperty(name="Settle", unit="TIME_ABSOLUTE", default=0.3, min=0.0,
+                                    update=_changed, description="From touchdown down to the lowest point of "
+                                                                 "the settle (force plate: landing)")
     weighing_duration: FloatProperty(name="Hold before", unit="TIME_ABSOLUTE", default=0.25, min=0.0,
-                                     update=_changed, description="Standing still before the dip")
+                                     update=_changed,
+                                     description="Standing still before the anticipation (force plate: weighing)")
 
     rig: PointerProperty(name="Rig", type=bpy.types.Object, poll=_rig_poll, update=_changed)
     com_bone: StringProperty(name="Body bone", update=_changed,
