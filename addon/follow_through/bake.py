@@ -120,8 +120,8 @@ def marker_resets(scene, frame_start, frame_end, name_contains):
 def _selected_bones(context, rig):
     chosen = getattr(context, "selected_pose_bones", None)
     if chosen is None:
-        raise LagError("the pose-bone selection cannot be read here; name the bones "
-                                "(bones='a,b,c') or pick a bone collection")
+        raise LagError("the selected bones cannot be read here; select the bones in pose mode, "
+                       "or pick a bone collection")
     picked = {pb.name for pb in chosen}
     return tuple(pb.name for pb in rig.pose.bones if pb.name in picked)
 

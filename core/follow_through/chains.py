@@ -230,7 +230,8 @@ def bake_chains(times, heads, rotations, parents, parameters, gravity=(0.0, 0.0,
 
 def _check_options(options, frames):
     if not isinstance(options, BakeOptions):
-        raise InvalidGoalError(f"options must be BakeOptions, got {type(options).__name__}; build one with BakeOptions(...)")
+        raise InvalidGoalError(f"the bake's options are a {type(options).__name__}, not bake options: give the "
+                               "substeps, the resets and the key tolerance as bake options")
     substeps = options.substeps
     if isinstance(substeps, bool) or not isinstance(substeps, (int, np.integer)) or not 1 <= substeps <= 64:
         raise InvalidGoalError(f"substeps must be a whole number from 1 to 64, got {substeps!r}; 1 is stable at any stiffness")

@@ -155,15 +155,16 @@ def coefficient_arrays(parameters, bones):
         sets = [parameters] * bones
     elif isinstance(parameters, str):
         raise InvalidGoalError(
-            f"parameters must be ChainParameters or LinkCoefficients, got the text {parameters!r}; "
-            "for a preset pass chain_preset(name)"
+            f"the chain's parameters are the text {parameters!r}, not numbers: pick the preset of that name, "
+            "or give the stiffness, damping and sag"
         )
     else:
         try:
             sets = list(parameters)
         except TypeError:
             raise InvalidGoalError(
-                f"parameters must be ChainParameters, LinkCoefficients or a list of them, got {type(parameters).__name__}"
+                f"the chain's parameters are a {type(parameters).__name__}, not numbers: give one set of "
+                "stiffness, damping and sag for every bone, or one set per bone"
             ) from None
         if len(sets) != bones:
             raise InvalidGoalError(f"got {len(sets)} parameter sets for {bones} bones; give one set, or one per bone")
@@ -172,7 +173,8 @@ def coefficient_arrays(parameters, bones):
         sets = sets[:1]
     for i, p in enumerate(sets):
         if not isinstance(p, (ChainParameters, LinkCoefficients)):
-            raise InvalidGoalError(f"parameters[{i}] is a {type(p).__name__}; give ChainParameters or LinkCoefficients")
+            raise InvalidGoalError(f"the parameters of bone {i + 1} of the chain are a {type(p).__name__}, "
+                                   "not numbers: give its stiffness, damping and sag")
         try:
             checked.append(p.coefficients())
         except InvalidGoalError as exc:

@@ -31,11 +31,10 @@ _ARM_PROPORTIONS = np.array([C.UPPER_ARM_LENGTH_FRACTION, C.FOREARM_LENGTH_FRACT
                              C.HAND_LENGTH_FRACTION])
 _ARM_PROPORTIONS = _ARM_PROPORTIONS / _ARM_PROPORTIONS.sum()
 
-HOW_TO_MAP = ("map the bones by hand: give map_by_hand a dict from landmark to bone, e.g. "
-              "{'shoulder.L': 'upperarm_l', 'knuckles.L': 'hand_l@tail', "
-              "'hip_mid': 'thigh_l@head+thigh_r@head', ...} (a bare name means the bone's head; "
-              "add @tail for its tail; join bones with + to average them), or give a mass per "
-              "bone with mass_model_from_bone_masses for a creature")
+HOW_TO_MAP = ("map the bones by hand: in Body in the Air, Edit Bone Map, name the bone at each "
+              "body point, e.g. shoulder.L: upperarm_l, knuckles.L: hand_l@tail, hip_mid: "
+              "thigh_l+thigh_r (a bare name means the bone's head; add @tail for its tail; join "
+              "bones with + to average them), or give each bone a mass for a creature")
 
 
 def _unit(v, what):

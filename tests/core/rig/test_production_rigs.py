@@ -29,13 +29,16 @@ def test_deform_tree_joins_a_deform_bone_to_the_twin_of_its_mechanism_parent():
     assert tree.tolist() == [-1, 0, 1, 0]
 
 
-def test_unreadable_tree_keeps_the_reason_apart_from_the_code_recipe():
+def test_unreadable_tree_keeps_the_reason_apart_from_how_to_map_by_hand():
     snake = RigData(["a", "b", "c"], [-1, 0, 1], [(0, 0, 0), (0, 0, 1), (0, 0, 2)],
                     [(0, 0, 1), (0, 0, 2), (0, 0, 3)])
     with pytest.raises(RigLayoutError) as err:
         map_by_topology(snake)
-    assert "map_by_hand" in str(err.value)  # the library message keeps its recipe
-    assert "map_by_hand" not in err.value.reason and "no two hands" in err.value.reason
+    # the whole message says how to map by hand, in the panel's words (no Python API names:
+    # the command line prints it); the reason alone is what the panel shows beside its bone map
+    assert "map the bones by hand: in Body in the Air, Edit Bone Map" in str(err.value)
+    assert "map_by_hand" not in str(err.value)
+    assert "map the bones" not in err.value.reason and "no two hands" in err.value.reason
 
 
 def test_toe_pivot_keeps_the_hip_within_reach_of_the_turned_ankle():
