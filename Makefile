@@ -100,6 +100,8 @@ docs-pictures: build
 	$(VPY) blend_examples/run_demo.py --zip "$$(ls -t dist/leapwright-*.zip | head -n 1)" --out blend_examples/out --docs docs
 	$(VENV)/bin/leapwright plan --height 0.4 --fps 24 --chart docs/plan_force.png > /dev/null
 	$(VPY) blend_examples/docs_pictures.py --zip "$$(ls -t dist/leapwright-*.zip | head -n 1)" --docs docs
+	$(VPY) blend_examples/docs_gif.py --blend blend_examples/out/jump_demo.blend --docs docs
+	$(VPY) blend_examples/docs_rigify.py --zip "$$(ls -t dist/leapwright-*.zip | head -n 1)" --docs docs
 
 typecheck: $(STAMP)/core
 	PY311="$(PY311)" bash tools/typecheck.sh
