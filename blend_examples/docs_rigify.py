@@ -192,7 +192,9 @@ def make_strip(zip_path, docs):
     s = scene.leapwright_plan
     s.rig = rig
     operator_call(bpy.ops.leapwright.find_rig_controls, rig)
-    s.com_bone, (s.foot_left, s.foot_right) = BODY, FEET  # what Find Rig Controls picks on this rig
+    if (s.com_bone, (s.foot_left, s.foot_right)) != (BODY, FEET):  # the README says what it picks here
+        raise SystemExit(f"Find Rig Controls picked {s.com_bone!r}, {s.foot_left!r}, {s.foot_right!r}, "
+                         f"not {BODY!r} and {FEET}")
     s.height, s.distance = 0.4, 0.5
     operator_call(bpy.ops.leapwright.write_plan, rig, on_conflict="ASK")
     moments = _moments(scene)
