@@ -60,3 +60,21 @@ def test_markers_of_earlier_versions_give_the_same_flight_and_contact_and_are_re
     assert bpy.ops.leapwright.remove_plan() == {"FINISHED"}
     assert _marks(scene) == []
     assert snapshot() == before  # the file as it was before the jump was written
+
+
+def test_check_marks_the_phases_it_measures_in_the_same_words():
+    rig, scene, _ = _written()
+    plan, _ = addon().plan.link.plan_for(scene)
+    fps = scene.render.fps / scene.render.fps_base
+    scene.frame_start, scene.frame_end = 1, int(1 + plan.duration_s * fps) + 4
+    scene.leapwright_check.add_markers = True
+    bpy.context.view_layer.objects.active = rig
+    assert bpy.ops.leapwright.check_jump() == {"FINISHED"}
+    measured = {n: f for f, n in _marks(scene) if n.startswith("lw:measured ")}
+    written = {n: f for f, n in _marks(scene) if not n.startswith("lw:measured ")}
+    # the check finds the written jump's take-off and touchdown (a ballistic flight: physics law)
+    # and names them as the plan's markers do
+    assert {"lw:measured take-off", "lw:measured touchdown"} <= set(measured)
+    assert set(measured) <= {"lw:measured " + n[len("lw:"):] for n in ONE_HOP}
+    assert abs(measured["lw:measured take-off"] - written["lw:take-off"]) <= 1
+    assert abs(measured["lw:measured touchdown"] - written["lw:touchdown"]) <= 1
