@@ -12,6 +12,9 @@ crossing; where the confirmation fails the bracket shrinks around the lowest
 sample and the next batch tries again, so the worst case is a grid refinement.
 """
 
+import functools
+import math
+
 import numpy as np
 
 from .shape_search import line_tables
@@ -20,6 +23,14 @@ _COARSE = 41  # geometric grid over the whole duration range (steps of 11 %)
 _FINE = 25  # points per refining batch
 _CONFIRM = 1e-9  # relative step either side of a crossing that confirms it
 _EDGE_POINTS = 33  # points per batch walking up to the edge of the feasible durations
+
+
+@functools.lru_cache(maxsize=16)
+def _coarse_grid(lo, hi):
+    """The coarse geometric grid of durations [s] (the same range for every plan at one scale)."""
+    grid = np.geomspace(lo, hi, _COARSE)
+    grid.flags.writeable = False
+    return grid
 
 
 def _durations(fixed, free_is_first, free):
@@ -47,10 +58,22 @@ def _crossing(u, p, m):
             return None
         vertex = -left[1] / (2.0 * left[0])
         return vertex if lo <= vertex <= hi else None
-    roots = np.roots(difference)
-    roots = roots[np.isreal(roots)].real
-    roots = roots[(roots >= lo) & (roots <= hi)]
-    return float(roots[0]) if roots.size == 1 else None
+    roots = _real_roots(*difference)
+    roots = [r for r in roots if lo <= r <= hi]
+    return float(roots[0]) if len(roots) == 1 else None
+
+
+def _real_roots(c2, c1, c0):
+    """Real roots of c2 u^2 + c1 u + c0 (as numpy.roots gives them, without its eigenvalue solve)."""
+    if c2 == 0.0:
+        return [] if c1 == 0.0 else [-c0 / c1]
+    disc = c1 * c1 - 4.0 * c2 * c0
+    if disc < 0.0:
+        return []
+    root = math.sqrt(disc)
+    # The stable pair: q = -(c1 + sign(c1) sqrt(disc)) / 2, roots q / c2 and c0 / q.
+    q = -0.5 * (c1 + math.copysign(root, c1))
+    return [q / c2] if q == 0.0 else [q / c2, c0 / q]
 
 
 def _feasible_edge(tables, fixed, free_is_first, u_in, u_out):
@@ -102,7 +125,7 @@ def least_peak_duration(spec, fixed, free_is_first, lo, hi):
     """
     tables = line_tables(spec)
     tables.hint = None  # each search starts afresh: the same goals give the same plan
-    grid = np.geomspace(lo, hi, _COARSE)
+    grid = _coarse_grid(lo, hi)
     a_b, peak = tables.least_peaks(*_durations(fixed, free_is_first, grid))
     if not np.isfinite(peak).any():
         return None

@@ -94,7 +94,7 @@ def _slope_rows(table, piece, order):
 class LineTables:
     """Every sample of a stretch as a line in a_b, its offset and slope linear in the duration powers."""
 
-    def __init__(self, spec):
+    def __init__(self, spec, turn_by_lines=True):
         s, e, zb, g = spec.start, spec.end, spec.bottom_height, spec.gravity
         ends = {1: (s.height, s.speed, s.acceleration, zb, 0.0, 0.0),
                 2: (zb, 0.0, 0.0, e.height, e.speed, e.acceleration)}
@@ -131,7 +131,8 @@ class LineTables:
             self.turn_slope = _TURN_D2[5]
         # A dip from rest with no acceleration has a(s) = s q(s), q quadratic: on the grid it turns
         # once exactly when its first sample is below zero and its last (a_b) above, two more lines.
-        self.turn_by_lines = self.dip and abs(s.acceleration) <= 1e-12 * g
+        # (``turn_by_lines=False`` keeps the sample-by-sample check: the slow exact path the tests compare with.)
+        self.turn_by_lines = turn_by_lines and self.dip and abs(s.acceleration) <= 1e-12 * g
         if self.turn_by_lines:
             band = _TURN_BAND * g
             offsets += [-self.turn_offset[:, :1], np.zeros((9, 1))]
