@@ -162,9 +162,11 @@ class LineTables:
         powers = duration_powers(np.asarray(first, dtype=float), np.asarray(second, dtype=float))
         lo, hi = self.feasible_interval(powers)
         feasible = lo < hi
-        a_b, peak, self.hint = lowest_envelope(powers @ self.envelope_offset, self.envelope_slope,
-                                               np.where(feasible, lo, 0.0), np.where(feasible, hi, 1.0),
-                                               self.hint)
+        a_b, peak = np.zeros(len(lo)), np.full(len(lo), np.inf)
+        if feasible.any():  # infeasible durations (most of a coarse grid, often) need no envelope
+            p = powers[feasible] if not feasible.all() else powers
+            a_b[feasible], peak[feasible], self.hint = lowest_envelope(
+                p @ self.envelope_offset, self.envelope_slope, lo[feasible], hi[feasible], self.hint)
         if self.dip and not self.turn_by_lines:
             turns = self._dip_turns_once(powers, a_b)
             if not np.all(turns | ~feasible):
