@@ -13,7 +13,6 @@ sample and the next batch tries again, so the worst case is a grid refinement.
 """
 
 import functools
-import math
 
 import numpy as np
 
@@ -58,22 +57,10 @@ def _crossing(u, p, m):
             return None
         vertex = -left[1] / (2.0 * left[0])
         return vertex if lo <= vertex <= hi else None
-    roots = _real_roots(*difference)
-    roots = [r for r in roots if lo <= r <= hi]
-    return float(roots[0]) if len(roots) == 1 else None
-
-
-def _real_roots(c2, c1, c0):
-    """Real roots of c2 u^2 + c1 u + c0 (as numpy.roots gives them, without its eigenvalue solve)."""
-    if c2 == 0.0:
-        return [] if c1 == 0.0 else [-c0 / c1]
-    disc = c1 * c1 - 4.0 * c2 * c0
-    if disc < 0.0:
-        return []
-    root = math.sqrt(disc)
-    # The stable pair: q = -(c1 + sign(c1) sqrt(disc)) / 2, roots q / c2 and c0 / q.
-    q = -0.5 * (c1 + math.copysign(root, c1))
-    return [q / c2] if q == 0.0 else [q / c2, c0 / q]
+    roots = np.roots(difference)
+    roots = roots[np.isreal(roots)].real
+    roots = roots[(roots >= lo) & (roots <= hi)]
+    return float(roots[0]) if roots.size == 1 else None
 
 
 def _feasible_edge(tables, fixed, free_is_first, u_in, u_out):

@@ -65,6 +65,10 @@ def _goal_sets():
     yield dict(takeoff_speed=3.456, depth=0.376, takeoff_extension=0.158, dip_duration=0.6615, push_duration=0.2835)
     yield dict(takeoff_speed=3.4, distance=1.0)
     yield dict(height=0.4, gravity=1.62)  # Moon (NASA fact sheet)
+    # Rebounds down a step: both durations free and not a mirror image, where many pairs share the
+    # least peak and the pick depends on every rounding of the search.
+    yield dict(height=0.5, landing_height=-0.3, hops=2)
+    yield dict(height=0.5, landing_height=0.2, hops=3, distance=0.5)
 
 
 def _plan_or_refusal(goals):
