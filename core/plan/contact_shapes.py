@@ -137,6 +137,8 @@ def choose_shape(spec, first_duration, second_duration, duration_range):
         if found is None:
             return None
         d1, d2 = (found[0], d2) if free_is_first else (d1, found[0])
+        # The search's own a_b and peak at the duration it chose: no need to solve it again.
+        return StretchShape(float(found[1]), float(d1), float(d2), float(found[2]))
     found = best_bottom_acceleration(spec, d1, d2)
     if found is None:
         return None

@@ -51,15 +51,23 @@ def grade_lower(value, limits):
     return ATHLETIC if value >= limits[1] else BEYOND
 
 
-def _force_extremes(z_path, phases, names, gravity, pick):
-    values = []
-    for p in phases:
-        if p.name in names and p.end_s > p.start_s:
-            t = np.linspace(p.start_s, p.end_s, 801)
-            values.append(pick(1.0 + z_path.evaluate(t, 2) / gravity))
-    if not values:
-        return float("nan")
-    return float(pick(np.array(values)))
+def _force_extremes(z_path, phases, groups, gravity):
+    """Extreme force [BW] of each ``(names, pick)`` group over its phases, 801 samples a phase.
+
+    One evaluation of the path for every phase at once (the panel re-plans while a value is dragged).
+    """
+    times, owners = [], []
+    for n, (names, _) in enumerate(groups):
+        for p in phases:
+            if p.name in names and p.end_s > p.start_s:
+                times.append(np.linspace(p.start_s, p.end_s, 801))
+                owners.append(n)
+    force = (1.0 + z_path.evaluate(np.concatenate(times), 2) / gravity).reshape(len(times), 801) if times else None
+    out = []
+    for n, (_, pick) in enumerate(groups):
+        rows = [k for k, owner in enumerate(owners) if owner == n]
+        out.append(float(pick(pick(force[rows], axis=1))) if rows else float("nan"))
+    return out
 
 
 def stylisation_notes(flight, fps=None):
@@ -79,9 +87,8 @@ def stylisation_notes(flight, fps=None):
 def plausibility_report(goals, phases, z_path, hops, flight):
     """Figures and grades of a plan (``goals`` resolved, ``z_path`` the COM height)."""
     g = goals.gravity
-    push = _force_extremes(z_path, phases, ("braking", "propulsion"), g, np.max)
-    unweighting = _force_extremes(z_path, phases, ("unweighting",), g, np.min)
-    landing = _force_extremes(z_path, phases, ("landing",), g, np.max)
+    push, unweighting, landing = _force_extremes(
+        z_path, phases, ((("braking", "propulsion"), np.max), (("unweighting",), np.min), (("landing",), np.max)), g)
     first = hops[0]
     friction = max(h.friction_needed for h in hops)
     bw_n = goals.mass * g if goals.mass is not None else None

@@ -12,6 +12,8 @@ crossing; where the confirmation fails the bracket shrinks around the lowest
 sample and the next batch tries again, so the worst case is a grid refinement.
 """
 
+import functools
+
 import numpy as np
 
 from .shape_search import line_tables
@@ -20,6 +22,14 @@ _COARSE = 41  # geometric grid over the whole duration range (steps of 11 %)
 _FINE = 25  # points per refining batch
 _CONFIRM = 1e-9  # relative step either side of a crossing that confirms it
 _EDGE_POINTS = 33  # points per batch walking up to the edge of the feasible durations
+
+
+@functools.lru_cache(maxsize=16)
+def _coarse_grid(lo, hi):
+    """The coarse geometric grid of durations [s] (the same range for every plan at one scale)."""
+    grid = np.geomspace(lo, hi, _COARSE)
+    grid.flags.writeable = False
+    return grid
 
 
 def _durations(fixed, free_is_first, free):
@@ -102,7 +112,7 @@ def least_peak_duration(spec, fixed, free_is_first, lo, hi):
     """
     tables = line_tables(spec)
     tables.hint = None  # each search starts afresh: the same goals give the same plan
-    grid = np.geomspace(lo, hi, _COARSE)
+    grid = _coarse_grid(lo, hi)
     a_b, peak = tables.least_peaks(*_durations(fixed, free_is_first, grid))
     if not np.isfinite(peak).any():
         return None

@@ -26,6 +26,7 @@ from ..base.piecewise import quintic_between
 SAMPLES = 97  # grid points per piece
 FORCE_MARGIN = 2e-3  # BW kept above zero on the inner samples so the force stays >= 0 between them
 _TURN_SAMPLES = 4 * SAMPLES  # grid of the dip's one-turn check
+_TURN_BAND = 1e-9  # g: a dip's acceleration within it counts as zero (neither sign)
 _SPEED_SIGN = {"dip": -1, "propulsion": +1, "absorption": -1, "recovery": +1}
 
 
@@ -93,7 +94,7 @@ def _slope_rows(table, piece, order):
 class LineTables:
     """Every sample of a stretch as a line in a_b, its offset and slope linear in the duration powers."""
 
-    def __init__(self, spec):
+    def __init__(self, spec, turn_by_lines=True):
         s, e, zb, g = spec.start, spec.end, spec.bottom_height, spec.gravity
         ends = {1: (s.height, s.speed, s.acceleration, zb, 0.0, 0.0),
                 2: (zb, 0.0, 0.0, e.height, e.speed, e.acceleration)}
@@ -124,6 +125,21 @@ class LineTables:
             offsets[-1][3] = offset
             slopes.append(np.zeros((9, 1)))
             slopes[-1][3] = slope
+        self.dip = spec.first_kind == "dip"
+        if self.dip:
+            self.turn_offset = _piece_rows(_TURN_D2, ends[1], 1, 2)
+            self.turn_slope = _TURN_D2[5]
+        # A dip from rest with no acceleration has a(s) = s q(s), q quadratic: on the grid it turns
+        # once exactly when its first sample is below zero and its last (a_b) above, two more lines.
+        # (``turn_by_lines=False`` keeps the sample-by-sample check: the slow exact path the tests compare with.)
+        self.turn_by_lines = turn_by_lines and self.dip and abs(s.acceleration) <= 1e-12 * g
+        if self.turn_by_lines:
+            band = _TURN_BAND * g
+            offsets += [-self.turn_offset[:, :1], np.zeros((9, 1))]
+            offsets[-2][3] -= band
+            offsets[-1][3] = -band
+            slopes += [np.zeros((9, 1)), np.zeros((9, 1))]
+            slopes[-2][3], slopes[-1][3] = -self.turn_slope[0], 1.0
         offset, slope = np.concatenate(offsets, axis=1), np.concatenate(slopes, axis=1)
         # Each slope is one power of a duration times a constant, so its sign is fixed: split the
         # limits once into lower bounds (rising), upper bounds (falling) and flat ones.
@@ -131,11 +147,7 @@ class LineTables:
         self.lower = (offset[:, sign > 0], slope[:, sign > 0])
         self.upper = (offset[:, sign < 0], slope[:, sign < 0])
         self.flat = offset[:, sign == 0]
-        self.dip = spec.first_kind == "dip"
         self.hint = None  # the two envelope lines that crossed at the last batch's minimum
-        if self.dip:
-            self.turn_offset = _piece_rows(_TURN_D2, ends[1], 1, 2)
-            self.turn_slope = _TURN_D2[5]
 
     def feasible_interval(self, powers):
         """``(lo, hi)``: the a_b interval meeting the limits at each duration pair (empty: ``lo >= hi``)."""
@@ -150,10 +162,12 @@ class LineTables:
         powers = duration_powers(np.asarray(first, dtype=float), np.asarray(second, dtype=float))
         lo, hi = self.feasible_interval(powers)
         feasible = lo < hi
-        a_b, peak, self.hint = lowest_envelope(powers @ self.envelope_offset, self.envelope_slope,
-                                               np.where(feasible, lo, 0.0), np.where(feasible, hi, 1.0),
-                                               self.hint)
-        if self.dip:
+        a_b, peak = np.zeros(len(lo)), np.full(len(lo), np.inf)
+        if feasible.any():  # infeasible durations (most of a coarse grid, often) need no envelope
+            p = powers[feasible] if not feasible.all() else powers
+            a_b[feasible], peak[feasible], self.hint = lowest_envelope(
+                p @ self.envelope_offset, self.envelope_slope, lo[feasible], hi[feasible], self.hint)
+        if self.dip and not self.turn_by_lines:
             turns = self._dip_turns_once(powers, a_b)
             if not np.all(turns | ~feasible):
                 a_b, peak, turns = self._turn_once(powers, a_b, peak, turns, lo, hi, feasible)
@@ -196,7 +210,7 @@ class LineTables:
         The sign pattern only changes where a sample's acceleration crosses +-1e-9 g, a line in
         a_b; of those crossings inside (bad, good], the one nearest ``bad`` that turns once.
         """
-        band = 1e-9 * self.spec.gravity
+        band = _TURN_BAND * self.spec.gravity
         offsets = powers @ self.turn_offset
         out = good.copy()
         for row in range(len(good)):
@@ -215,7 +229,7 @@ class LineTables:
     def _dip_turns_once(self, powers, a_b):
         """The dip must unweight (a < 0) then brake (a > 0): one sign change only."""
         acc = powers @ self.turn_offset + a_b[:, None] * self.turn_slope
-        signs = np.where(np.abs(acc) > 1e-9 * self.spec.gravity, np.sign(acc), 0.0)
+        signs = np.where(np.abs(acc) > _TURN_BAND * self.spec.gravity, np.sign(acc), 0.0)
         # Carry the last non-zero sign over zeros, then count the changes.
         index = np.where(signs != 0, np.arange(signs.shape[1]), 0)
         np.maximum.accumulate(index, axis=1, out=index)

@@ -102,3 +102,33 @@ def test_every_fix_a_refusal_suggests_plans(goals):
                 assert changed["dip_duration"] > goals["dip_duration"]
             plan_jump(JumpGoals(**{k: v for k, v in changed.items() if v is not None}))
     assert found >= 1, message
+
+
+def test_default_landing_peak_sits_between_the_recorded_landings():
+    # reference-values.md, real jumps: the two recorded landings peak at 3.50 and 3.82 BW
+    # (jumpmetrics 0.2.0 force-plate traces); the panel's default goal is a 0.4 m jump.
+    plan = plan_jump(JumpGoals(height=0.4))
+    assert 3.50 <= plan.report.peak_landing_force_bw <= 3.82
+
+
+def test_landing_peaks_of_three_to_six_body_weights_are_reachable_by_the_landing_depth():
+    # Peak landing force of 0.3-0.6 m drops, about 3-6 BW (general literature, from memory in
+    # reference-values.md): a 0.4 m jump reaches both ends by its landing depth alone, and a
+    # shorter stop gives the larger force (work-energy: mean force BW (1 + h / stop), textbook).
+    peaks = {d: plan_jump(JumpGoals(height=0.4, landing_depth=d)).report.peak_landing_force_bw
+             for d in (0.12, 0.2, 0.25, 0.35)}
+    assert peaks[0.35] <= 3.0 and peaks[0.12] >= 6.0
+    assert peaks[0.12] > peaks[0.2] > peaks[0.25] > peaks[0.35]
+
+
+@pytest.mark.parametrize("depth, dip, low, high", [(0.3, 0.4, 0.15, 0.2), (0.4, 0.5, 0.2, 0.37),
+                                                   (0.2, 1.0, 0.86, 1.0)])
+def test_the_recorded_spread_of_unweighting_is_reachable_by_the_dip_goals(depth, dip, low, high):
+    # Real jumps' lowest unweighting force 0.15-0.86 BW (reference-values.md, the seven force-plate
+    # jumps; PMC11208864: 0.43 BW self-chosen, 0.58 shallow): a quicker or deeper dip unweights more,
+    # a slow shallow one less, and each such plan stays physical (the ground never pulls).
+    plan = plan_jump(JumpGoals(height=0.4, depth=depth, dip_duration=dip))
+    assert low <= plan.report.min_unweighting_force_bw <= high
+    phase = {p.name: p for p in plan.phases}
+    t = np.linspace(phase["unweighting"].start_s, phase["propulsion"].end_s, 4001)
+    assert plan.force_bw(t).min() >= -1e-9
