@@ -161,7 +161,8 @@ def forward_findings(frames, times, pos, keep, span, tol, noise=0.0):
     :data:`FORWARD_SPEED_CHANGE_TOLERANCE` by more than its 95 % uncertainty.
     """
     i0, i1 = span
-    k = keep[(keep >= i0) & (keep <= i1)]
+    # keep is sorted: the flight's samples are one slice of it.
+    k = keep[np.searchsorted(keep, i0, side="left"):np.searchsorted(keep, i1, side="right")]
     if len(k) < 4:
         return []
     t = times[k] - times[k].mean()
@@ -237,7 +238,7 @@ def _touchdown_height(flight, frames, i1, fps):
     return flight.apex_height_m - 0.5 * flight.fall_gravity_m_s2 * t_td * t_td
 
 
-def _lowest_height(frames, z, low, first, last, fps, noise):
+def _lowest_height(frames, z, low, first, last, fps, noise, step=None):
     """Height of the lowest point after a landing [m] and its standard error [m].
 
     Keyed paths: the lowest sample. Measured paths: the bottom of a quadratic fitted
@@ -245,7 +246,8 @@ def _lowest_height(frames, z, low, first, last, fps, noise):
     """
     if noise <= MEASURED_NOISE_M:
         return float(z[low]), 0.0
-    step = float(np.median(np.diff(frames))) / fps if len(frames) > 1 else 1.0
+    if step is None:
+        step = _median_step(frames, fps)
     half = max(2, int(round(0.05 / max(step, 1e-12))))
     a, b = max(low - half, first), min(low + half, last)
     if b - a < 3:
@@ -258,6 +260,11 @@ def _lowest_height(frames, z, low, first, last, fps, noise):
     return min(bottom, float(np.max(z[a:b + 1]))), noise * float(np.sqrt(3.0 / (b - a + 1)))
 
 
+def _median_step(frames, fps):
+    """Median time between samples [s] (1 for a single sample)."""
+    return float(np.median(np.diff(frames))) / fps if len(frames) > 1 else 1.0
+
+
 def hop_forces(frames, z, force, flights, spans, fps, noise=0.0):
     """Peak forces, landing work and grades for each flight's push and landing.
 
@@ -266,6 +273,7 @@ def hop_forces(frames, z, force, flights, spans, fps, noise=0.0):
     """
     out = []
     n = len(z)
+    median_step = _median_step(frames, fps) if flights else 1.0
     for hop, (flight, (i0, i1)) in enumerate(zip(flights, spans)):
         s = spans[hop - 1][1] + 1 if hop else 0
         e = i0 - 1
@@ -286,7 +294,7 @@ def hop_forces(frames, z, force, flights, spans, fps, noise=0.0):
             z_td = _touchdown_height(flight, frames, i1, fps)
             if flight.touchdown_frame is None or noise <= MEASURED_NOISE_M:
                 z_td = min(z_td, float(z[i1]))
-            z_low, low_sd = _lowest_height(frames, z, low_l, i1 + 1, nxt, fps, noise)
+            z_low, low_sd = _lowest_height(frames, z, low_l, i1 + 1, nxt, fps, noise, median_step)
             fall = float(max(flight.apex_height_m - z_td, 0.0))
             stop = float(max(z_td - z_low, 0.0))
             # Touchdown height: the parabola's spread plus where on it touchdown falls
