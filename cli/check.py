@@ -149,6 +149,11 @@ def to_json_dict(result):
     })
 
 
+def _pm(sd, fmt):
+    """`` +- x`` for a 95 % interval (1.96 standard errors), or nothing when not measured."""
+    return f" +- {1.96 * sd:{fmt}}" if sd else ""
+
+
 def report_text(result, path):
     """A plain-text report for an animator."""
     g = result.scene_gravity_m_s2
@@ -180,12 +185,16 @@ def report_text(result, path):
     for h in result.hops:
         parts = []
         if h.min_unweighting_bw is not None:
-            parts.append(f"unweighting low {h.min_unweighting_bw:.2f} BW ({h.unweighting_grade})")
+            if h.dip_depth_m is not None:
+                parts.append(f"dip {h.dip_depth_m:.3f}{_pm(h.dip_depth_sd_m, '.3f')} m")
+            parts.append(f"unweighting low {h.min_unweighting_bw:.2f}{_pm(h.unweighting_sd_bw, '.2f')} BW "
+                         f"({h.unweighting_grade})")
             parts.append(f"push peak {h.peak_push_bw:.2f} BW ({h.push_grade})")
         parts.append(f"take-off {abs(h.takeoff_speed_m_s):.2f} m/s ({h.takeoff_speed_grade})")
         if h.peak_landing_bw is not None:
             parts.append(f"landing peak {h.peak_landing_bw:.2f} BW, mean {h.mean_landing_bw:.2f} BW "
-                         f"over {h.stopping_distance_m:.3f} m ({h.landing_grade})")
+                         f"over {h.stopping_distance_m:.3f}{_pm(h.stopping_distance_sd_m, '.3f')} m "
+                         f"({h.landing_grade})")
         lines.append(f"  hop {h.hop + 1}: " + "; ".join(parts))
     if not result.findings and result.flights:
         lines.append("no findings: the jump is physically consistent")

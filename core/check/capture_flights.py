@@ -35,7 +35,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .local_fits import window_derivatives, window_residual_rms
+from .local_fits import acceleration_noise_gain, window_derivatives, window_residual_rms
 from .parabola import Parabola, Stretch, fit_parabola
 
 #: Sample noise above this sd [m] means the path was measured, not keyed: keyed curves
@@ -116,6 +116,15 @@ def smoothing_half_width(t):
 def measured_acceleration(t, z):
     """Speed [m/s] and acceleration [m/s^2] smoothed over :data:`ACCELERATION_WINDOW_S`."""
     return window_derivatives(t, z, smoothing_half_width(t))
+
+
+def force_noise_bw(t, noise_sd, gravity):
+    """Standard error [BW] of the apparent weight of :func:`measured_acceleration` from
+    sample jitter ``noise_sd`` [m] under ``gravity`` [m/s^2]."""
+    if len(t) < 2:
+        return 0.0
+    step = float(np.median(np.diff(t)))
+    return noise_sd * acceleration_noise_gain(step, smoothing_half_width(t)) / gravity
 
 
 def _runs(mask):
