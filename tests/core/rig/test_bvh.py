@@ -105,3 +105,27 @@ def test_up_axis_is_the_taller_of_y_and_z_even_in_a_t_pose():
 def test_broken_files_are_refused_with_what_is_wrong(text, words):
     with pytest.raises(InvalidTrajectoryError, match=words):
         bvh.read_bvh(text, "jump.bvh")
+
+
+from hypothesis import given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+_WORDS = st.sampled_from(["HIERARCHY", "ROOT", "JOINT", "End", "Site", "{", "}", "OFFSET", "CHANNELS",
+                          "3", "6", "0", "1.5", "-2", "nan", "Xposition", "Zrotation", "Yrotation",
+                          "MOTION", "Frames:", "Frame", "Time:", "0.01", "\n", "a", "b"])
+
+
+@settings(max_examples=300, deadline=None)
+@given(st.lists(_WORDS, max_size=60), st.booleans())
+def test_any_text_is_read_or_refused_with_the_readers_own_error(words, valid_head):
+    # Property (common practice for readers of user files): garbage never crashes the reader
+    # with anything but its own error, whose message names the file.
+    head = "HIERARCHY ROOT a { OFFSET 0 0 0 CHANNELS 3 Xposition Yposition Zposition }\n" if valid_head else ""
+    text = head + " ".join(words)
+    try:
+        motion = bvh.read_bvh(text, "take.bvh")
+    except InvalidTrajectoryError as exc:
+        assert str(exc).startswith("take.bvh: ")
+        return
+    rot, pos = bvh.forward_kinematics(motion)
+    assert pos.shape == (len(motion.values), len(motion.names), 3) and np.isfinite(pos).all()
