@@ -172,6 +172,10 @@ def sample_blend_track(path, object_name, bone_name=None, follow="auto", table="
     if bone_name and (obj.type != "ARMATURE" or bone_name not in obj.pose.bones):
         raise InvalidTrajectoryError(f"{path}: {object_name!r} has no pose bone {bone_name!r}; "
                                      "give --bone with the body (COM) bone's name")
+    if not bone_name and obj.type == "ARMATURE":
+        # As the panel's Check Jump: the body bone saved in the file's jump panel.
+        saved = saved_setting(scene, "com_bone")
+        bone_name = saved if isinstance(saved, str) and saved in obj.pose.bones else None
     choose = addon_module("check.path")
     try:
         found = choose.checked_path(scene, obj, bone_name or "", FOLLOW_OPTIONS[follow], table)

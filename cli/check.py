@@ -42,11 +42,11 @@ from cli.force_trace import add_force_trace_arguments, run_force_trace
 def add_parser(subparsers):
     """Register ``check`` on an argparse subparsers object."""
     p = subparsers.add_parser(
-        "check", help="check a jump made by hand or captured (CSV frame,x,y,z)",
+        "check", help="check a jump made by hand or captured (CSV frame,x,y,z, BVH or .blend)",
         description="Check a sampled centre-of-mass (or root) path for flights, implied gravity, "
                     "apparent weight and the usual mistakes. Finding kinds: " + ", ".join(FINDING_KINDS))
     p.add_argument("files", nargs="+", metavar="FILE",
-                   help="CSV with header frame,x,y,z (metres, z up), or .blend files (with --object)")
+                   help="CSV with header frame,x,y,z (metres, z up), .bvh motion capture, or .blend files (with --object)")
     p.add_argument("--fps", help="frame rate: 24, 23.976 or 24000/1001 (CSV: required; .blend: the scene's)")
     p.add_argument("--gravity", default=None,
                    help="the jump's gravity [m/s^2] or earth/moon/mars (default: for a .blend the jump "
@@ -58,6 +58,10 @@ def add_parser(subparsers):
                         "must fall on one parabola); bone: --bone's head, or the object without --bone; "
                         "auto (default): body when the rig has a bone map (lw_body_map), bone masses "
                         "(lw_bone_masses) or the in-air correction layer lw:body, else bone")
+    p.add_argument("--bvh-units", choices=("m", "cm", "mm", "in"),
+                   help=".bvh: the file's length unit (default: found from the skeleton's height)")
+    p.add_argument("--bvh-up", choices=("y", "z"),
+                   help=".bvh: the file's up axis (default Y, the BVH convention, unless the skeleton stands along Z)")
     add_batch_arguments(p)
     p.add_argument("--leg-length", action="append", default=[], metavar="NAME=METRES",
                    help="rest length of the leg ending at foot columns NAME_x,NAME_y,NAME_z")
@@ -146,6 +150,11 @@ def to_json_dict(result):
     })
 
 
+def _pm(sd, fmt):
+    """`` +- x`` for a 95 % interval (1.96 standard errors), or nothing when not measured."""
+    return f" +- {1.96 * sd:{fmt}}" if sd else ""
+
+
 def report_text(result, path):
     """A plain-text report for an animator."""
     g = result.scene_gravity_m_s2
@@ -177,12 +186,16 @@ def report_text(result, path):
     for h in result.hops:
         parts = []
         if h.min_unweighting_bw is not None:
-            parts.append(f"lightest in the anticipation {h.min_unweighting_bw:.2f} BW ({h.unweighting_grade})")
+            if h.dip_depth_m is not None:
+                parts.append(f"crouch depth {h.dip_depth_m:.3f}{_pm(h.dip_depth_sd_m, '.3f')} m")
+            parts.append(f"lightest in the anticipation {h.min_unweighting_bw:.2f}{_pm(h.unweighting_sd_bw, '.2f')} BW "
+                         f"({h.unweighting_grade})")
             parts.append(f"hardest push-off {h.peak_push_bw:.2f} BW ({h.push_grade})")
         parts.append(f"take-off {abs(h.takeoff_speed_m_s):.2f} m/s ({h.takeoff_speed_grade})")
         if h.peak_landing_bw is not None:
             parts.append(f"hardest touchdown {h.peak_landing_bw:.2f} BW, mean {h.mean_landing_bw:.2f} BW "
-                         f"over {h.stopping_distance_m:.3f} m ({h.landing_grade})")
+                         f"over {h.stopping_distance_m:.3f}{_pm(h.stopping_distance_sd_m, '.3f')} m "
+                         f"({h.landing_grade})")
         lines.append(f"  hop {h.hop + 1}: " + "; ".join(parts))
     if not result.findings and result.flights:
         lines.append("no findings: the jump is physically consistent")
@@ -212,13 +225,15 @@ def analyse_file(path, fps=None, gravity=None, leg_lengths=(), object_name=None,
 
 
 def check_path(path, fps=None, gravity=None, leg_lengths=(), object_name=None, bone_name=None,
-               arc_tolerance_cm=100 * ARC_TOLERANCE, body_table="de_leva_male", follow="auto"):
+               arc_tolerance_cm=100 * ARC_TOLERANCE, body_table="de_leva_male", follow="auto",
+               bvh_units=None, bvh_up=None):
     """Analyse one CSV or .blend: ``(analysis, body arc dict or None, checked dict or None)``.
 
     The body arc (:mod:`body_arc`) is checked for a rig in a .blend and for a CSV with
     landmark columns; None when there is nothing to check it on. ``checked`` says which
     path of a .blend was analysed (``follows``, ``text``, ``note``; see
-    :func:`blend_tracks.sample_blend_track`); None for a CSV (its own path).
+    :func:`blend_tracks.sample_blend_track`) and of a BVH (:func:`cli.bvh.bvh_track`); None
+    for a CSV (its own path).
     """
     path = str(path)
     if not (math.isfinite(arc_tolerance_cm) and arc_tolerance_cm >= 0):
@@ -238,6 +253,13 @@ def check_path(path, fps=None, gravity=None, leg_lengths=(), object_name=None, b
             given = gravity_from(str(gravity).strip().lstrip("-")) if gravity is not None else None
             gravity = given if given is not None else scene_g
             arc = body_arc.blend_body_arc(object_name, given, tolerance, body_table)
+        elif path.lower().endswith(".bvh"):
+            from cli.bvh import bvh_track
+
+            frames, positions, file_fps, checked = bvh_track(path, bvh_units, bvh_up, follow, body_table, bone_name)
+            feet = []
+            fps = parse_fps(fps) if fps is not None else file_fps
+            gravity = gravity_from(str(gravity if gravity is not None else BLENDER_DEFAULT_GRAVITY).strip().lstrip("-"))
         else:
             if fps is None:
                 raise InvalidTrajectoryError("a CSV needs --fps (e.g. 24 or 24000/1001)")
@@ -292,7 +314,7 @@ def arc_text(arc):
 def _options(args):
     return dict(fps=args.fps, gravity=args.gravity, leg_lengths=tuple(args.leg_length),
                 object_name=args.object, bone_name=args.bone, arc_tolerance_cm=args.arc_tolerance,
-                body_table=args.body_table, follow=args.follow)
+                body_table=args.body_table, follow=args.follow, bvh_units=args.bvh_units, bvh_up=args.bvh_up)
 
 
 def check_file(path, options):

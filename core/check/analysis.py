@@ -380,8 +380,9 @@ def analyse_trajectory(frames, positions, fps, *, gravity=BLENDER_DEFAULT_GRAVIT
             findings += gravity_findings(f, scene_g)
     for flight, span in zip(flights, spans):
         findings += contact_checks.forward_findings(frames, times, pos, keep, span, tol, noise)
-    findings += contact_checks.dip_findings(frames, force, spans, keep, arcs)
-    hops = contact_checks.hop_forces(frames, pos[:, 2], force, flights, spans, fps, noise)
+    force_sd = capture_flights.force_noise_bw(times, noise, scene_g) if measured else 0.0
+    findings += contact_checks.dip_findings(frames, force, spans, keep, arcs, force_sd)
+    hops = contact_checks.hop_forces(frames, pos[:, 2], force, flights, spans, fps, noise, force_sd)
     findings += contact_checks.force_findings(hops)
     for foot in feet:
         findings += contact_checks.foot_findings(frames, pos, foot, spans, noise)

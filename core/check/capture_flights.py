@@ -35,7 +35,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .local_fits import window_derivatives, window_residual_rms
+from .local_fits import acceleration_noise_gain, window_derivatives, window_residual_rms
 from .parabola import Parabola, Stretch, fit_parabola
 
 #: Sample noise above this sd [m] means the path was measured, not keyed: keyed curves
@@ -118,6 +118,15 @@ def measured_acceleration(t, z):
     return window_derivatives(t, z, smoothing_half_width(t))
 
 
+def force_noise_bw(t, noise_sd, gravity):
+    """Standard error [BW] of the apparent weight of :func:`measured_acceleration` from
+    sample jitter ``noise_sd`` [m] under ``gravity`` [m/s^2]."""
+    if len(t) < 2:
+        return 0.0
+    step = float(np.median(np.diff(t)))
+    return noise_sd * acceleration_noise_gain(step, smoothing_half_width(t)) / gravity
+
+
 def _runs(mask):
     idx = np.flatnonzero(np.diff(np.concatenate([[0], mask.astype(np.int8), [0]])))
     return [(int(a), int(b) - 1) for a, b in zip(idx[::2], idx[1::2])]
@@ -168,20 +177,29 @@ def _edge_sse(tw, yw, grid, side, g):
     # g (t - tc)^2 / 2 differs from g t^2 / 2 by a line in t, which the free height and
     # speed absorb: the data side does not depend on tc.
     y = yw + 0.5 * g * (tw - tw.mean()) ** 2
-    base = np.broadcast_to(np.stack([np.ones_like(tw), tw - tw.mean()], axis=1), (len(grid), len(tw), 2))
-    best = np.full(len(grid), np.inf)
-    for extra in ((u * u, u ** 3), (u * u,), (u ** 3,), ()):
-        design = np.concatenate([base] + [e[..., None] for e in extra], axis=2)
-        # Normal equations (at most 4 unknowns), lightly regularised for candidate times
-        # beyond the window, where the ground terms vanish.
-        ata = np.einsum("kwi,kwj->kij", design, design)
-        ata += 1e-12 * np.trace(ata, axis1=1, axis2=2)[:, None, None] * np.eye(ata.shape[1])[None]
-        coef = np.linalg.solve(ata, np.einsum("kwi,w->ki", design, y)[..., None])[..., 0]
-        r = y[None] - np.einsum("kwp,kp->kw", design, coef)
-        sse = np.einsum("kw,kw->k", r, r)
-        if extra:
-            sse[np.any(coef[:, 2:] < 0, axis=1)] = np.inf
-        best = np.minimum(best, sse)
+    # Every model holds the line [1, t]: taking it out of the data and the ground terms
+    # first (Frisch-Waugh) leaves at most a 2x2 problem per candidate time.
+    tc = tw - tw.mean()
+    tt = float(tc @ tc) or 1.0
+
+    def off_line(v):
+        v = v - v.mean(axis=-1, keepdims=True)
+        return v - (v @ tc)[..., None] * tc / tt
+
+    yp = off_line(y)
+    a, b = off_line(u * u), off_line(u ** 3)
+    aa, bb, ab = np.einsum("kw,kw->k", a, a), np.einsum("kw,kw->k", b, b), np.einsum("kw,kw->k", a, b)
+    ay, by = a @ yp, b @ yp
+    best = np.full(len(grid), float(yp @ yp))
+    tiny = 1e-12 * (aa + bb + 1e-300)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        det = aa * bb - ab * ab
+        both = ((bb * ay - ab * by) / det, (aa * by - ab * ay) / det, det > tiny * (aa + bb))
+        for c2, c3, ok in (both, (ay / aa, 0.0, aa > tiny), (0.0, by / bb, bb > tiny)):
+            ok = ok & (np.asarray(c2) >= 0) & (np.asarray(c3) >= 0)
+            r = yp[None] - np.asarray(c2)[..., None] * a - np.asarray(c3)[..., None] * b
+            sse = np.einsum("kw,kw->k", r, r)
+            best = np.where(ok & (sse < best), sse, best)
     return best
 
 

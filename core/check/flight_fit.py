@@ -14,7 +14,7 @@ time step, i.e. equal second differences ``g dt^2`` (textbook mechanics).
 
 import numpy as np
 
-from .parabola import Parabola, Stretch, fit_parabola  # noqa: F401  (re-exported)
+from .parabola import Parabola, Stretch, fit_parabola, range_fits, window_fits  # noqa: F401  (re-exported)
 from .stylised_flights import merge_stylised
 from .local_fits import window_derivatives, window_residual_rms
 
@@ -150,26 +150,53 @@ def fit_tolerance(noise_sd):
 
 
 def _grow(t, z, first, last, tol, taken):
-    """Extend ``first..last`` one sample at a time while one parabola fits within ``tol``."""
+    """Extend ``first..last`` one sample at a time while one parabola fits within ``tol``.
+
+    The two ends take turns (left, then right); once an end fails it stays put. The
+    trials of the next steps are fitted together (:func:`_first_failure`), which gives
+    the same ends as trying them one by one at a fraction of the cost on long flights.
+    """
     n = len(t)
-    fit = fit_parabola(t[first:last + 1], z[first:last + 1])
     can_left = can_right = True
+    batch = 8
     while can_left or can_right:
-        if can_left:
-            i = first - 1
-            trial = None if i < 0 or taken[i] else fit_parabola(t[i:last + 1], z[i:last + 1])
-            if trial is not None and trial.max_abs <= tol and trial.gravity > 0:
-                first, fit = i, trial
-            else:
+        steps = []  # (side, first, last) of each trial, in the order they would be tried
+        a, b = first, last
+        for _ in range(batch):
+            if can_left:
+                a -= 1
+                steps.append(("left", a, b))
+            if can_right:
+                b += 1
+                steps.append(("right", a if can_left else first, b))
+        k = _first_failure(t, z, steps, tol, taken, n)
+        if k > 0:
+            first, last = steps[k - 1][1], steps[k - 1][2]
+        if k < len(steps):
+            if steps[k][0] == "left":
                 can_left = False
-        if can_right:
-            j = last + 1
-            trial = None if j >= n or taken[j] else fit_parabola(t[first:j + 1], z[first:j + 1])
-            if trial is not None and trial.max_abs <= tol and trial.gravity > 0:
-                last, fit = j, trial
             else:
                 can_right = False
-    return _settle(t, z, first, last, fit, tol, taken)
+            # After a failed left trial the right one is still tried from the same start.
+            batch = 8
+        else:
+            batch = min(2 * batch, 32)
+    return _settle(t, z, first, last, fit_parabola(t[first:last + 1], z[first:last + 1]), tol, taken)
+
+
+def _first_failure(t, z, steps, tol, taken, n):
+    """Index of the first trial range that one parabola does not fit (len(steps) if none)."""
+    firsts = np.array([s[1] for s in steps])
+    lasts = np.array([s[2] for s in steps])
+    inside = (firsts >= 0) & (lasts < n)
+    new = np.where([s[0] == "left" for s in steps], firsts, lasts)
+    inside[inside] &= ~taken[new[inside]]
+    ok = inside.copy()
+    if inside.any():
+        gravity, max_abs = range_fits(t, z, firsts[inside], lasts[inside])
+        ok[inside] = (max_abs <= tol) & (gravity > 0)
+    bad = np.flatnonzero(~ok)
+    return int(bad[0]) if len(bad) else len(steps)
 
 
 def _settle(t, z, first, last, fit, tol, taken):
@@ -179,17 +206,11 @@ def _settle(t, z, first, last, fit, tol, taken):
     which tilts the fit and stops growth at the other end; judging every sample
     against the interior's parabola undoes that.
     """
-    n = len(t)
     for _ in range(4):
         if last - first + 1 < MIN_FLIGHT_SAMPLES + 2:
             break
         core = fit_parabola(t[first + 1:last], z[first + 1:last])
-        ok = (np.abs(z - core.height(t)) <= tol) & ~taken
-        a, b = first + 1, last - 1
-        while a > 0 and ok[a - 1]:
-            a -= 1
-        while b < n - 1 and ok[b + 1]:
-            b += 1
+        a, b = _reach_of(t, z, core, first + 1, last - 1, tol, taken)
         if (a, b) == (first, last):
             break
         trial = fit_parabola(t[a:b + 1], z[a:b + 1])
@@ -197,6 +218,27 @@ def _settle(t, z, first, last, fit, tol, taken):
             break
         first, last, fit = a, b, trial
     return first, last, fit
+
+
+def _reach_of(t, z, fit, a, b, tol, taken):
+    """Widen ``a..b`` to every neighbour on either side that ``fit`` explains within ``tol``.
+
+    Samples are judged in windows that double until the run ends, so the cost follows
+    the stretch, not the whole path.
+    """
+    n = len(t)
+    reach = max(b - a + 1, 8)
+    while True:
+        lo, hi = max(a - reach, 0), min(b + reach, n - 1)
+        ok = (np.abs(z[lo:hi + 1] - fit.height(t[lo:hi + 1])) <= tol) & ~taken[lo:hi + 1]
+        i, j = a - lo, b - lo
+        while i > 0 and ok[i - 1]:
+            i -= 1
+        while j < len(ok) - 1 and ok[j + 1]:
+            j += 1
+        if (i > 0 or lo == 0) and (j < len(ok) - 1 or hi == n - 1):
+            return i + lo, j + lo
+        reach *= 2
 
 
 def _trim_edges(t, z, first, last, noise_sd, max_rounds=2):
@@ -240,11 +282,9 @@ def find_ballistic_stretches(t, z, tol, min_gravity, noise_sd=0.0):
     m = MIN_FLIGHT_SAMPLES
     if n < m:
         return []
-    seeds = []
-    for s in range(n - m + 1):
-        fit = fit_parabola(t[s:s + m], z[s:s + m])
-        if fit.max_abs <= tol and fit.gravity >= min_gravity:
-            seeds.append((fit.max_abs, s))
+    # Every m-sample window is a seed if one parabola fits it: all windows at once.
+    gravity, max_abs = window_fits(t, z, m)
+    seeds = [(float(max_abs[s]), int(s)) for s in np.flatnonzero((max_abs <= tol) & (gravity >= min_gravity))]
     # Greedy growth from one seed can take in a contact sample and stop short at the
     # other end; regrowing from the middle of what it reached undoes that. Seeds inside
     # a range already grown add nothing new and are skipped.

@@ -114,3 +114,18 @@ def window_residual_rms(t, z, width, degree):
         r = z[s:s + width] - design @ coef
         out[s] = np.sqrt(np.mean(r * r))
     return out
+
+
+def acceleration_noise_gain(step, half_width):
+    """Standard deviation of :func:`window_derivatives`' acceleration per metre of white
+    sample noise [1/s^2]: ``2 sqrt(sum of the second-derivative row squared)`` (the
+    window's linear filter applied to independent samples).
+
+    Parameters
+    ----------
+    step : float  time between samples [s]
+    half_width : int  samples each side of the window
+    """
+    w = 2 * half_width + 1
+    rows = _projector_rows((np.arange(w) - half_width) * float(step), 2)
+    return 2.0 * float(np.sqrt(np.sum(rows[2] ** 2)))

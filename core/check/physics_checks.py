@@ -18,6 +18,7 @@ from ..base.constants import UNWEIGHTING_FORCE_FLOOR_GRADES
 from ..base.errors import InvalidTrajectoryError
 from .findings import Finding, frame_text, grade
 from .capture_flights import MEASURED_NOISE_M
+from .contact_heights import dip_depth, lowest_height, median_step
 from .parabola import fit_parabola
 
 #: An arc is a run of downward acceleration stronger than this fraction of g.
@@ -58,6 +59,11 @@ class HopForces:
     push_frames, landing_frames : (float, float) or None
     stopping_distance_sd_m : float or None  standard error of the stopping distance [m]
         (0 for keyed paths); a landing is too hard or too soft only beyond twice it
+    dip_depth_m, dip_depth_sd_m : float or None  the countermovement: from the height where
+        the contact began (its first 0.1 s) down to the lowest point before take-off [m],
+        and its standard error [m] (0 for keyed paths)
+    unweighting_sd_bw : float or None  standard error of ``min_unweighting_bw`` [BW]: the
+        sample noise through the acceleration's smoothing window (0 for keyed paths)
     """
 
     hop: int
@@ -75,6 +81,9 @@ class HopForces:
     push_frames: object
     landing_frames: object
     stopping_distance_sd_m: object = None
+    dip_depth_m: object = None
+    dip_depth_sd_m: object = None
+    unweighting_sd_bw: object = None
 
 
 def validate_foot(foot, n):
@@ -161,7 +170,8 @@ def forward_findings(frames, times, pos, keep, span, tol, noise=0.0):
     :data:`FORWARD_SPEED_CHANGE_TOLERANCE` by more than its 95 % uncertainty.
     """
     i0, i1 = span
-    k = keep[(keep >= i0) & (keep <= i1)]
+    # keep is sorted: the flight's samples are one slice of it.
+    k = keep[np.searchsorted(keep, i0, side="left"):np.searchsorted(keep, i1, side="right")]
     if len(k) < 4:
         return []
     t = times[k] - times[k].mean()
@@ -203,15 +213,18 @@ def _speed_change_spread(t, xy, quad, noise):
     return 2.0 * float(t[-1] - t[0]) * float(np.sqrt(max(var_a, 0.0)))
 
 
-def dip_findings(frames, force, spans, keep, arcs=()):
+def dip_findings(frames, force, spans, keep, arcs=(), force_sd_bw=0.0):
     """``dip_faster_than_free_fall`` where, in contact, apparent weight is below zero.
 
     Flights (with the two key samples the local fit reaches into them) and arcs that
-    are already reported as not ballistic are left out: neither is a dip.
+    are already reported as not ballistic are left out: neither is a dip. On a measured
+    path the force must lie below the floor by more than its 95 % uncertainty
+    (``force_sd_bw``, the noise through the smoothing), so jitter alone never reads as a pull.
     """
     n = len(force)
     spacing = int(np.median(np.diff(keep))) if len(keep) > 1 else 1
-    mask = (force < DIP_FORCE_FLOOR_BW) & ~_in_flight(n, spans, margin=2 * spacing)
+    floor = DIP_FORCE_FLOOR_BW - 1.96 * force_sd_bw
+    mask = (force < floor) & ~_in_flight(n, spans, margin=2 * spacing)
     mask &= ~_in_flight(n, arcs)
     out = []
     for a, b in _runs(mask):
@@ -237,43 +250,25 @@ def _touchdown_height(flight, frames, i1, fps):
     return flight.apex_height_m - 0.5 * flight.fall_gravity_m_s2 * t_td * t_td
 
 
-def _lowest_height(frames, z, low, first, last, fps, noise):
-    """Height of the lowest point after a landing [m] and its standard error [m].
-
-    Keyed paths: the lowest sample. Measured paths: the bottom of a quadratic fitted
-    over about 0.1 s around the lowest sample, so that one sample's jitter does not set it.
-    """
-    if noise <= MEASURED_NOISE_M:
-        return float(z[low]), 0.0
-    step = float(np.median(np.diff(frames))) / fps if len(frames) > 1 else 1.0
-    half = max(2, int(round(0.05 / max(step, 1e-12))))
-    a, b = max(low - half, first), min(low + half, last)
-    if b - a < 3:
-        return float(z[low]), noise
-    tt = (frames[a:b + 1] - frames[low]) / fps
-    coef = np.polyfit(tt, z[a:b + 1], 2)
-    if coef[0] <= 0:
-        return float(z[low]), noise
-    bottom = float(coef[2] - coef[1] ** 2 / (4 * coef[0]))
-    return min(bottom, float(np.max(z[a:b + 1]))), noise * float(np.sqrt(3.0 / (b - a + 1)))
-
-
-def hop_forces(frames, z, force, flights, spans, fps, noise=0.0):
+def hop_forces(frames, z, force, flights, spans, fps, noise=0.0, force_sd_bw=0.0):
     """Peak forces, landing work and grades for each flight's push and landing.
 
     The landing's fall height and stopping distance are split at the touchdown
     height, taken on the fall parabola half a sample after the last airborne one.
+    ``force_sd_bw`` [BW]: the apparent weight's noise, reported with the dip's lowest force.
     """
     out = []
     n = len(z)
+    sample_step = median_step(frames, fps) if flights else 1.0
     for hop, (flight, (i0, i1)) in enumerate(zip(flights, spans)):
         s = spans[hop - 1][1] + 1 if hop else 0
         e = i0 - 1
-        min_unw = peak_push = None
+        min_unw = peak_push = depth = depth_sd = None
         push_frames = None
         if e - s >= 1:
             lowest = s + int(np.argmin(z[s:e + 1]))
             min_unw = float(np.min(force[s:lowest + 1]))
+            depth, depth_sd = dip_depth(frames, z, s, lowest, fps, noise, sample_step)
             peak_push = float(np.max(force[lowest:e + 1]))
             push_frames = (frames[lowest], frames[e])
         nxt = spans[hop + 1][0] - 1 if hop + 1 < len(spans) else n - 1
@@ -286,7 +281,7 @@ def hop_forces(frames, z, force, flights, spans, fps, noise=0.0):
             z_td = _touchdown_height(flight, frames, i1, fps)
             if flight.touchdown_frame is None or noise <= MEASURED_NOISE_M:
                 z_td = min(z_td, float(z[i1]))
-            z_low, low_sd = _lowest_height(frames, z, low_l, i1 + 1, nxt, fps, noise)
+            z_low, low_sd = lowest_height(frames, z, low_l, i1 + 1, nxt, fps, noise, sample_step)
             fall = float(max(flight.apex_height_m - z_td, 0.0))
             stop = float(max(z_td - z_low, 0.0))
             # Touchdown height: the parabola's spread plus where on it touchdown falls
@@ -306,7 +301,9 @@ def hop_forces(frames, z, force, flights, spans, fps, noise=0.0):
             landing_grade=None if peak_land is None else grade(max(peak_land, mean_land), LANDING_FORCE_GRADES),
             takeoff_speed_grade=grade(abs(flight.takeoff_speed_m_s), TAKEOFF_SPEED_GRADES),
             push_frames=push_frames, landing_frames=land_frames,
-            stopping_distance_sd_m=stop_sd if peak_land is not None else None))
+            stopping_distance_sd_m=stop_sd if peak_land is not None else None,
+            dip_depth_m=depth, dip_depth_sd_m=depth_sd,
+            unweighting_sd_bw=None if min_unw is None else (force_sd_bw if noise > MEASURED_NOISE_M else 0.0)))
     return out
 
 

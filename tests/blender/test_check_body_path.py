@@ -220,3 +220,17 @@ def test_cli_whole_body_com_of_a_rig_that_cannot_be_read_is_bad_input(tmp_path):
     auto = json.loads(out.stdout)
     assert auto["checked_path"] == {"follows": "bone", "text": "checked the body bone 'hips'", "note": ""}
     assert auto["body_arc"]["checked"] is False and "map the bones by hand" in auto["body_arc"]["reason"]
+
+
+def test_cli_without_bone_follows_the_body_bone_saved_in_the_jump_panel(tmp_path):
+    # The panel's Check Jump follows the jump panel's body bone; the command line reads the
+    # same saved setting when no --bone is given.
+    rig, scene, first, last = _hand_made_jump()
+    panel, found = _check("BONE")
+    path = str(tmp_path / "saved_bone.blend")
+    bpy.ops.wm.save_as_mainfile(filepath=path, copy=True)
+    out = _cli(path, "--object", rig.name, "--follow", "bone", "--json")
+    report = json.loads(out.stdout)
+    assert report["checked_path"]["text"] == "checked the body bone 'hips'", report["checked_path"]
+    assert report["implied_gravity_m_s2"] == pytest.approx(panel.implied_gravity, rel=1e-6)
+    assert [(f["kind"], f["frames"][0], f["frames"][1]) for f in report["findings"]] == found

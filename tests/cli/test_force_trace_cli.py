@@ -1,6 +1,6 @@
 """``leapwright check --force-trace`` and ``leapwright plan --like`` on real force-plate traces.
 
-Traces: the PyPI package jumpmetrics 0.2.0 (MIT; tests/data/force_plate/LICENSE-jumpmetrics).
+Traces: the PyPI package jumpmetrics 0.2.0 (MIT; tests/data/jumpmetrics/LICENSE).
 """
 
 import json
@@ -13,7 +13,7 @@ import pytest
 from leapwright.core.base.constants import STANDARD_GRAVITY as G
 
 ROOT = pathlib.Path(__file__).resolve().parents[2]
-DATA = ROOT / "tests" / "data" / "force_plate"
+DATA = ROOT / "tests" / "data" / "jumpmetrics"
 TRACES = sorted(p.stem for p in DATA.glob("*.csv"))
 
 

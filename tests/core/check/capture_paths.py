@@ -22,9 +22,15 @@ DATA = Path(__file__).resolve().parents[2] / "data" / "jumpmetrics"
 PLATE_FILES = ("cmj_example", "F02_CTRL2", "F04_CTRL2", "M06_CTRL3", "M07_CTRL1", "M15_CTRL1")
 
 
+#: cmj_example.csv starts at sample 12000 of the recording; the paths here start at 13000
+#: (0.5 s later, still quiet standing) and end at 20109, after the landing has settled.
+CMJ_EXAMPLE_ROWS = slice(1000, 8110)
+
+
 def plate_force(name):
-    """Vertical ground force [N] of one jumpmetrics recording (2000 Hz)."""
-    return np.loadtxt(DATA / f"{name}.csv", comments="#", skiprows=4)
+    """Vertical ground force [N] of one jumpmetrics recording (2000 Hz; see tests/data/jumpmetrics/LICENSE)."""
+    f = np.loadtxt(DATA / f"{name}.csv", delimiter=",", skiprows=1)[:, 1]
+    return f[CMJ_EXAMPLE_ROWS] if name == "cmj_example" else f
 
 
 def _landing(t0, z0, v0, z_rest, g, t_end, static_m=0.05, zeta=0.6):

@@ -120,3 +120,33 @@ def test_landing_stop_and_force_hold_under_millimetre_noise(phase):
     assert hop.stopping_distance_m == pytest.approx(truth["stop_m"], abs=0.02 + 2 * hop.stopping_distance_sd_m)
     assert hop.mean_landing_bw == pytest.approx(truth["mean_bw"], rel=0.25)
     assert "landing_too_hard" not in [f.kind for f in result.findings]
+
+
+@pytest.mark.parametrize("fps", (24.0, 120.0))
+def test_dip_depth_comes_with_its_uncertainty(fps):
+    # Simulated countermovement (capture_paths.simulated_jump, scipy): the depth is the standing
+    # height less the lowest point before take-off, read off the fine path here.
+    t, z, truth = cp.simulated_jump(v0=2.6)
+    depth = float(z[0] - z[t < truth["t_off"]].min())
+    ts, zs = cp.sampled(t, z, fps, phase=0.3)
+    keyed = _check(ts, np.stack([0 * ts, 0 * ts, zs], axis=1), fps).hops[0]
+    assert keyed.dip_depth_sd_m == 0.0 and keyed.unweighting_sd_bw == 0.0
+    assert keyed.dip_depth_m == pytest.approx(depth, abs=2e-3)
+    rng = np.random.default_rng(int(fps))
+    hop = _check(ts, cp.captured(ts, zs, rng), fps).hops[0]
+    assert hop.dip_depth_sd_m > 0 and hop.unweighting_sd_bw > 0
+    # The stated spread covers the error (soft-tissue wobble adds a bias of up to its 2.6 mm).
+    assert abs(hop.dip_depth_m - depth) <= 2.6e-3 + 2 * hop.dip_depth_sd_m
+
+
+@pytest.mark.parametrize("fps", (24.0, 60.0, 240.0))
+def test_stated_force_noise_matches_a_monte_carlo_of_white_jitter(fps):
+    from leapwright.core.check import capture_flights
+
+    # numpy Monte Carlo: the smoothed acceleration of pure jitter, over many samples.
+    rng = np.random.default_rng(7)
+    t = np.arange(20000) / fps
+    noise = 1e-3
+    _, accel = capture_flights.measured_acceleration(t, rng.normal(0, noise, len(t)))
+    empirical = float(np.std(accel[100:-100])) / cp.G
+    assert capture_flights.force_noise_bw(t, noise, cp.G) == pytest.approx(empirical, rel=0.05)

@@ -1,7 +1,7 @@
 """Reading force-plate traces against published figures and physics.
 
 Data: the PyPI package jumpmetrics 0.2.0 (MIT, copyright 2024 Steven Hirsch;
-tests/data/force_plate/LICENSE-jumpmetrics): six countermovement jumps sampled
+tests/data/jumpmetrics/LICENSE): six countermovement jumps sampled
 at 2000 Hz, the summed vertical force of ``sample_data/cmj_example.txt`` (cropped
 to 6.0-10.2 s: standing, jump, landing) and the FZsum column of
 ``tests/example_data/raw_data/*_filtered.txt``. Published figures: jumpmetrics'
@@ -17,7 +17,7 @@ import pytest
 from leapwright.core.base.constants import STANDARD_GRAVITY as G
 from leapwright.core.check.force_trace import ForceTraceError, read_force_csv, read_force_trace
 
-DATA = Path(__file__).resolve().parents[2] / "data" / "force_plate"
+DATA = Path(__file__).resolve().parents[2] / "data" / "jumpmetrics"
 TRACES = ("cmj_example", "F02_CTRL2", "F04_CTRL2", "M06_CTRL3", "M07_CTRL1", "M15_CTRL1")
 
 #: jumpmetrics 0.2.0 published figures: take-off speed [m/s], unweighting, braking, propulsion [s].
