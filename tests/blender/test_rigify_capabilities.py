@@ -296,3 +296,55 @@ def test_everything_on_rigify_comes_off_again_leaving_the_file_exactly_as_it_was
     scene.frame_start, scene.frame_end = before["range"][:2]
     scene.frame_set(before["range"][2])
     assert snapshot() == before
+
+
+def _cli(*args):
+    import os
+    import subprocess
+    import sys
+    repo = os.path.abspath(os.path.join(os.path.dirname(__file__), "..", ".."))
+    return subprocess.run([sys.executable, "-m", "cli.main", *args], cwd=repo, capture_output=True, text=True,
+                          env=dict(os.environ, PYTHONPATH=repo))
+
+
+def test_the_command_line_reports_the_stretched_deform_legs_as_check_jump_does(profile_text, tmp_path):
+    # Written without foot controls, Rigify's IK feet stay on the floor while the body rises and
+    # its IK stretches the leg bones: measured here from the evaluated deform bones.
+    import json
+    rig = _rig(profile_text)
+    scene = bpy.context.scene
+    scene.leapwright_plan.foot_left = scene.leapwright_plan.foot_right = ""
+    s = scene.leapwright_plan
+    s.rig, s.com_bone = rig, "torso"
+    bpy.context.view_layer.objects.active = rig
+    assert bpy.ops.leapwright.write_plan() == {"FINISHED"}
+    plan = addon().plan.link.plan_for(scene)[0]
+    scene.frame_start, scene.frame_end = s.start_frame, s.start_frame + int(plan.duration_s * _fps(scene))
+    truth = _stretch(rig, LEGS["L"], np.arange(scene.frame_start, scene.frame_end + 1))[0]
+    assert truth > 0.03
+    path = str(tmp_path / "stretched.blend")
+    bpy.ops.wm.save_as_mainfile(filepath=path, copy=True)
+    out = _cli("check", path, "--object", rig.name, "--bone", "torso", "--json")
+    assert out.returncode == 1, out.stdout[-2000:] + out.stderr[-2000:]
+    found = json.loads(out.stdout)["limb_stretch"]
+    left = [f for f in found if f["kind"] == "leg stretch" and "left leg" in f["message"]]
+    assert left and any("right leg" in f["message"] for f in found)
+    worst = max(float(f["message"].split("up to ")[1].split(" %")[0]) for f in left)
+    assert worst == pytest.approx(100 * truth, abs=0.2)
+    assert bpy.ops.leapwright.check_jump() == {"FINISHED"}  # the panel says the same, frame for frame
+    panel = sorted((f.kind, f.first_frame, f.last_frame, f.message) for f in scene.leapwright_check.findings
+                   if f.kind.endswith("stretch"))
+    assert panel == sorted((f["kind"], round(f["first_frame"]), round(f["last_frame"]), f["message"]) for f in found)
+    text = _cli("check", path, "--object", rig.name, "--bone", "torso").stdout
+    assert "[problem] leg_stretch frames" in text and "lift the heel" in text
+
+
+def test_the_command_line_finds_no_stretch_on_the_jump_written_with_its_feet(profile_text, tmp_path):
+    import json
+    rig = _rig(profile_text)
+    _write(rig)
+    path = str(tmp_path / "in_reach.blend")
+    bpy.ops.wm.save_as_mainfile(filepath=path, copy=True)
+    out = _cli("check", path, "--object", rig.name, "--bone", "torso", "--json")
+    assert out.returncode in (0, 1), out.stderr[-2000:]
+    assert json.loads(out.stdout)["limb_stretch"] == []
