@@ -83,6 +83,7 @@ class LEAPWRIGHT_OT_find_arm_bones(_ArmOperator, bpy.types.Operator):
 
     bl_idname = "leapwright.find_arm_bones"
     bl_label = "Find Arm Bones"
+    lw_settings_only = True  # fills in settings only: allowed on a linked rig (write_guard)
 
     def execute(self, context):
         rig = rig_space.chosen_rig(context)
