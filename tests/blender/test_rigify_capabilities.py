@@ -348,3 +348,33 @@ def test_the_command_line_finds_no_stretch_on_the_jump_written_with_its_feet(pro
     out = _cli("check", path, "--object", rig.name, "--bone", "torso", "--json")
     assert out.returncode in (0, 1), out.stderr[-2000:]
     assert json.loads(out.stdout)["limb_stretch"] == []
+
+
+def test_arm_swing_on_rigify_arms_in_ik_keys_the_switch_and_the_deform_arms_swing(profile_text):
+    # Rigify's arms in IK (its default): the swing is written on the FK controls with the rig's
+    # IK_FK keyed to 1 (FK) over the swing; the deform arms swing and peak at take-off (Lees et
+    # al. 2004), and Remove Arm Swing gives back the file as it was, the switch at IK again.
+    rig = rigify_rig.load_generated_rig()
+    plan = _write(rig)
+    scene = bpy.context.scene
+    assert bpy.ops.leapwright.find_arm_bones() == {"FINISHED"}
+    scene.frame_set(scene.frame_start)
+    before = snapshot()
+    assert bpy.ops.leapwright.place_arm_swing() == {"FINISHED"}
+    push, takeoff, touchdown = _events(scene, plan)
+    frames = np.arange(push - 6.0, takeoff + 8.0, 0.5)
+    for side in "LR":
+        elev = _elevation(rig, frames, side)
+        assert abs(_peak(frames, elev) - takeoff) <= 1.0, side
+        assert elev.min() < -20.0 and elev.max() > 60.0, (side, elev.min(), elev.max())
+        stretch = _stretch(rig, ARMS[side], frames)
+        assert -0.01 <= stretch[1] and stretch[0] <= 0.01, (side, stretch)
+        scene.frame_set(int(round(takeoff)))
+        ev = rig.evaluated_get(bpy.context.evaluated_depsgraph_get())
+        assert ev.pose.bones[f"upper_arm_parent.{side}"]["IK_FK"] == 1.0  # FK while the swing plays
+    assert bpy.ops.leapwright.check_arm_swing() == {"FINISHED"}
+    assert addon().arms.operators.LAST[rig.name][-1][1] == "CHECKMARK", addon().arms.operators.LAST[rig.name]
+    assert bpy.ops.leapwright.remove_arm_swing() == {"FINISHED"}
+    scene.frame_set(scene.frame_start)
+    assert snapshot() == before
+    assert rig.pose.bones["upper_arm_parent.L"]["IK_FK"] == 0.0
