@@ -156,7 +156,10 @@ def sample_blend_track(path, object_name, bone_name=None, follow="auto", table="
         one the jump was planned under; Blender's physics gravity is not read.
     checked : dict
         ``follows`` ("body", "bone" or "object"), ``text`` ("checked the whole-body COM
-        (map found from the bone tree)") and ``note`` (why Automatic fell back, or "").
+        (map found from the bone tree)"), ``note`` (why Automatic fell back, or "") and
+        ``stretch``: the deform legs and arms longer than at rest, read from the evaluated
+        rig over the scene's range by the same code as the panel's Check Jump
+        (:func:`limb_stretch`).
 
     Raises
     ------
@@ -183,5 +186,27 @@ def sample_blend_track(path, object_name, bone_name=None, follow="auto", table="
         raise InvalidTrajectoryError(f"{path}: {choose.body_refusal(exc, 'give --follow bone')}") from None
     fps = scene.render.fps / scene.render.fps_base
     gravity = jump_gravity(scene)
-    checked = {"follows": found.follows, "text": found.text, "note": found.note}
+    checked = {"follows": found.follows, "text": found.text, "note": found.note,
+               "stretch": limb_stretch(scene, obj)}
     return found.frames, found.points, fps, gravity, checked
+
+
+def limb_stretch(scene, obj):
+    """Deform legs and arms of ``obj`` longer than at rest over the scene's frame range.
+
+    The panel's Check Jump reads them the same way (``addon.rig.verify.limb_stretch_findings``:
+    the evaluated deform bones, world space, scene time); empty for an object that is not
+    a rig or a rig that does not read as a body.
+
+    Returns
+    -------
+    list of dict
+        ``kind`` ("leg stretch" / "arm stretch"), ``first_frame``, ``last_frame``,
+        ``message`` (with the largest stretch in %) and ``suggestion``.
+    """
+    import numpy as np
+
+    frames = np.arange(scene.frame_start, scene.frame_end + 1)
+    found = addon_module("rig.verify").limb_stretch_findings(scene, obj, frames)
+    return [{"kind": kind, "first_frame": first, "last_frame": last, "message": message, "suggestion": fix}
+            for kind, first, last, message, fix in found]

@@ -278,9 +278,11 @@ def check_path(path, fps=None, gravity=None, leg_lengths=(), object_name=None, b
         raise type(exc)(text if text.startswith(path) else f"{path}: {text}") from None
 
 
-def has_problems(result, arc):
-    """Whether the file needs fixing: a problem finding, or the body leaving its arc in the air."""
-    return bool(result.has_problems or (arc is not None and arc["departures"]))
+def has_problems(result, arc, checked=None):
+    """Whether the file needs fixing: a problem finding, the body leaving its arc in the air, or
+    (a .blend) deform limbs stretched beyond their rest length."""
+    return bool(result.has_problems or (arc is not None and arc["departures"])
+                or (checked is not None and checked.get("stretch")))
 
 
 def report_dict(result, arc, checked=None):
@@ -288,7 +290,8 @@ def report_dict(result, arc, checked=None):
     ``body_arc`` when it was checked."""
     out = to_json_dict(result)
     if checked is not None:
-        out["checked_path"] = dict(checked)
+        out["checked_path"] = {k: v for k, v in checked.items() if k != "stretch"}
+        out["limb_stretch"] = list(checked.get("stretch", ()))
     if arc is not None:
         out["body_arc"] = _clean(arc)
     return out
@@ -311,6 +314,16 @@ def arc_text(arc):
     return lines
 
 
+def stretch_text(checked):
+    """The limb-stretch part of the plain-text report of a .blend (as Check Jump lists it)."""
+    lines = []
+    for f in (checked or {}).get("stretch", ()):
+        kind = f["kind"].replace(" ", "_")
+        lines.append(f"[problem] {kind} frames {f['first_frame']:.0f}-{f['last_frame']:.0f}: {f['message']}")
+        lines.append(f"    fix: {f['suggestion']}")
+    return lines
+
+
 def _options(args):
     return dict(fps=args.fps, gravity=args.gravity, leg_lengths=tuple(args.leg_length),
                 object_name=args.object, bone_name=args.bone, arc_tolerance_cm=args.arc_tolerance,
@@ -326,7 +339,7 @@ def check_file(path, options):
         result, arc, checked = check_path(path, **options)
     except LeapwrightError as exc:
         return {"file": str(path), "exit_code": 2, "error": str(exc)}
-    return {"file": str(path), "exit_code": 1 if has_problems(result, arc) else 0,
+    return {"file": str(path), "exit_code": 1 if has_problems(result, arc, checked) else 0,
             "report": report_dict(result, arc, checked)}
 
 
@@ -356,5 +369,5 @@ def run(args):
     else:
         head = [f"  {checked['text']}"] if checked is not None else []
         text = report_text(result, path).split("\n")
-        print("\n".join(text[:1] + head + text[1:] + arc_text(arc)))
-    return 1 if has_problems(result, arc) else 0
+        print("\n".join(text[:1] + head + text[1:] + arc_text(arc) + stretch_text(checked)))
+    return 1 if has_problems(result, arc, checked) else 0

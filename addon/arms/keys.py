@@ -27,6 +27,7 @@ from ..core.arms.swing import SwingAmplitudes, place_swing
 from ..core.arms.elbow import BentArmSwing, elbow_bend_keys, elbow_rotations
 from ..core.base.errors import LeapwrightError
 from ..rig import profile as rig_profile
+from . import switch as arm_switch
 from ..core.arms.plane import bone_local_rotations, quaternion_keys, swing_plane, swing_rotations
 
 CAPABILITY = "arms"
@@ -68,18 +69,20 @@ def bone_path(name):
     return 'pose.bones["' + name.replace("\\", "\\\\").replace('"', '\\"') + '"]'
 
 
-def suggested_arms(rig):
+def suggested_arms(rig, switches=None):
     """``{'left': (upper arm, forearm), 'right': (...)}``: the bones to key to swing each arm.
 
     The arms are found on the deform skeleton from the bone tree (names never read; sides
     from the rest pose, :func:`rig.skeleton.read_body`), then the controls that turn them
     from the rig's profile (:mod:`rig.profile`): on a rig of controls those are keyed,
-    never the deform bones a constraint sets.
+    never the deform bones a constraint sets. An arm that follows an IK hand is given its
+    FK controls when the rig's IK-FK switch turns it over (:func:`switch.fk_arms`); the
+    switch, as text, goes into ``switches[side]`` (for Place Arm Swing to key).
 
     Raises
     ------
     SwingError  when the tree does not read as a humanoid, or an arm follows an IK hand
-        (no control turns it); the message says what to do.
+        and no switch turns it over (no control turns it); the message says what to do.
     """
     name = getattr(rig, "name", rig)
     try:
@@ -88,7 +91,7 @@ def suggested_arms(rig):
         raise SwingError(f"no arms found from the bone tree of '{name}' ({exc}); "
                          "pick the upper-arm bones by hand") from None
     names = rest.names
-    out = {}
+    out, in_ik = {}, {}
     for side, s in zip(SIDES, "LR"):
         upper, fore = (names[marks.points[f"{j}.{s}"][0][0]] for j in ("shoulder", "elbow"))
         if not (rig.pose.bones[upper].constraints or rig.pose.bones[fore].constraints):
@@ -100,12 +103,20 @@ def suggested_arms(rig):
         if profile.get(f"upper_arm.{s}"):
             out[side] = (profile[f"upper_arm.{s}"], profile.get(f"forearm.{s}", ""))
         else:
-            hand = profile.get(f"hand.{s}")
-            how = (f"it follows its IK hand control '{hand}'" if hand else
-                   f"no control found turns it (its bone '{upper}' is set by a constraint)")
-            raise SwingError(f"the {side} arm cannot be swung by turning bones: {how}; switch the {side} arm "
-                             "to FK in the rig's own settings (its IK-FK switch), then press Find Arm Bones "
-                             "again")
+            in_ik[s] = (side, upper, profile.get(f"hand.{s}"))
+    thrown = arm_switch.fk_arms(rig, rest, marks, tuple(in_ik)) if in_ik else {}
+    for s, (side, upper, hand) in in_ik.items():
+        if s in thrown:
+            upper_fk, fore_fk, text = thrown[s]
+            out[side] = (upper_fk, fore_fk)
+            if switches is not None:
+                switches[side] = text
+            continue
+        how = (f"it follows its IK hand control '{hand}'" if hand else
+               f"no control found turns it (its bone '{upper}' is set by a constraint)")
+        raise SwingError(f"the {side} arm cannot be swung by turning bones: {how}, and no IK-FK switch "
+                         f"leapwright found turns it over to FK; switch the {side} arm to FK in the rig's own "
+                         "settings (its IK-FK switch), then press Find Arm Bones again")
     return out
 
 

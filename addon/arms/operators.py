@@ -7,13 +7,14 @@ run leaves the file as it was. No ``bpy.ops`` inside ``execute``.
 from typing import Any
 
 import bpy
+import numpy as np
 
 from ..blender import scene_units
 from ..blender import ownership
 from ..plan import link as plan_link
 from ..blender.write_guard import in_object_or_pose_mode
 from ..rig import space as rig_space, verify
-from . import keys as arm_keys, retime
+from . import keys as arm_keys, retime, switch as arm_switch
 from ..core.base.errors import LeapwrightError
 from ..core.arms.timing import plan_swing_report
 
@@ -83,18 +84,23 @@ class LEAPWRIGHT_OT_find_arm_bones(_ArmOperator, bpy.types.Operator):
 
     bl_idname = "leapwright.find_arm_bones"
     bl_label = "Find Arm Bones"
+    lw_settings_only = True  # fills in settings only: allowed on a linked rig (write_guard)
 
     def execute(self, context):
         rig = rig_space.chosen_rig(context)
+        switches = {}
         try:
-            found = arm_keys.suggested_arms(rig)
+            found = arm_keys.suggested_arms(rig, switches)
         except arm_keys.SwingError as exc:
             return self._refuse(str(exc))
         s = context.scene.leapwright_arms
         for side, (upper, fore) in found.items():
             setattr(s, f"upper_arm_{side}", upper)
             setattr(s, f"forearm_{side}", fore)
+            setattr(s, f"ik_fk_{side}", switches.get(side, ""))
         self.report({"INFO"}, "arms: " + "; ".join(f"{side} {u} + {f}" for side, (u, f) in found.items()))
+        for side, text in switches.items():
+            self.report({"INFO"}, f"the {side} arm follows its IK hand: {text} (FK) is keyed while the swing plays")
         return {"FINISHED"}
 
 
@@ -112,9 +118,12 @@ class LEAPWRIGHT_OT_place_arm_swing(_KeyWritingOperator, bpy.types.Operator):
         try:
             work = arm_keys.place(rig, s, plan, scene.leapwright_plan.start_frame, fps)
             lines = plan_swing_report(plan, arm_keys.amplitudes_from(s), fps)
-        except (arm_keys.SwingError, LeapwrightError) as exc:
+            keyed = [f for spec in work.specs for f in (spec.frames[0], spec.frames[-1])]
+            specs = list(work.specs) + arm_switch.switch_specs(rig, (s.ik_fk_left, s.ik_fk_right),
+                                                               float(np.floor(min(keyed))), float(np.ceil(max(keyed))))
+        except (arm_keys.SwingError, arm_switch.SwitchError, LeapwrightError) as exc:
             return self._refuse(str(exc))
-        clashes = ownership.conflicts(rig, work.specs)
+        clashes = ownership.conflicts(rig, specs)
         if clashes and s.on_conflict == "ASK":
             shown = ", ".join(f"{p}[{i}]" for p, i in clashes[:3]) + (" …" if len(clashes) > 3 else "")
             self.report({"WARNING"}, f"'{rig.name}' already has your keys on {shown}; nothing was written. "
@@ -122,7 +131,7 @@ class LEAPWRIGHT_OT_place_arm_swing(_KeyWritingOperator, bpy.types.Operator):
             return {"CANCELLED"}
         # Nothing above wrote anything; from here on the run changes the file.
         ownership.clear(rig, arm_keys.CAPABILITY)
-        ownership.write_into_action(rig, arm_keys.CAPABILITY, work.specs, replace=bool(clashes))
+        ownership.write_into_action(rig, arm_keys.CAPABILITY, specs, replace=bool(clashes))
         frame = work.timeline.frames
         up, off = work.placed.upswing_starts_s[0], work.placed.takeoffs_s[0]
         push = next(p.start_s for p in plan.phases if p.name == "propulsion")

@@ -32,6 +32,9 @@ class LEAPWRIGHT_PT_arms(SubPanel, bpy.types.Panel):
                 box.prop_search(s, name, rig.data, "bones")
             else:
                 box.prop(s, name)
+        for name in ("ik_fk_left", "ik_fk_right"):
+            if getattr(s, name):  # shown once Find Arm Bones found an arm in IK and its switch
+                box.prop(s, name)
         box.operator("leapwright.find_arm_bones", icon="VIEWZOOM")
 
         box = layout.box()

@@ -35,6 +35,10 @@ class LeapwrightArmsSettings(bpy.types.PropertyGroup):
                                  description="Optional: keyed with the swing (bent by Elbow bend) and its tail "
                                              "is the hand end of the arm")
     forearm_right: StringProperty(name="Forearm, right", description="Optional, as the left forearm")
+    ik_fk_left: StringProperty(name="IK-FK switch, left",
+                               description="The rig's IK-FK setting keyed to FK while the swing plays (found by "
+                                           "Find Arm Bones when the arm follows an IK hand); empty: keyed as it is")
+    ik_fk_right: StringProperty(name="IK-FK switch, right", description="As the left IK-FK switch")
     backswing: FloatProperty(name="Backswing", subtype="ANGLE", default=math.radians(45.0), min=0.0,
                              max=math.pi, description="How far behind hanging the arms go before the upswing")
     upswing: FloatProperty(name="Up at take-off", subtype="ANGLE", default=math.radians(90.0),

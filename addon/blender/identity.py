@@ -16,6 +16,13 @@ removing what leapwright wrote leaves no trace.
 
 Data linked from a library cannot take a property that would be saved; such
 actions are named by name and library file, which the library fixes.
+
+A rig duplicated in Blender (Shift+D) carries its original's id, and the copies
+of its actions theirs: :func:`separate_copy` finds such a copy (the original is
+the one seen first in this session, else the one whose name Blender's copy
+naming started from) and gives it, and the actions only it plays, ids of their
+own, rewriting the records the copy carries so that they name it; the
+original's records are left as they are.
 """
 
 import os
@@ -25,6 +32,10 @@ import uuid
 import bpy
 
 ID_PROPERTY = "lw_id"
+#: Records a copied rig carries that name its ids (``state.STATE_PROPERTY``, ``written_keys.WRITES_PROPERTY``).
+RECORD_PROPERTIES = ("lw_state", "lw_writes")
+#: id -> ``session_uid`` of the object first seen answering to it in this Blender session.
+_FIRST_SEEN: dict = {}
 BONE_PATH = re.compile(r'^pose\.bones\["((?:[^"\\]|\\.)*)"\](.*)$')
 
 
@@ -63,6 +74,119 @@ def renew_id(owner):
         value = uuid.uuid5(uuid.NAMESPACE_URL, f"leapwright:{kind}:{owner.name}:{count}").hex
     owner[ID_PROPERTY] = value
     return value
+
+
+def _copy_order(item):
+    """Sort key putting the original of a set of copies first: Blender names a copy 'name.001'."""
+    base, dot, number = item.name.rpartition(".")
+    copied = bool(dot) and number.isdigit()
+    return (int(number) if copied else 0, len(item.name), item.name)
+
+
+def _sharing(collection, item, value):
+    return [o for o in collection if o != item and o.get(ID_PROPERTY) == value and _writable(o)]
+
+
+def _is_copy(obj, value, others):
+    """Whether ``obj`` is the copy among the objects answering to ``value`` (``others``: the rest)."""
+    first = _FIRST_SEEN.get(value)
+    group = [obj] + others
+    if first is not None and any(getattr(o, "session_uid", None) == first for o in group):
+        return getattr(obj, "session_uid", None) != first
+    return min(group, key=_copy_order) != obj
+
+
+def _played_actions(obj):
+    ad = obj.animation_data
+    if ad is None:
+        return []
+    found = [ad.action] if ad.action is not None else []
+    found += [s.action for t in ad.nla_tracks for s in t.strips if s.action is not None]
+    return list(dict.fromkeys(found))
+
+
+def remember(obj):
+    """Note ``obj`` as the one object answering to its id in this session (called after each write)."""
+    value = obj.get(ID_PROPERTY) if obj is not None else None
+    if isinstance(value, str) and value and not _sharing(bpy.data.objects, obj, value):
+        _FIRST_SEEN[value] = getattr(obj, "session_uid", None)
+
+
+def _users():
+    users = {}
+    for o in bpy.data.objects:
+        for a in _played_actions(o):
+            users.setdefault(a, set()).add(o)
+    return users
+
+
+def _own_actions(obj, value, swaps):
+    """The actions ``obj`` alone plays once its shared ones that hold records of ``value`` are copied.
+
+    An action the copy shares with another rig (an NLA layer leapwright made; Blender's
+    Duplicate copies only the active action) and whose records name ``value`` is copied for
+    the copy, so taking the copy's keys back never touches the original's. Every action
+    the copy alone plays that answers to another action's id gets an id of its own;
+    ``swaps`` (old id -> new id) is filled in.
+    """
+    from . import compat
+
+    users = _users()
+
+    def own(action):
+        if users.get(action) == {obj} or value not in str(action.get("lw_writes", "")):
+            return action
+        copy = action.copy()
+        users[copy] = {obj}
+        return copy
+
+    ad = obj.animation_data
+    if ad is not None:
+        new = own(ad.action) if ad.action is not None else None
+        if new != ad.action:
+            compat.assign_action(obj, new, compat.active_slot_handle(obj))
+        for track in ad.nla_tracks:
+            for strip in track.strips:
+                if strip.action is not None:
+                    new = own(strip.action)
+                    if new != strip.action:
+                        compat.set_strip_action(strip, new)
+    users = _users()
+    mine = [a for a in _played_actions(obj) if users.get(a) == {obj} and _writable(a)]
+    for action in mine:
+        old = action.get(ID_PROPERTY)
+        if isinstance(old, str) and old and _sharing(bpy.data.actions, action, old):
+            swaps[old] = renew_id(action)
+    return mine
+
+
+def separate_copy(obj):
+    """Give ``obj`` an id of its own when it is a copy of another rig (Shift+D); return whether it was.
+
+    The actions only the copy plays and that share an id with another action (Blender's
+    copies of the original's) get ids of their own too, and every record the copy and those
+    actions carry is rewritten from the old ids to the new ones. The original and its
+    records are not touched. Called before each leapwright operator that writes.
+    """
+    value = obj.get(ID_PROPERTY) if obj is not None else None
+    if not isinstance(value, str) or not value or not _writable(obj):
+        return False
+    others = _sharing(bpy.data.objects, obj, value)
+    if not others:
+        remember(obj)
+        return False
+    if not _is_copy(obj, value, others):
+        return False
+    swaps = {value: renew_id(obj)}
+    mine = _own_actions(obj, value, swaps)
+    for holder in [obj] + mine:
+        for prop in RECORD_PROPERTIES:
+            text = holder.get(prop)
+            if isinstance(text, str):
+                for old, new in swaps.items():
+                    text = text.replace(old, new)
+                holder[prop] = text
+    return True
 
 
 def release_unused(records, owners):

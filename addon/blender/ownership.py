@@ -137,6 +137,10 @@ def _restore_static(obj, capability, state):
             continue
         if hasattr(target, "__len__"):
             target[rec["index"]] = rec["value"]
+        elif rec["path"].endswith('"]') and '["' in rec["path"]:  # a custom property: owner["key"]
+            owner, key = rec["path"][:-2].rsplit('["', 1)
+            holder = obj.path_resolve(owner) if owner else obj
+            holder[key] = type(holder[key])(rec["value"])
         elif "." in rec["path"]:
             owner, prop = rec["path"].rsplit(".", 1)
             setattr(obj.path_resolve(owner), prop, rec["value"])

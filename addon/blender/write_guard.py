@@ -18,6 +18,15 @@ words with nothing written:
 * a bone list naming a bone twice, or a bone the rig does not have.
 
 An operator that fails anyway reports one line instead of a traceback.
+
+An operator that only changes leapwright's own settings (``lw_settings_only =
+True`` on its class: Go to Finding, Use Active Bone, Find Arm Bones) is only
+refused in edit mode: it writes nothing on the rig, so a linked or overridden
+rig, a damaged record or an odd setting elsewhere is no reason to refuse it.
+
+Before a writer runs, a rig that is a copy of another (Shift+D copies the
+identity leapwright recorded on it) gets one of its own
+(:func:`identity.separate_copy`).
 """
 
 import functools
@@ -25,7 +34,7 @@ import math
 
 from ..core.base import limits
 from ..core.base.limits import MAX_FRAME
-from . import ownership, state as rig_state, written_keys
+from . import identity, ownership, state as rig_state, written_keys
 
 GUARD_ATTRIBUTE = "_lw_guarded"
 #: Settings that show a result rather than take input (NaN there means "not measured yet").
@@ -128,6 +137,8 @@ def refusal(op, context):
     """Why ``op`` must not write in ``context``, in the animator's words, or None."""
     if context.mode not in {"OBJECT", "POSE"}:
         return "leave edit mode (Tab) first: leapwright writes in object or pose mode"
+    if getattr(type(op), "lw_settings_only", False):
+        return None  # changes only leapwright's settings: nothing on the rig to protect
     rig = target_rig(op, context)
     problem = rig_problem(rig)
     for name, group in _settings_groups(context.scene):
@@ -147,9 +158,12 @@ def _guarded_call(self, context, call):
     if problem is not None:
         self.report({"ERROR"}, problem)
         return {"CANCELLED"}
+    if not getattr(type(self), "lw_settings_only", False):
+        identity.separate_copy(target_rig(self, context))
     ownership.NOTES.clear()
     try:
         result = call()
+        identity.remember(target_rig(self, context))
         for note in ownership.NOTES:  # keys of the animator's that removal kept
             self.report({"WARNING"}, note)
         return result

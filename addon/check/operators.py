@@ -130,6 +130,7 @@ class LEAPWRIGHT_OT_go_to_finding(bpy.types.Operator):
 
     bl_idname = "leapwright.go_to_finding"
     bl_label = "Go to Finding"
+    lw_settings_only = True  # fills in settings only: allowed on a linked rig (write_guard)
     bl_options = {"REGISTER", "UNDO"}
 
     index: IntProperty(name="Finding", default=0, min=0)

@@ -225,6 +225,7 @@ class LEAPWRIGHT_OT_use_active_bone(bpy.types.Operator):
 
     bl_idname = "leapwright.use_active_bone"
     bl_label = "Use Active Bone"
+    lw_settings_only = True  # fills in settings only: allowed on a linked rig (write_guard)
     bl_options = {"REGISTER", "UNDO"}
 
     @classmethod

@@ -99,14 +99,20 @@ def test_profile_text_round_trips_and_is_kept_on_the_rig(generated):
     assert prof.known(generated) == {"body": "chest", "foot.L": "foot_ik.L"}
 
 
-def test_find_arm_bones_on_the_ik_arms_says_to_switch_to_fk_and_changes_nothing(generated):
+def test_find_arm_bones_on_the_ik_arms_finds_the_fk_controls_and_the_switch_and_changes_nothing(generated):
+    # Rigify's arms start in IK (IK_FK = 0 on upper_arm_parent); its FK controls move them once
+    # the switch is at 1 (Rigify's documentation). Finding them puts the switch back.
+    from scene_probe import file_state
     scene = bpy.context.scene
     _settings(scene).rig = generated
     bpy.context.view_layer.objects.active = generated
+    before = file_state()
+    assert bpy.ops.leapwright.find_arm_bones() == {"FINISHED"}
     arms = scene.leapwright_arms
-    with pytest.raises(RuntimeError, match="left arm cannot be swung.*IK hand control 'hand_ik.L'.*FK"):
-        bpy.ops.leapwright.find_arm_bones()
-    assert arms.upper_arm_left == "" and arms.upper_arm_right == ""
+    assert (arms.upper_arm_left, arms.forearm_left) == ("upper_arm_fk.L", "forearm_fk.L")
+    assert (arms.upper_arm_right, arms.forearm_right) == ("upper_arm_fk.R", "forearm_fk.R")
+    assert (arms.ik_fk_left, arms.ik_fk_right) == ('upper_arm_parent.L["IK_FK"] = 1', 'upper_arm_parent.R["IK_FK"] = 1')
+    assert file_state() == before
 
 
 def test_find_arm_bones_on_the_generated_rig_in_fk_picks_the_fk_controls(generated):
