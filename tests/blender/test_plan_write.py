@@ -144,7 +144,9 @@ def test_markers_at_phase_starts_and_weight_property_in_body_weights():
     assert run_write(rig) == {"FINISHED"}
     plan, fps = _plan(), _fps()
     marks = sorted((m.frame, m.name) for m in bpy.context.scene.timeline_markers)
-    want = sorted((int(round(11 + p.start_s * fps)), "lw:" + p.name) for p in plan.phases)
+    # one marker at each phase start, named in the animator's words (the add-on's own table of names)
+    marker_name = addon().core.base.phase_words.marker_name
+    want = sorted((int(round(11 + p.start_s * fps)), marker_name(p.name)) for p in plan.phases)
     assert marks == want
     assert "lw_weight_bw" in rig
     fc = next(fc for fc in written_fcurves(rig) if fc.data_path == '["lw_weight_bw"]')
