@@ -15,6 +15,7 @@ Calling from the add-on (F samples, B chosen bones)::
         chain_preset("hair"),            # or ChainParameters(...), or one per bone
         gravity=(0, 0, -9.80665),        # scene gravity [m/s^2], world axes
         options=BakeOptions(cyclic=False, resets=(), key_tolerance=0.0, on_twos=False),
+        colliders=None,  # or Colliders(starts, ends, radii, ground, lengths): tips kept out (.contacts)
     )
     bake.quaternions  # (F, B, 4) w, x, y, z: key pose_bone basis' = basis @ delta
     bake.rotvecs      # (F, B, 3) the same as rotation vectors [rad], bone-local axes
