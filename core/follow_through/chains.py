@@ -15,6 +15,7 @@ Calling from the add-on (F samples, B chosen bones)::
         chain_preset("hair"),            # or ChainParameters(...), or one per bone
         gravity=(0, 0, -9.80665),        # scene gravity [m/s^2], world axes
         options=BakeOptions(cyclic=False, resets=(), key_tolerance=0.0, on_twos=False),
+        colliders=None,  # or Colliders(starts, ends, radii, ground, lengths): tips kept out (.contacts)
     )
     bake.quaternions  # (F, B, 4) w, x, y, z: key pose_bone basis' = basis @ delta
     bake.rotvecs      # (F, B, 3) the same as rotation vectors [rad], bone-local axes
@@ -67,9 +68,10 @@ from ..base.errors import InvalidGoalError
 from ..base.rotation_vectors import (quaternion_conjugate, quaternion_multiply, quaternion_to_rotvec,
     rotvec_to_quaternion)
 from .apparent_weight import apparent_gravity
+from .contacts import Colliders, contact_arrays, contact_nodes
 from .integrator import ChainSlots, integrate
 
-__all__ = ["BakeOptions", "ChainBake", "ChainParameters", "LinkCoefficients", "bake_chains"]
+__all__ = ["BakeOptions", "ChainBake", "ChainParameters", "Colliders", "LinkCoefficients", "bake_chains"]
 
 @dataclass(frozen=True)
 class BakeOptions:
@@ -155,7 +157,8 @@ def _drive(slots, times, directions, accel, alpha, g_ref, cyclic, padding):
     return drive
 
 
-def bake_chains(times, heads, rotations, parents, parameters, gravity=(0.0, 0.0, -STANDARD_GRAVITY), options=BakeOptions()):
+def bake_chains(times, heads, rotations, parents, parameters, gravity=(0.0, 0.0, -STANDARD_GRAVITY), options=BakeOptions(),
+                colliders=None):
     """Simulate drag and follow-through for the chosen bones.
 
     Parameters
@@ -178,6 +181,9 @@ def bake_chains(times, heads, rotations, parents, parameters, gravity=(0.0, 0.0,
         Scene gravity [m/s^2], world frame; the animated pose is the loaded shape
         under it.
     options : BakeOptions
+    colliders : Colliders, optional
+        Body capsules and ground the bones' tips stay out of (:mod:`.contacts`);
+        needs ``substeps`` 1. None (the default) simulates without contact.
 
     Returns
     -------
@@ -194,6 +200,7 @@ def bake_chains(times, heads, rotations, parents, parameters, gravity=(0.0, 0.0,
     frames, bones = heads.shape[:2]
     coeffs = coefficient_arrays(parameters, bones)
     substeps, tolerance = _check_options(options, frames)
+    contact = contact_arrays(colliders, frames, bones, substeps, g_ref)
     slots = ChainSlots.from_parents(parents)
     slot_coeffs = {name: slots.to_slots(value[:, None], 0.0)[:, 0] for name, value in coeffs.items()}
     slot_coeffs["limit"] = slots.to_slots(coeffs["limit"][:, None], math.pi)[:, 0]
@@ -207,7 +214,9 @@ def bake_chains(times, heads, rotations, parents, parameters, gravity=(0.0, 0.0,
         accel, alpha = frame_accelerations(seg_times, heads[lo:hi], rots[lo:hi], options.cyclic)
         check_drive(accel, alpha, seg_times, lo)
         drive = _drive(slots, seg_times, rots[lo:hi, :, :, 1], accel, alpha, g_ref, options.cyclic, padding)
-        offsets, sweeps, _ = integrate(slots, slot_coeffs, seg_times, drive, g_ref, options.cyclic, substeps)
+        here = None if contact is None else contact_nodes(contact, lo, hi, slots, seg_times, heads[lo:hi],
+                                                          rots[lo:hi, :, :, 1], options.cyclic)
+        offsets, sweeps, _ = integrate(slots, slot_coeffs, seg_times, drive, g_ref, options.cyclic, substeps, here)
         passes = max(passes, sweeps)
         world[lo:hi] = offsets[:, slots.slot]
     # joint rotation in world axes, R(psi_p)^T R(psi_c), then in the bone's own axes

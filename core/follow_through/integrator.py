@@ -72,6 +72,7 @@ of a general class of recurrence equations", IEEE Trans. Computers C-22(8):786-7
 
 import numpy as np
 
+from .contacts import hold_outside
 from .samples import refine_drive
 from .slots import ChainSlots, flat_matrices, limit_joints  # noqa: F401  (ChainSlots is part of the API)
 from .affine_runs import compose_pairs, periodic_start, run_affine
@@ -234,7 +235,21 @@ def _nodal_forces(psi, d0, force, stiff, frames, trees, n):
     return nodal.reshape(3, steps, 3, trees, n).transpose(1, 3, 2, 4, 0).reshape(steps, trees, 3 * n, 3)
 
 
-def integrate(slots, coefficients, times, drive, g_ref, cyclic=False, substeps=1):
+def _held_path(states, hm, flat, limit, contact):
+    """A sweep's offsets (3, nodes, slots) at the frames then halfway between (the cubic
+    Hermite midpoints of ``states`` (F, slots, 2, 3), ``hm`` the steps [s]), held so the
+    next sweep's force sees joints within their limits and tips outside the colliders;
+    None where the path is not finite."""
+    p = states[:, :, 0].transpose(2, 0, 1)
+    v = states[:, :, 1].transpose(2, 0, 1)
+    new = np.concatenate([p, 0.5 * (p[:, :-1] + p[:, 1:]) + hm * (v[:, :-1] - v[:, 1:]) / 8.0], axis=1)
+    if not np.all(np.isfinite(new)):
+        return None
+    new = limit_joints(new, flat, limit)
+    return new if contact is None else hold_outside(new, contact)
+
+
+def integrate(slots, coefficients, times, drive, g_ref, cyclic=False, substeps=1, contact=None):
     """Offsets of every chain over the sampled drive, starting from rest (or periodic).
 
     Parameters
@@ -257,6 +272,8 @@ def integrate(slots, coefficients, times, drive, g_ref, cyclic=False, substeps=1
         Start in the periodic state (the last sample is the first one's moment).
     substeps : int
         Exact steps per frame interval.
+    contact : dict, optional
+        Colliders at the nodes (:func:`.contacts.contact_nodes`; substeps 1).
 
     Returns
     -------
@@ -295,14 +312,9 @@ def integrate(slots, coefficients, times, drive, g_ref, cyclic=False, substeps=1
         forces = push @ _nodal_forces(psi, d0, force, stiff, frames, trees, n)
         if cyclic:
             start = periodic_start(maps, forces, state_shape)
-        states = run_affine(maps, forces, start).reshape(frames, trees * n, 2, 3)
-        p = states[:, :, 0].transpose(2, 0, 1)
-        v = states[:, :, 1].transpose(2, 0, 1)
-        new = np.concatenate([p, 0.5 * (p[:, :-1] + p[:, 1:]) + hm * (v[:, :-1] - v[:, 1:]) / 8.0], axis=1)
-        if not np.all(np.isfinite(new)):
+        new = _held_path(run_affine(maps, forces, start).reshape(frames, trees * n, 2, 3), hm, flat, limit, contact)
+        if new is None:
             break
-        # the next sweep's force sees joints held within their limits
-        new = limit_joints(new, flat, limit)
         change = float(np.max(np.abs(new[:, :frames] - psi[:, :frames]))) if new.size else 0.0
         psi = new
         if best is None or change <= best[0]:

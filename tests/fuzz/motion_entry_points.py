@@ -120,16 +120,24 @@ def chain_drives(draw):
     parents = np.arange(n_bones) - 1
     preset = draw(st.sampled_from(sorted(CHAIN_PRESETS)))
     cyclic = draw(st.booleans()) and len(times) < 200
-    return times, heads, rotations, parents, preset, cyclic
+    # half the examples keep the chains out of a ball beside them and off a ground below
+    contact = (draw(st.floats(-0.5, 0.2, **FINITE)), draw(st.floats(0.01, 0.3, **FINITE)), length) if draw(st.booleans()) else None
+    return times, heads, rotations, parents, preset, cyclic, contact
 
 
 def _chains(example):
     from leapwright.core.follow_through.presets import chain_preset
-    from leapwright.core.follow_through.chains import BakeOptions, bake_chains
+    from leapwright.core.follow_through.chains import BakeOptions, Colliders, bake_chains
 
-    times, heads, rotations, parents, preset, cyclic = example
+    times, heads, rotations, parents, preset, cyclic, contact = example
+    colliders = None
+    if contact is not None:
+        ground, radius, length = contact
+        ball = heads[:, :1] + [0.0, 0.5 * length, -length]
+        colliders = Colliders(starts=ball, ends=ball + [0.0, 0.0, 0.1], radii=[radius],
+                              ground=float(heads[:, 0, 2].min()) + ground, lengths=[length] * len(parents))
     bake = bake_chains(times, heads, rotations, parents, chain_preset(preset),
-                       options=BakeOptions(cyclic=cyclic))
+                       options=BakeOptions(cyclic=cyclic), colliders=colliders)
     return [bake.quaternions, bake.rotvecs, bake.peak_offsets]
 
 
