@@ -357,3 +357,12 @@ def draw_panel(panel_name, icons=False):
     holder = type("PanelStandIn", (), {"layout": PanelLayout(log, icons)})()
     getattr(bpy.types, panel_name).draw(holder, bpy.context)
     return log
+
+
+def peak_frame(frames, values):
+    """Frame of the highest sample, refined by the vertex of a parabola through it and its neighbours."""
+    i = int(np.argmax(values))
+    if 0 < i < len(values) - 1:
+        a, b, _ = np.polyfit(frames[i - 1:i + 2] - frames[i], values[i - 1:i + 2], 2)
+        return float(frames[i] - b / (2 * a)) if a < 0 else float(frames[i])
+    return float(frames[i])

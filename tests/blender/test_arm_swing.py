@@ -22,7 +22,7 @@ import numpy as np
 import pytest
 from mathutils import Matrix, Quaternion, Vector
 
-from scene_probe import MODULE, addon, file_state, first_difference
+from scene_probe import MODULE, addon, file_state, first_difference, peak_frame
 
 sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "..", "blend_examples"))
 import mannequin  # noqa: E402  (the demo's own rig, not edited here)
@@ -99,15 +99,6 @@ def _elevation(rig, frames, forward, up, side="L"):
     return np.unwrap(np.radians(out)) * 180.0 / math.pi
 
 
-def _peak(frames, values):
-    """Frame of the highest sample, refined by the vertex of a parabola through it and its neighbours."""
-    i = int(np.argmax(values))
-    if 0 < i < len(values) - 1:
-        a, b, _ = np.polyfit(frames[i - 1:i + 2] - frames[i], values[i - 1:i + 2], 2)
-        return float(frames[i] - b / (2 * a)) if a < 0 else float(frames[i])
-    return float(frames[i])
-
-
 def _place(rig, **values):
     """Place Arm Swing on the mannequin's arms, named by hand (see the test of Find Arm Bones)."""
     s = bpy.context.scene.leapwright_arms
@@ -141,7 +132,7 @@ def test_placed_swing_peaks_at_takeoff_and_rises_inside_the_push(mode):
     forward, up = _facing(rig, 0.0)
     for side in "LR":
         elev = _elevation(rig, frames, forward, up, side)
-        assert abs(_peak(frames, elev) - takeoff) <= 1.0
+        assert abs(peak_frame(frames, elev) - takeoff) <= 1.0
         # The backswing's extreme (the upswing start) is inside propulsion: not before it.
         before = frames <= takeoff
         lowest = float(frames[before][np.argmin(elev[before])])
@@ -180,7 +171,7 @@ def test_swing_plane_follows_a_rig_turned_90_degrees_about_z(applied):
     frames = np.arange(takeoff - 12.0, takeoff + 6.0, 0.25)
     for side in "LR":
         elev = _elevation(rig, frames, forward, up, side)
-        assert abs(_peak(frames, elev) - takeoff) <= 1.0
+        assert abs(peak_frame(frames, elev) - takeoff) <= 1.0
         scene.frame_set(int(round(takeoff)))
         d = (np.array(rig.matrix_world @ rig.pose.bones[f"hand.{side}"].head)
              - np.array(rig.matrix_world @ rig.pose.bones[f"upper_arm.{side}"].head))
@@ -311,7 +302,7 @@ def test_placing_over_your_arm_keys_asks_first_or_replaces_and_gives_them_back(o
     push, takeoff, _ = _events(scene)
     frames = np.arange(push - 4.0, takeoff + 8.0, 0.25)
     forward, up = _facing(rig, 0.0)
-    assert abs(_peak(frames, _elevation(rig, frames, forward, up)) - takeoff) <= 1.0
+    assert abs(peak_frame(frames, _elevation(rig, frames, forward, up)) - takeoff) <= 1.0
     assert bpy.ops.leapwright.remove_arm_swing() == {"FINISHED"}
     scene.frame_set(1)
     assert file_state() == before, first_difference(file_state(), before)

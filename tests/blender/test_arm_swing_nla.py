@@ -15,8 +15,8 @@ import bpy
 import numpy as np
 import pytest
 
-from scene_probe import addon, file_state, first_difference
-from test_arm_swing import ARMS, LATE, _elevation, _events, _facing, _jump, _late_swing, _peak
+from scene_probe import addon, file_state, first_difference, peak_frame
+from test_arm_swing import ARMS, LATE, _elevation, _events, _facing, _jump, _late_swing
 from test_arm_swing_retime import rerun_changes_nothing_and_removal_restores
 
 ACTION_START = 100.0  # the arm action's own first frame (its manual frame range)
@@ -73,7 +73,7 @@ def test_a_late_swing_in_an_offset_strip_is_retimed_in_scene_time(start, scale, 
     forward, up = _facing(rig, 0.0)
     frames = np.arange(takeoff - 14.0, takeoff + 14.0, 0.25)
     # The setup plays the swing where it was keyed: LATE frames after take-off, in scene time.
-    assert _peak(frames, _elevation(rig, frames, forward, up)) - takeoff == pytest.approx(LATE, abs=0.6)
+    assert peak_frame(frames, _elevation(rig, frames, forward, up)) - takeoff == pytest.approx(LATE, abs=0.6)
     _choose_arms(rig, scene)
     scene.frame_set(1)
     before, keys_before = file_state(), _keys(arms, rig)
@@ -81,7 +81,7 @@ def test_a_late_swing_in_an_offset_strip_is_retimed_in_scene_time(start, scale, 
 
     assert bpy.ops.leapwright.retime_arm_swing() == {"FINISHED"}
     for side in "LR":
-        assert abs(_peak(frames, _elevation(rig, frames, forward, up, side)) - takeoff) <= 1.0
+        assert abs(peak_frame(frames, _elevation(rig, frames, forward, up, side)) - takeoff) <= 1.0
     keys_after = _keys(arms, rig)
     assert keys_after.keys() == keys_before.keys()
     for k, old in keys_before.items():
@@ -133,7 +133,7 @@ def test_arm_keys_in_a_strip_that_does_not_play_are_left_alone(how):
     _, takeoff, _ = _events(scene)
     forward, up = _facing(rig, 0.0)
     frames = np.arange(takeoff - 14.0, takeoff + 14.0, 0.25)
-    assert abs(_peak(frames, _elevation(rig, frames, forward, up)) - takeoff) <= 1.0
+    assert abs(peak_frame(frames, _elevation(rig, frames, forward, up)) - takeoff) <= 1.0
     after = _keys(arms, rig)
     assert after.keys() == silent.keys()
     assert all(after[k][f].tobytes() == silent[k][f].tobytes() for k in silent for f in silent[k])

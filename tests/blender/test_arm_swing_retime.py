@@ -15,8 +15,8 @@ import bpy
 import numpy as np
 import pytest
 
-from scene_probe import addon, file_state, first_difference
-from test_arm_swing import ARMS, LATE, _arm_curves, _elevation, _events, _facing, _jump, _late_swing, _peak, _place
+from scene_probe import addon, file_state, first_difference, peak_frame
+from test_arm_swing import ARMS, LATE, _arm_curves, _elevation, _events, _facing, _jump, _late_swing, _place
 
 
 def rerun_changes_nothing_and_removal_restores(scene, before):
@@ -36,7 +36,7 @@ def test_late_swing_is_retimed_to_peak_at_takeoff_keeping_its_values_and_removal
     _, takeoff, _ = _events(scene)
     forward, up = _facing(rig, 0.0)
     frames = np.arange(takeoff - 14.0, takeoff + 14.0, 0.25)
-    assert _peak(frames, _elevation(rig, frames, forward, up)) - takeoff == pytest.approx(LATE, abs=0.6)
+    assert peak_frame(frames, _elevation(rig, frames, forward, up)) - takeoff == pytest.approx(LATE, abs=0.6)
 
     s = scene.leapwright_arms
     bpy.context.view_layer.objects.active = rig
@@ -52,7 +52,7 @@ def test_late_swing_is_retimed_to_peak_at_takeoff_keeping_its_values_and_removal
     moved = addon().arms.operators.LAST[rig.name][0][0]
     assert float(moved.split("by up to ")[1].split(" frames")[0]) == pytest.approx(LATE, abs=1.0)
     for side in "LR":
-        assert abs(_peak(frames, _elevation(rig, frames, forward, up, side)) - takeoff) <= 1.0
+        assert abs(peak_frame(frames, _elevation(rig, frames, forward, up, side)) - takeoff) <= 1.0
     keys_after = _arm_curves(rig)
     assert keys_after.keys() == keys_before.keys()
     for k, old in keys_before.items():
@@ -132,7 +132,7 @@ def test_a_swing_wholly_in_the_air_is_called_outside_contact_and_retimed_into_th
     frames = np.arange(push - 4.0, takeoff + late + 8.0, 0.25)
     forward, up = _facing(rig, 0.0)
     elev = _elevation(rig, frames, forward, up)
-    assert abs(_peak(frames, elev) - takeoff) <= 1.0
+    assert abs(peak_frame(frames, elev) - takeoff) <= 1.0
     before = frames <= takeoff
     assert push - 1.0 <= float(frames[before][np.argmin(elev[before])]) < takeoff
 

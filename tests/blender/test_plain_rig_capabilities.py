@@ -16,9 +16,9 @@ import numpy as np
 import pytest
 
 import rigify_rig
-from scene_probe import addon, snapshot
+from scene_probe import addon, peak_frame, snapshot
 from test_other_style_rig import build_other_style_rig
-from test_rigify_capabilities import G, _com, _events, _fps, _heads, _implied_g, _peak
+from test_rigify_capabilities import G, _com, _events, _fps, _heads, _implied_g
 
 #: name -> (build, pelvis bone, world forward of the character as built)
 RIGS = {
@@ -66,7 +66,7 @@ def test_arm_swing_is_found_placed_and_checked_and_peaks_at_take_off(name):
     frames = np.arange(push - 6.0, takeoff + 8.0, 0.5)
     for upper, fore in ((arms.upper_arm_left, arms.forearm_left), (arms.upper_arm_right, arms.forearm_right)):
         elev = _elevation(rig, frames, upper, fore, forward)
-        assert abs(_peak(frames, elev) - takeoff) <= 1.0, (upper, _peak(frames, elev), takeoff)
+        assert abs(peak_frame(frames, elev) - takeoff) <= 1.0, (upper, peak_frame(frames, elev), takeoff)
         assert elev.min() < -20.0 and elev.max() > 60.0, (upper, elev.min(), elev.max())  # back, then in front
     assert bpy.ops.leapwright.check_arm_swing() == {"FINISHED"}
     lines = addon().arms.operators.LAST[rig.name]

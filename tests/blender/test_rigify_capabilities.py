@@ -19,7 +19,7 @@ import pytest
 from mathutils import Quaternion
 
 import rigify_rig
-from scene_probe import addon, snapshot
+from scene_probe import addon, peak_frame, snapshot
 
 FORWARD = np.array([0.0, -1.0, 0.0])  # the generated rig faces -Y
 UP = np.array([0.0, 0.0, 1.0])
@@ -104,14 +104,6 @@ def _elevation(rig, frames, side="L"):
     return np.degrees(np.unwrap(np.arctan2(d @ FORWARD, -(d @ UP))))
 
 
-def _peak(frames, values):
-    i = int(np.argmax(values))
-    if 0 < i < len(values) - 1:
-        a, b, _ = np.polyfit(frames[i - 1:i + 2] - frames[i], values[i - 1:i + 2], 2)
-        return float(frames[i] - b / (2 * a)) if a < 0 else float(frames[i])
-    return float(frames[i])
-
-
 def _placed_swing(profile_text):
     rig = _rig(profile_text)
     plan = _write(rig)
@@ -129,7 +121,7 @@ def test_arm_swing_on_rigify_peaks_at_take_off_in_the_deform_arms_which_keep_the
     frames = np.arange(push - 6.0, takeoff + 8.0, 0.5)
     for side in "LR":
         elev = _elevation(rig, frames, side)
-        assert abs(_peak(frames, elev) - takeoff) <= 1.0, side  # Lees et al. 2004: peak at take-off
+        assert abs(peak_frame(frames, elev) - takeoff) <= 1.0, side  # Lees et al. 2004: peak at take-off
         # 0 hanging, + in front: from behind the body to level in front (the swing's own range)
         assert elev.min() < -20.0 and elev.max() > 60.0, (side, elev.min(), elev.max())
         stretch = _stretch(rig, ARMS[side], frames)
@@ -169,7 +161,7 @@ def test_a_late_swing_on_rigify_is_retimed_to_peak_at_take_off_and_removal_resto
     _key_arm_turns(rig, keys)
     scene.frame_end = max(scene.frame_end, int(touchdown + late + 14))
     frames = np.arange(takeoff - 10.0, takeoff + 14.0, 0.5)
-    assert _peak(frames, _elevation(rig, frames)) - takeoff == pytest.approx(late, abs=1.0)
+    assert peak_frame(frames, _elevation(rig, frames)) - takeoff == pytest.approx(late, abs=1.0)
     assert bpy.ops.leapwright.find_arm_bones() == {"FINISHED"}
     assert bpy.ops.leapwright.check_arm_swing() == {"FINISHED"}
     warning = " ".join(t for t, icon in addon().arms.operators.LAST[rig.name] if icon == "ERROR")
@@ -178,7 +170,7 @@ def test_a_late_swing_on_rigify_is_retimed_to_peak_at_take_off_and_removal_resto
     before = snapshot()
     assert bpy.ops.leapwright.retime_arm_swing() == {"FINISHED"}
     for side in "LR":
-        assert abs(_peak(frames, _elevation(rig, frames, side)) - takeoff) <= 1.0, side
+        assert abs(peak_frame(frames, _elevation(rig, frames, side)) - takeoff) <= 1.0, side
     assert bpy.ops.leapwright.remove_arm_swing() == {"FINISHED"}
     scene.frame_set(scene.frame_start)
     assert snapshot() == before
@@ -365,7 +357,7 @@ def test_arm_swing_on_rigify_arms_in_ik_keys_the_switch_and_the_deform_arms_swin
     frames = np.arange(push - 6.0, takeoff + 8.0, 0.5)
     for side in "LR":
         elev = _elevation(rig, frames, side)
-        assert abs(_peak(frames, elev) - takeoff) <= 1.0, side
+        assert abs(peak_frame(frames, elev) - takeoff) <= 1.0, side
         assert elev.min() < -20.0 and elev.max() > 60.0, (side, elev.min(), elev.max())
         stretch = _stretch(rig, ARMS[side], frames)
         assert -0.01 <= stretch[1] and stretch[0] <= 0.01, (side, stretch)
