@@ -49,7 +49,7 @@ $(STAMP)/bpy-newest: $(STAMP)/core $(STAMP)/syslibs
 $(STAMP)/bpy-4.2: $(STAMP)/syslibs pyproject.toml
 	@test -n "$(PY311)" || { echo "Python 3.11 not found (needed for bpy $(BPY_42))"; exit 1; }
 	test -x .venv-4.2/bin/python || $(PY311) -m venv .venv-4.2
-	.venv-4.2/bin/pip install -q "bpy==$(BPY_42)" pytest pygltflib
+	.venv-4.2/bin/pip install -q "bpy==$(BPY_42)" pytest pygltflib scipy
 	# the command line from this checkout (leapwright = addon/, leapwright.core = core/), for the tests that run it
 	.venv-4.2/bin/pip install -q --no-deps -e .
 	@touch $@
@@ -57,7 +57,7 @@ $(STAMP)/bpy-4.2: $(STAMP)/syslibs pyproject.toml
 $(STAMP)/bpy-4.5: $(STAMP)/syslibs pyproject.toml
 	@test -n "$(PY311)" || { echo "Python 3.11 not found (needed for bpy $(BPY_45))"; exit 1; }
 	test -x .venv-4.5/bin/python || $(PY311) -m venv .venv-4.5
-	.venv-4.5/bin/pip install -q "bpy==$(BPY_45)" pytest pygltflib
+	.venv-4.5/bin/pip install -q "bpy==$(BPY_45)" pytest pygltflib scipy
 	# the command line from this checkout (leapwright = addon/, leapwright.core = core/), for the tests that run it
 	.venv-4.5/bin/pip install -q --no-deps -e .
 	@touch $@
