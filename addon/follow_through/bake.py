@@ -27,6 +27,7 @@ from ..blender.curves import CurveSpec
 from ..core.follow_through.chains import BakeOptions, ChainParameters, bake_chains
 from ..core.follow_through.presets import chain_preset
 from ..core.base.constants import STANDARD_GRAVITY
+from . import body_colliders, contact_bake
 
 CAPABILITY = "follow_through"
 TRACK = ownership.group_name(CAPABILITY)
@@ -58,6 +59,10 @@ class LagRequest:
         Scene frames where the chains start again from rest (camera cuts).
     gravity : float
         Magnitude of gravity, pointing down world -Z [m/s^2].
+    keep_out : bool
+        Keep the chains out of the body's capsules and above the ground (:mod:`.body_colliders`).
+    radii : tuple of (str, float)
+        Radii typed in the panel, by part (head, neck, torso, ...) [m]; 0 keeps the fitted one.
     """
 
     bones: tuple
@@ -69,6 +74,8 @@ class LagRequest:
     cyclic: bool = False
     reset_frames: tuple = ()
     gravity: float = STANDARD_GRAVITY
+    keep_out: bool = False
+    radii: tuple = ()
 
 
 @dataclass(frozen=True)
@@ -82,11 +89,14 @@ class LagWork:
         Largest delta angle of each bone over the bake [rad].
     keys : int
         Keys in ``specs``.
+    body : str
+        The panel's text about the capsules and the ground (JSON), empty without them.
     """
 
     specs: tuple
     peaks: dict
     keys: int
+    body: str = ""
 
 
 def parameters_for(preset, frequency, damping_ratio, sag, angle_limit, transmission):
@@ -156,10 +166,11 @@ def request_from_panel(context, rig, bones=None, preset="SETTINGS", frame_range=
     start, end = frame_range
     jump = getattr(scene, "leapwright_plan", None)
     gravity = jump.gravity if jump is not None else STANDARD_GRAVITY
+    radii = tuple((name, float(getattr(s, f"{name}_radius"))) for name in body_colliders.RADIUS_SETTINGS)
     return LagRequest(bones=tuple(bones), parameters=params, frame_start=int(start), frame_end=int(end),
                                key_tolerance=s.key_tolerance, on_twos=s.on_twos, cyclic=s.cyclic,
                                reset_frames=marker_resets(scene, start, end, s.reset_marker),
-                               gravity=gravity)
+                               gravity=gravity, keep_out=bool(s.keep_out), radii=radii)
 
 
 def check(rig, request):
@@ -218,9 +229,12 @@ def unmute_layer(scene, track, was, frame=None):
         scene.frame_set(whole, subframe=sub)  # the layer's values again
 
 
-def sampling_plan(rig, request):
-    """What a checked request samples: ``(names, frames, Euler bone names, channels)``."""
+def sampling_plan(rig, request, scene=None):
+    """What a checked request samples: ``(names, frames, Euler bone names, channels)``; with
+    ``keep_out`` the body's landmark bones follow the chosen bones in ``names``."""
     names = list(request.bones)
+    if request.keep_out and scene is not None:
+        names += list(body_colliders.body_bones(scene, rig))
     frames = np.arange(request.frame_start, request.frame_end + 1)
     eulers = [n for n in names if rig.pose.bones[n].rotation_mode not in ("QUATERNION", "AXIS_ANGLE")]
     channels = (("rotation_euler", 3),) if eulers else ()
@@ -246,19 +260,27 @@ def simulation(scene, rig, request, matrices):
     unit = scene.unit_settings.scale_length or 1.0
     fps = scene.render.fps / scene.render.fps_base
     times = np.arange(request.frame_start, request.frame_end + 1) / fps
-    heads = matrices[:, :, :3, 3] * unit
-    rotations = matrices[:, :, :3, :3]
+    chosen = len(request.bones)
+    heads = matrices[:, :chosen, :3, 3] * unit
+    rotations = matrices[:, :chosen, :3, :3]
     _, parents, _, _ = rig_sampling.bone_rest_data(rig, request.bones)
     resets = tuple(sorted({f - request.frame_start for f in request.reset_frames
                            if request.frame_start < f <= request.frame_end}))
     options = BakeOptions(cyclic=request.cyclic, resets=resets, key_tolerance=float(request.key_tolerance),
                           on_twos=bool(request.on_twos))
-    return functools.partial(bake_chains, times, heads, rotations, parents, request.parameters,
-                             gravity=(0.0, 0.0, -float(request.gravity)), options=options)
+    gravity = (0.0, 0.0, -float(request.gravity))
+    if not request.keep_out:
+        return functools.partial(bake_chains, times, heads, rotations, parents, request.parameters,
+                                 gravity=gravity, options=options)
+    body = body_colliders.body_for_bake(scene, rig, request, matrices, parents)
+    call = functools.partial(contact_bake.bake_kept_out, times, heads, rotations, parents, request.parameters,
+                             gravity, options, body)
+    call.body_text = body["text"]  # the panel's readout of the capsules, written with the keys
+    return call
 
 
-def curves_for(rig, names, eulers, frames, values, bake):
-    """The curves of a simulated bake (``bake`` a ChainBake), as :class:`LagWork`."""
+def curves_for(rig, names, eulers, frames, values, bake, body=""):
+    """The curves of a simulated bake (``bake`` a ChainBake) of the bones ``names``, as :class:`LagWork`."""
     interpolation = "CONSTANT" if bake.stepped else "LINEAR"
     specs = []
     for b, name in enumerate(names):
@@ -274,7 +296,7 @@ def curves_for(rig, names, eulers, frames, values, bake):
             specs += [CurveSpec(f"{path}.rotation_quaternion", i, frames[keep].astype(float), q[:, i], None,
                                 interpolation) for i in range(4)]
     peaks = {n: float(p) for n, p in zip(names, bake.peak_offsets)}
-    return LagWork(tuple(specs), peaks, int(sum(len(s.frames) for s in specs)))
+    return LagWork(tuple(specs), peaks, int(sum(len(s.frames) for s in specs)), body)
 
 
 def prepare(scene, rig, request, progress=None):
@@ -304,13 +326,14 @@ def prepare(scene, rig, request, progress=None):
     """
     check(rig, request)
     request.parameters.coefficients()  # bad values are reported before the slow part
-    names, frames, eulers, channels = sampling_plan(rig, request)
+    names, frames, eulers, channels = sampling_plan(rig, request, scene)
     track, was = mute_layer(rig)
     try:
         matrices, _, values = rig_sampling.sample_pose(scene, rig, frames, names, channels, progress)
     finally:
         unmute_layer(scene, track, was)
-    return curves_for(rig, names, eulers, frames, values, simulation(scene, rig, request, matrices)())
+    call = simulation(scene, rig, request, matrices)
+    return curves_for(rig, request.bones, eulers, frames, values, call(), getattr(call, "body_text", ""))
 
 
 def _euler_deltas(animated, deltas, order):

@@ -64,11 +64,12 @@ class BakeJob:
         bake.check(rig, request)
         request.parameters.coefficients()  # bad values are reported before the slow part
         self.scene, self.rig, self.request, self.threaded = scene, rig, request, threaded
-        self.names, self.frames, self.eulers, self.channels = bake.sampling_plan(rig, request)
-        self.key = sampled_motion.take_key(self.names, self.frames, self.channels)
+        self.names, self.frames, self.eulers, self.channels = bake.sampling_plan(rig, request, scene)
+        self.key = sampled_motion.take_key(self.names, self.frames, self.channels, len(request.bones))
         self.work, self.reused, self.cancelled = None, False, False
         self.timings = {"sampling": 0.0, "simulation": 0.0, "curves": 0.0}
         self._take = self._sampling = self._thread = None
+        self._body_text = ""
         self._outcome = []
         self._fingerprint = motion_fingerprint(scene, rig, skip_tracks=(bake.TRACK,))
         self._muted = bake.mute_layer(rig)
@@ -118,6 +119,7 @@ class BakeJob:
             if self._thread is None:
                 self._started = time.perf_counter()
                 call = bake.simulation(self.scene, self.rig, self.request, self._take.matrices)
+                self._body_text = getattr(call, "body_text", "")
                 if not self.threaded:
                     self._outcome.append(simulate_on_one_blas_thread(call))
                 else:
@@ -132,7 +134,8 @@ class BakeJob:
         if isinstance(result, BaseException):
             raise result
         start = time.perf_counter()
-        self.work = bake.curves_for(self.rig, self.names, self.eulers, self.frames, self._take.values, result)
+        self.work = bake.curves_for(self.rig, self.request.bones, self.eulers, self.frames, self._take.values, result,
+                                    self._body_text)
         self.timings["curves"] = time.perf_counter() - start
         LAST_TIMINGS.clear()
         LAST_TIMINGS.update(self.timings, reused=self.reused)

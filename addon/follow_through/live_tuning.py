@@ -62,7 +62,8 @@ def retune(settings, context):
     if take is None:
         _STATUS[scene.as_pointer()] = ("Bake once with the button: its motion is then kept for tuning", None)
         return False
-    bones, (first, last, _count), _channels = take.key
+    bones, (first, last, _count), _channels, chosen = take.key
+    bones = bones[:chosen]
     start = time.perf_counter()
     try:
         job = BakeJob(scene, rig, bake.request_from_panel(context, rig, bones, frame_range=(int(first), int(last))))
@@ -78,6 +79,7 @@ def retune(settings, context):
         return False
     _STATUS[scene.as_pointer()] = ("", (time.perf_counter() - start) * 1e3)
     settings.readout = json.dumps(bake.degrees(job.work.peaks))
+    settings.body_readout = job.work.body
     return True
 
 

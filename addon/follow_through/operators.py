@@ -135,6 +135,7 @@ class LEAPWRIGHT_OT_bake_follow_through(bpy.types.Operator):
         work = job.work
         peaks = follow_bake.degrees(work.peaks)
         context.scene.leapwright_follow_through.readout = json.dumps(peaks)
+        context.scene.leapwright_follow_through.body_readout = work.body
         top = max(peaks, key=peaks.get)
         kept = " (motion kept from the last bake)" if job.reused else ""
         unplayed = verify.unplayed_keys(context.scene, job.rig, list(peaks), job.request.frame_start, job.request.frame_end)
@@ -165,6 +166,7 @@ class LEAPWRIGHT_OT_remove_follow_through(bpy.types.Operator):
             self.report({"WARNING"}, "nothing to remove: this object has no baked follow-through")
             return {"CANCELLED"}
         context.scene.leapwright_follow_through.readout = ""
+        context.scene.leapwright_follow_through.body_readout = ""
         self.report({"INFO"}, f"Removed the follow-through from {rig.name}")
         return {"FINISHED"}
 

@@ -49,12 +49,45 @@ class LEAPWRIGHT_PT_follow_through(SubPanel, bpy.types.Panel):
         box.prop(s, "cyclic")
         box.prop(s, "reset_marker")
 
+        _draw_body(layout, s)
+
         row = layout.row()
         row.prop(s, "live_rebake")
         _draw_live_status(layout, context.scene)
         _draw_readout(layout, s.readout)
         layout.operator("leapwright.bake_follow_through", icon="FORCE_WIND")
         layout.operator("leapwright.remove_follow_through", icon="TRASH")
+
+
+def _draw_body(layout, s):
+    box = layout.box()
+    box.prop(s, "keep_out")
+    col = box.column(align=True)
+    col.enabled = s.keep_out
+    col.prop(s, "show_body")
+    col.label(text="Radii (0: fitted)")
+    for name in ("head", "neck", "torso", "pelvis", "upper_arm", "forearm", "thigh", "shin"):
+        col.prop(s, f"{name}_radius")
+    try:
+        body = json.loads(s.body_readout) if s.body_readout else {}
+    except ValueError:
+        body = {}
+    if body.get("problem"):
+        for line in wrap_text(f"No body capsules: {body['problem']}", 40):
+            col.label(text=line, icon="ERROR")
+    for name, (radius, source) in list(body.get("parts", {}).items())[:8]:
+        col.label(text=f"{name}: {radius * 100:.1f} cm, from the {source}")
+    if "ground" in body:
+        col.label(text=f"Ground at {body['ground']:.3f} m")
+    for chain, radii in body.get("chains", {}).items():
+        fitted = body.get("parts", {})
+        out = [p for p, r in radii.items() if r == 0.0]
+        smaller = [p for p, r in radii.items() if 0.0 < r < fitted.get(p, (r,))[0]]
+        if out or smaller:
+            text = f"{chain} hangs from " + ", ".join(out + smaller) + (": left out" if out else "") + \
+                   (f"; made smaller: {', '.join(smaller)}" if smaller else "")
+            for line in wrap_text(text, 40):
+                col.label(text=line)
 
 
 def _draw_live_status(layout, scene):

@@ -53,10 +53,12 @@ class SampledMotion:
     seconds: float
 
 
-def take_key(bones, frames, channels):
-    """What a take is keyed by besides the rig: bone names, frames and channels read."""
+def take_key(bones, frames, channels, chosen=None):
+    """What a take is keyed by besides the rig: bone names, frames, channels read and how many of the
+    bones were chosen to bake (the rest place the body's capsules)."""
     frames = np.asarray(frames, dtype=float)
-    return tuple(bones), (float(frames[0]), float(frames[-1]), int(frames.size)), tuple(channels)
+    chosen = len(bones) if chosen is None else int(chosen)
+    return tuple(bones), (float(frames[0]), float(frames[-1]), int(frames.size)), tuple(channels), chosen
 
 
 def spot_indices(count):
@@ -83,7 +85,7 @@ def confirm(scene, rig, take, frames):
     the scene's frame again afterwards.
     """
     picks = spot_indices(len(frames))
-    bones, _, channels = take.key
+    bones, _, channels, _ = take.key
     sampling = PoseSampling(scene, rig, np.asarray(frames)[picks], list(bones), channels)
     try:
         sampling.step()

@@ -1,7 +1,8 @@
 """What the animator sets for drag and follow-through: ``scene.leapwright_follow_through``.
 
 Angles are stored in radians (``subtype='ANGLE'``, shown in the scene's
-rotation units). ``readout`` is written by the bake: JSON ``{bone: peak [deg]}``.
+rotation units). ``readout`` is written by the bake: JSON ``{bone: peak [deg]}``; ``body_readout`` the
+capsules it kept the chains out of (:func:`.body_colliders.readout`).
 """
 
 import math
@@ -17,6 +18,16 @@ def _tuned(self, context):
     # A chain setting changed: with "re-bake as you tune" on, bake the last bake again at once.
     live_tuning.retune(self, context)
 
+
+def _shown(self, context):
+    from . import body_overlay  # drawing needs the gpu module, loaded only when asked for
+    body_overlay.show(self.show_body)
+
+
+#: A capsule radius typed in the panel; 0 keeps the one fitted to the skin or the proportions.
+_RADIUS = dict(subtype="DISTANCE", unit="LENGTH", default=0.0, min=0.0, soft_max=0.5,
+               description="Radius of this part's capsule; 0 uses the one fitted to the skinned mesh, or to the "
+                           "body's proportions when no mesh is skinned")
 
 SOURCE_ITEMS = (
     ("SELECTED", "Selected bones", "The pose bones selected now"),
@@ -62,6 +73,20 @@ class LeapwrightFollowThroughSettings(bpy.types.PropertyGroup):
                               description="Bake the last bake again at once whenever a chain setting changes "
                                           "(its motion is kept in memory, so only the chains are simulated)")
     readout: StringProperty(name="Peak offsets", options={"HIDDEN"})
+    keep_out: BoolProperty(update=_tuned, name="Keep out of the body", default=True,
+                           description="Chains slide along the body's capsules (head, neck, torso, pelvis, limbs) "
+                                       "and stay above the ground instead of passing through them")
+    show_body: BoolProperty(name="Show body capsules", default=False, update=_shown,
+                            description="Draw the capsules the chains keep out of in the 3D viewport")
+    head_radius: FloatProperty(update=_tuned, name="Head", **_RADIUS)
+    neck_radius: FloatProperty(update=_tuned, name="Neck", **_RADIUS)
+    torso_radius: FloatProperty(update=_tuned, name="Torso", **_RADIUS)
+    pelvis_radius: FloatProperty(update=_tuned, name="Pelvis", **_RADIUS)
+    upper_arm_radius: FloatProperty(update=_tuned, name="Upper arms", **_RADIUS)
+    forearm_radius: FloatProperty(update=_tuned, name="Forearms", **_RADIUS)
+    thigh_radius: FloatProperty(update=_tuned, name="Thighs", **_RADIUS)
+    shin_radius: FloatProperty(update=_tuned, name="Shins", **_RADIUS)
+    body_readout: StringProperty(name="Body capsules", options={"HIDDEN"})
 
 
 classes = (LeapwrightFollowThroughSettings,)
@@ -83,4 +108,6 @@ def unregister_properties():
     if _forget_kept_motion in bpy.app.handlers.load_pre:
         bpy.app.handlers.load_pre.remove(_forget_kept_motion)
     _forget_kept_motion()
+    from . import body_overlay
+    body_overlay.show(False)
     del bpy.types.Scene.leapwright_follow_through
