@@ -124,3 +124,35 @@ def test_the_mannequins_ponytail_stays_out_of_the_head_neck_torso_and_ground():
 def test_rigifys_ponytail_stays_out_of_the_head_neck_torso_and_ground():
     _check_kept_out(_rigify_jump)
 
+
+
+def test_a_skinned_neck_gives_the_neck_capsule_its_radius_and_the_panel_says_so():
+    # a tube of radius 0.055 m around Rigify's neck, skinned to its neck deform bones: every vertex lies
+    # 0.055 m from the neck's axis (plain geometry), so the fitted radius is 0.055 m, "from the skin"
+    rig = rigify_rig.load_generated_rig()
+    scene = bpy.context.scene
+    colliders = addon().follow_through.body_colliders
+    fit = colliders.fit_body(scene, rig)
+    k = [p.name for p in fit.parts].index("neck")
+    assert fit.sources[k].startswith("proportions")  # no mesh yet
+    mats = np.array([np.array(rig.matrix_world) @ np.array(rig.pose.bones[n].matrix) for n in fit.bones])[None]
+    start, end = (x[0, k] for x in colliders.landmark_positions(fit, mats, 1.0))
+    axis = (end - start) / np.linalg.norm(end - start)
+    u = np.cross(axis, (1.0, 0.0, 0.0))
+    u /= np.linalg.norm(u)
+    v = np.cross(axis, u)
+    ring = [0.055 * (np.cos(a) * u + np.sin(a) * v) for a in np.linspace(0, 2 * np.pi, 16, endpoint=False)]
+    verts = [tuple(start + t * (end - start) + r) for t in np.linspace(0.1, 0.9, 5) for r in ring]
+    mesh = bpy.data.meshes.new("neck_tube")
+    mesh.from_pydata(verts, [], [])
+    obj = bpy.data.objects.new("neck_tube", mesh)
+    scene.collection.objects.link(obj)
+    neck_bones = [n for n in rig.data.bones.keys() if n.startswith("DEF-spine.00") and n[-1] in "45"]
+    assert neck_bones, "Rigify's neck deform bones (DEF-spine.004/.005)"
+    group = obj.vertex_groups.new(name=neck_bones[0])
+    group.add(list(range(len(verts))), 1.0, "REPLACE")
+    obj.modifiers.new("Armature", "ARMATURE").object = rig
+    fit = colliders.fit_body(scene, rig)
+    k = [p.name for p in fit.parts].index("neck")
+    assert abs(fit.radii[k] - 0.055) < 1e-4
+    assert fit.sources[k] == "skin of neck_tube"
