@@ -244,17 +244,30 @@ def body_for_bake(scene, rig, request, matrices, parents):
     per_chain = []
     for members in chains:
         tips = heads[members] + lengths[members, None] * directions[members]
-        per_chain.append(chain_radii(np.vstack([heads[members[:1]], tips]), starts[0], ends[0], radii))
+        own = chain_radii(np.vstack([heads[members[:1]], tips]), starts[0], ends[0], radii)
+        per_chain.append(np.where(_within_reach(matrices[:, members[0], :3, 3] * unit, lengths[members].sum(),
+                                                starts, ends, radii), own, -1.0))
     text = readout(fit, radii, ground, {request.bones[m[0]]: r for m, r in zip(chains, per_chain)})
-    return {"starts": starts, "ends": ends, "chains": chains, "radii": per_chain, "ground": ground,
+    return {"starts": starts, "ends": ends, "chains": chains, "radii": [np.maximum(r, 0.0) for r in per_chain],
+            "ground": ground,
             "lengths": lengths, "text": text}
+
+
+def _within_reach(roots, reach, starts, ends, radii):
+    """Which parts (K,) a chain whose first head moves along ``roots`` (F, 3) [m] and that is ``reach``
+    long [m] can touch at some sample: the others are left out of its simulation (they cost time)."""
+    axis = ends - starts
+    span = np.maximum(np.sum(axis * axis, axis=-1), 1e-12)
+    along = np.clip(np.sum((roots[:, None] - starts) * axis, axis=-1) / span, 0.0, 1.0)
+    gap = np.linalg.norm(roots[:, None] - (starts + along[..., None] * axis), axis=-1) - radii[None]
+    return np.min(gap, axis=0) <= reach
 
 
 def readout(fit, radii, ground, per_chain):
     """The panel's text about the body: radii and their sources, the ground, what each chain collides with."""
     return json.dumps({"parts": {p.name: [round(float(r), 4), s] for p, r, s in zip(fit.parts, radii, fit.sources)},
                        "ground": round(float(ground), 4),
-                       "chains": {name: {p.name: round(float(r), 4) for p, r in zip(fit.parts, rs)}
+                       "chains": {name: {p.name: round(float(r), 4) for p, r in zip(fit.parts, rs) if r >= 0.0}
                                   for name, rs in per_chain.items()}})
 
 

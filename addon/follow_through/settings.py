@@ -73,7 +73,7 @@ class LeapwrightFollowThroughSettings(bpy.types.PropertyGroup):
                               description="Bake the last bake again at once whenever a chain setting changes "
                                           "(its motion is kept in memory, so only the chains are simulated)")
     readout: StringProperty(name="Peak offsets", options={"HIDDEN"})
-    keep_out: BoolProperty(update=_tuned, name="Keep out of the body", default=True,
+    keep_out: BoolProperty(update=_tuned, name="Keep out of the body", default=False,
                            description="Chains slide along the body's capsules (head, neck, torso, pelvis, limbs) "
                                        "and stay above the ground instead of passing through them")
     show_body: BoolProperty(name="Show body capsules", default=False, update=_shown,

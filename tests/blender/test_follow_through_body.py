@@ -85,7 +85,7 @@ def _worst(rig, bones, body):
     colliders = addon().follow_through.body_colliders
     fit = colliders.fit_body(scene, rig)
     radii = body["chains"][bones[0]]
-    k_checked = [k for k, p in enumerate(fit.parts) if p.name in CHECKED and radii[p.name] > 0.0]
+    k_checked = [k for k, p in enumerate(fit.parts) if p.name in CHECKED and radii.get(p.name, 0.0) > 0.0]
     assert {fit.parts[k].name for k in k_checked} >= {"neck", "torso"}
     worst = -np.inf
     for f in range(scene.frame_start, scene.frame_end + 1):
@@ -93,7 +93,7 @@ def _worst(rig, bones, body):
         ev = rig.evaluated_get(bpy.context.evaluated_depsgraph_get())
         world = np.array(ev.matrix_world)
         mats = np.array([world @ np.array(ev.pose.bones[n].matrix) for n in fit.bones])[None]
-        starts, ends = colliders.body_segments(fit, np.array([radii[p.name] or 1.0 for p in fit.parts]), mats, 1.0)
+        starts, ends = colliders.body_segments(fit, np.array([radii.get(p.name) or 1.0 for p in fit.parts]), mats, 1.0)
         for b in bones:
             tip = np.array(ev.matrix_world @ ev.pose.bones[b].tail)
             for k in k_checked:
