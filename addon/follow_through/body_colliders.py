@@ -138,9 +138,14 @@ def fit_body(scene, rig):
     parts = tuple(p for p in BODY_PARTS if p.start in landmarks.points and p.end in landmarks.points)
     tails = np.asarray(rest.tails)
     up = np.asarray(rest.up, float)
+    # standing height from the top of the skull to the lowest point of the feet (not the whole tree:
+    # a ponytail or a prop held up would count)
+    feet = [_point(rest, landmarks.points[n], tails) @ up for n in landmarks.points
+            if n.split(".")[0] in ("ankle", "ball", "toe_tip")]
     span = np.concatenate([rest.heads @ up, tails @ up])
+    top = _point(rest, landmarks.points["vertex"], tails) @ up if "vertex" in landmarks.points else span.max()
     metres = _metres_per_unit(scene, rig)
-    stature = float(span.max() - span.min()) * metres
+    stature = float(top - (min(feet) if feet else span.min())) * metres
     owner, segments = _part_bones(rest, landmarks, parts)
     radii, sources = [], []
     for k, part in enumerate(parts):
