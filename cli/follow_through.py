@@ -97,8 +97,10 @@ def bake_file(path, options):
                 frame_end=end, key_tolerance=math.radians(options["key_tolerance_deg"]),
                 on_twos=options["on_twos"], reset_frames=follow_bake.marker_resets(scene, start, end, ""),
                 gravity=jump_gravity(scene))
-            work = follow_bake.prepare(scene, rig, request)
-            follow_bake.apply(rig, work)
+            job = addon_module("follow_through.bake_job").BakeJob(scene, rig, request)
+            job.run()
+            job.write()  # as the panel writes it: deltas corrected to play through the rig's constraints
+            work = job.work
             top = max(work.peaks, key=work.peaks.get)
             report.update(preset=options["preset"], frames=[int(start), int(end)], keys=int(work.keys),
                           layer=follow_bake.TRACK, largest_swing_deg=math.degrees(work.peaks[top]),

@@ -20,7 +20,7 @@ import numpy.ma  # noqa: F401
 
 from ..rig.fingerprint import motion_fingerprint
 from ..rig.sampling import PoseSampling
-from . import bake, sampled_motion
+from . import bake, played_deltas, sampled_motion
 from .blas_threads import blas_threads, one_blas_thread
 
 #: BLAS threads reported from inside the last simulation (None: no OpenBLAS found), for the benchmark and tests.
@@ -67,6 +67,7 @@ class BakeJob:
         self.names, self.frames, self.eulers, self.channels = bake.sampling_plan(rig, request, scene)
         self.key = sampled_motion.take_key(self.names, self.frames, self.channels, len(request.bones))
         self.work, self.reused, self.cancelled = None, False, False
+        self.result, self.played_within = None, 0.0
         self.timings = {"sampling": 0.0, "simulation": 0.0, "curves": 0.0}
         self._take = self._sampling = self._thread = None
         self._body_text = ""
@@ -133,6 +134,7 @@ class BakeJob:
         result = self._outcome[0]
         if isinstance(result, BaseException):
             raise result
+        self.result = result
         start = time.perf_counter()
         self.work = bake.curves_for(self.rig, self.request.bones, self.eulers, self.frames, self._take.values, result,
                                     self._body_text)
@@ -174,6 +176,19 @@ class BakeJob:
         if not bake.apply(self.rig, self.work):  # a new layer may have moved the animator's action to a track
             sampled_motion.restamp(self.scene, self.rig,
                                    motion_fingerprint(self.scene, self.rig, skip_tracks=(bake.TRACK,)))
+        if played_deltas.constrained_chain(self.rig, self.request.bones):
+            self.played_within = played_deltas.play_as_simulated(self.scene, self.rig, self, self._rewrite,
+                                                                 bake.chain_levels(self.rig, self.request.bones))
+
+    @property
+    def animated(self):
+        """Sampled world matrices' 3x3 parts (F, B, 3, 3) of the chosen bones (the animated motion)."""
+        return self._take.matrices[:, :len(self.request.bones), :3, :3]
+
+    def _rewrite(self, result):
+        self.work = bake.curves_for(self.rig, self.request.bones, self.eulers, self.frames, self._take.values, result,
+                                    self._body_text)
+        bake.apply(self.rig, self.work)
 
     def run(self):
         """Prepare to the end in this thread; returns the work (not yet written)."""
