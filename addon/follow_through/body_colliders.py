@@ -239,10 +239,10 @@ def body_for_bake(scene, rig, request, matrices, parents):
                 "ground": ground, "lengths": lengths,
                 "text": json.dumps({"parts": {}, "ground": round(ground, 4), "chains": {}, "problem": str(exc)})}
     typed = dict(request.radii)
-    radii = fit.radii.copy()
+    radii, sources = fit.radii.copy(), list(fit.sources)
     for k, part in enumerate(fit.parts):
         if typed.get(part.name.split(".")[0], 0.0) > 0.0:
-            radii[k] = typed[part.name.split(".")[0]]
+            radii[k], sources[k] = typed[part.name.split(".")[0]], "panel"
     starts, ends = body_segments(fit, radii, matrices[:, chosen:], unit)
     heads = matrices[0, :chosen, :3, 3] * unit
     directions = axes / np.maximum(np.linalg.norm(axes, axis=1, keepdims=True), 1e-12)
@@ -252,7 +252,7 @@ def body_for_bake(scene, rig, request, matrices, parents):
         own = chain_radii(np.vstack([heads[members[:1]], tips]), starts[0], ends[0], radii)
         per_chain.append(np.where(_within_reach(matrices[:, members[0], :3, 3] * unit, lengths[members].sum(),
                                                 starts, ends, radii), own, -1.0))
-    text = readout(fit, radii, ground, {request.bones[m[0]]: r for m, r in zip(chains, per_chain)})
+    text = readout(fit, radii, ground, {request.bones[m[0]]: r for m, r in zip(chains, per_chain)}, sources)
     return {"starts": starts, "ends": ends, "chains": chains, "radii": [np.maximum(r, 0.0) for r in per_chain],
             "ground": ground,
             "lengths": lengths, "text": text}
@@ -268,9 +268,11 @@ def _within_reach(roots, reach, starts, ends, radii):
     return np.min(gap, axis=0) <= reach
 
 
-def readout(fit, radii, ground, per_chain):
-    """The panel's text about the body: radii and their sources, the ground, what each chain collides with."""
-    return json.dumps({"parts": {p.name: [round(float(r), 4), s] for p, r, s in zip(fit.parts, radii, fit.sources)},
+def readout(fit, radii, ground, per_chain, sources=None):
+    """The panel's text about the body: radii and their sources (``sources``, else the fit's), the ground,
+    what each chain collides with."""
+    sources = fit.sources if sources is None else sources
+    return json.dumps({"parts": {p.name: [round(float(r), 4), s] for p, r, s in zip(fit.parts, radii, sources)},
                        "ground": round(float(ground), 4),
                        "chains": {name: {p.name: round(float(r), 4) for p, r in zip(fit.parts, rs) if r >= 0.0}
                                   for name, rs in per_chain.items()}})

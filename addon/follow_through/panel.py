@@ -65,7 +65,9 @@ def _draw_body(layout, s):
     col = box.column(align=True)
     col.enabled = s.keep_out
     col.prop(s, "show_body")
-    col.label(text="Radii (0: fitted)")
+    for line in wrap_text("Radii (0: fitted to the skinned mesh, or to the body's proportions when no mesh "
+                          "is skinned)", 40):
+        col.label(text=line)
     for name in ("head", "neck", "torso", "pelvis", "upper_arm", "forearm", "thigh", "shin"):
         col.prop(s, f"{name}_radius")
     try:

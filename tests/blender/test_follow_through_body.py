@@ -11,12 +11,14 @@ Distances are plain geometry (closest point on a segment: Ericson 2005, "Real-Ti
 Collision Detection", sec. 5.1.2).
 """
 
+import importlib
 import json
 import os
 import sys
 
 import bpy
 import numpy as np
+import pytest
 
 import rigify_rig
 from scene_probe import MODULE, addon, snapshot
@@ -106,11 +108,15 @@ def _worst(rig, bones, body):
     return worst
 
 
-def _check_kept_out(make_jump):
+def _check_kept_out(make_jump, typed_neck=0.0):
     rig, bones = make_jump()
+    bpy.context.scene.leapwright_follow_through.neck_radius = typed_neck
     before = snapshot()
     body = _bake(rig, bones, keep_out=True)
     assert all(part in body["parts"] for part in CHECKED)
+    if typed_neck:  # a radius typed in the panel is the one the chain is kept out of, and the panel says so
+        assert body["parts"]["neck"] == [typed_neck, "panel"]
+        assert body["chains"][bones[0]]["neck"] == typed_neck
     kept_out = _worst(rig, bones, body)
     assert bpy.ops.leapwright.remove_follow_through() == {"FINISHED"}
     assert snapshot() == before  # Remove takes back everything the bake added
@@ -121,12 +127,85 @@ def _check_kept_out(make_jump):
 
 
 def test_the_mannequins_ponytail_stays_out_of_the_head_neck_torso_and_ground():
-    _check_kept_out(_mannequin_jump)
+    # the mannequin's free ponytail only grazes its fitted neck (0.95 mm in), so the neck is typed thicker
+    # (a high collar, 10 cm): free, the ponytail goes 3 cm into it
+    _check_kept_out(_mannequin_jump, typed_neck=0.1)
 
 
 def test_rigifys_ponytail_stays_out_of_the_head_neck_torso_and_ground():
     _check_kept_out(_rigify_jump)
 
+
+def test_rigifys_ponytail_plays_what_was_simulated():
+    # Rigify's tentacle controls copy their parent's local rotation (a rig we did not build), so a delta
+    # keyed on a parent turns the bones below it again: the bake reads the layer back and corrects the
+    # deltas. Every tip read back through the depsgraph lies where the core's simulated rotations put it:
+    # the first head as animated, each later head carried by its parent's simulated rotation.
+    rig, bones = _rigify_jump()
+    scene = bpy.context.scene
+    scene.leapwright_follow_through.preset = "hair"
+    ft = addon().follow_through
+    request = ft.bake.request_from_panel(bpy.context, rig, list(bones), frame_range=(scene.frame_start, scene.frame_end))
+    job = ft.bake_job.BakeJob(scene, rig, request)
+    job.run()
+    job.write()
+    assert job.result.peak_offsets.max() > 0.3  # the ponytail swings (17 deg or more), so a wrong delta shows
+    rotate = addon().core.base.rotation_vectors.rotate
+    animated = job._take.matrices[:, :len(bones)]
+    offsets = job.result.world_offsets
+    heads = animated[:, :, :3, 3].copy()
+    directions = np.stack([rotate(offsets[:, b], animated[:, b, :3, 1] / np.linalg.norm(animated[:, b, :3, 1],
+                                                                                          axis=-1)[:, None])
+                           for b in range(len(bones))], axis=1)
+    for b in range(1, len(bones)):
+        heads[:, b] = heads[:, b - 1] + rotate(offsets[:, b - 1], animated[:, b, :3, 3] - animated[:, b - 1, :3, 3])
+    lengths = np.array([rig.data.bones[n].length for n in bones])
+    tips = heads + lengths[None, :, None] * directions
+    now, worst = scene.frame_current, 0.0
+    for i, f in enumerate(job.frames):
+        scene.frame_set(int(f))
+        ev = rig.evaluated_get(bpy.context.evaluated_depsgraph_get())
+        played = np.array([np.array(ev.matrix_world @ ev.pose.bones[n].tail) for n in bones])
+        worst = max(worst, float(np.max(np.linalg.norm(played - tips[i], axis=-1))))
+    scene.frame_set(now)
+    assert worst < 0.001, worst
+
+
+def test_a_bad_bone_keeps_out_nothing_and_writes_nothing():
+    rig, bones = _rigify_jump()
+    scene = bpy.context.scene
+    scene.leapwright_follow_through.keep_out = True
+    before = snapshot()
+    bpy.context.view_layer.objects.active = rig
+    with pytest.raises(RuntimeError, match="no bone 'no such bone'"):  # the operator's error, as a script sees it
+        bpy.ops.leapwright.bake_follow_through(bones=",".join(bones) + ",no such bone")
+    assert snapshot() == before
+    assert scene.leapwright_follow_through.body_readout == ""
+
+
+def test_the_drawn_capsules_have_the_panels_radii():
+    # the viewport outline of each capsule lies at its radius from its segment (plain geometry), with a
+    # typed radius drawn as typed
+    rig = rigify_rig.load_generated_rig()
+    scene = bpy.context.scene
+    bpy.context.view_layer.objects.active = rig
+    scene.leapwright_follow_through.torso_radius = 0.2
+    overlay = importlib.import_module(MODULE + ".follow_through.body_overlay")  # loaded when first asked to draw
+    colliders = addon().follow_through.body_colliders
+    fit = colliders.fit_body(scene, rig)
+    lines = overlay._geometry(bpy.context)
+    assert len(lines) == len(fit.parts)
+    radii = [0.2 if p.name == "torso" else r for p, r in zip(fit.parts, fit.radii)]
+    mats = np.array([np.array(rig.matrix_world) @ np.array(rig.pose.bones[n].matrix) for n in fit.bones])[None]
+    starts, ends = colliders.body_segments(fit, np.array(radii), mats, 1.0)
+    for k, pts in enumerate(lines):
+        gaps = [_distance_to_segment(p, starts[0, k], ends[0, k]) for p in pts]
+        assert np.allclose(gaps, radii[k], atol=1e-6), fit.parts[k].name
+    overlay.show(True)
+    overlay.show(True)
+    assert overlay.is_drawing()
+    overlay.show(False)
+    assert not overlay.is_drawing()
 
 
 def test_a_skinned_neck_gives_the_neck_capsule_its_radius_and_the_panel_says_so():
