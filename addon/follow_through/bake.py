@@ -279,18 +279,6 @@ def simulation(scene, rig, request, matrices):
     return call
 
 
-def chain_levels(rig, bones):
-    """Depth of the deepest chain among ``bones`` (1 for bones with no chosen parent)."""
-    _, parents, _, _ = rig_sampling.bone_rest_data(rig, bones)
-    deepest = 0
-    for b in range(len(parents)):
-        depth, j = 1, parents[b]
-        while j >= 0:
-            depth, j = depth + 1, parents[j]
-        deepest = max(deepest, depth)
-    return deepest
-
-
 def curves_for(rig, names, eulers, frames, values, bake, body=""):
     """The curves of a simulated bake (``bake`` a ChainBake) of the bones ``names``, as :class:`LagWork`."""
     interpolation = "CONSTANT" if bake.stepped else "LINEAR"

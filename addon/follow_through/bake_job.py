@@ -53,6 +53,11 @@ class BakeJob:
         The motion kept from the last bake was used (nothing sampled).
     timings : dict of str -> float
         Seconds spent sampling (0 when reused), simulating and building the curves.
+    result : ChainBake or None
+        The core's result, once simulated.
+    read_backs : list of float
+        After :meth:`write` on a chain with constraints (:mod:`.played_deltas`): the largest angle
+        between played and simulated rotations at each read-back [rad]; empty when none was needed.
 
     Raises
     ------
@@ -67,7 +72,7 @@ class BakeJob:
         self.names, self.frames, self.eulers, self.channels = bake.sampling_plan(rig, request, scene)
         self.key = sampled_motion.take_key(self.names, self.frames, self.channels, len(request.bones))
         self.work, self.reused, self.cancelled = None, False, False
-        self.result, self.played_within = None, 0.0
+        self.result, self.read_backs = None, []
         self.timings = {"sampling": 0.0, "simulation": 0.0, "curves": 0.0}
         self._take = self._sampling = self._thread = None
         self._body_text = ""
@@ -176,9 +181,9 @@ class BakeJob:
         if not bake.apply(self.rig, self.work):  # a new layer may have moved the animator's action to a track
             sampled_motion.restamp(self.scene, self.rig,
                                    motion_fingerprint(self.scene, self.rig, skip_tracks=(bake.TRACK,)))
-        if played_deltas.constrained_chain(self.rig, self.request.bones):
-            self.played_within = played_deltas.play_as_simulated(self.scene, self.rig, self, self._rewrite,
-                                                                 bake.chain_levels(self.rig, self.request.bones))
+        passes = played_deltas.correction_passes(self.rig, self.request.bones)
+        if passes:
+            self.read_backs = played_deltas.play_as_simulated(self.scene, self.rig, self, self._rewrite, passes)
 
     @property
     def animated(self):

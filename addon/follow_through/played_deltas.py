@@ -32,19 +32,28 @@ def _constrained(pose_bone):
     return any(c.enabled and c.influence > 0.0 for c in pose_bone.constraints)
 
 
-def constrained_chain(rig, bones):
-    """True when a constraint sits on one of ``bones`` or between one of them and its nearest chosen
-    ancestor, so a keyed delta may not play as simulated."""
-    chosen = set(bones)
-    for name in bones:
+def correction_passes(rig, bones):
+    """Read-backs needed so ``bones`` play as simulated: 0 when no constraint sits on a chosen bone or
+    between one and its nearest chosen ancestor (above a chain's first bone they only move it as
+    animated), else the chain levels from the first such bone's down
+    (a level's deltas are exact once every level above it plays as simulated)."""
+    _, parents, _, _ = rig_sampling.bone_rest_data(rig, bones)
+    chosen, first, deepest = set(bones), None, 0
+    for b, name in enumerate(bones):
+        level, j = 0, parents[b]
+        while j >= 0:
+            level, j = level + 1, parents[j]
+        deepest = max(deepest, level)
+        # a first bone's own constraints only: those above it move it as animated, whatever is keyed
         pb = rig.pose.bones[name]
         while pb is not None:
             if _constrained(pb):
-                return True
-            pb = pb.parent
-            if pb is None or pb.name in chosen:
+                first = level if first is None else min(first, level)
                 break
-    return False
+            pb = pb.parent if level else None
+            if pb is not None and pb.name in chosen:
+                break
+    return 0 if first is None else deepest - first + 1
 
 
 def simulated_rotations(animated, world_offsets):
@@ -63,37 +72,38 @@ def _angles(played, wanted):
     return np.arccos(np.clip(cos, -1.0, 1.0))
 
 
-def play_as_simulated(scene, rig, job, write, levels):
-    """Correct the written deltas of ``job`` until they play as simulated (see the module's text).
+def play_as_simulated(scene, rig, job, write, passes):
+    """Correct the written deltas of ``job`` so they play as simulated (see the module's text).
 
     Parameters
     ----------
     job : bake_job.BakeJob
         A job whose curves were just written (``job.result``: the core's ChainBake; ``job.animated``:
-        the sampled world rotations of its bones).
+        the sampled world rotations of its bones; ``job.frames``: the scene frames).
     write : callable
         ``write(bake) -> None``: turns a ChainBake into curves and writes them over the layer.
-    levels : int
-        Depth of the deepest chain (1 for single bones).
+    passes : int
+        Read-backs to make (:func:`correction_passes`); each corrects every bone still off, and the
+        one after it reads a level more exactly.
 
     Returns
     -------
-    float
-        Largest angle left between a played and a simulated rotation at a keyed frame [rad].
+    list of float
+        Largest angle between a played and a simulated rotation at a keyed frame, at each read-back [rad].
     """
     result = job.result
     wanted = simulated_rotations(job.animated, result.world_offsets)
-    frames, mask = job.frames, result.key_mask
+    mask = result.key_mask
     quats = np.array(result.quaternions, dtype=float, copy=True)
-    worst = np.inf
-    for _ in range(levels + 1):
-        played = _played_rotations(scene, rig, frames, job.request.bones)
+    seen = []
+    for _ in range(passes):
+        played = _played_rotations(scene, rig, job.frames, job.request.bones)
         angles = np.where(mask, _angles(played, wanted), 0.0)
-        worst = float(angles.max(initial=0.0))
-        if worst <= PLAYED_WITHIN:
+        seen.append(float(angles.max(initial=0.0)))
+        if seen[-1] <= PLAYED_WITHIN:
             break
         fix = matrix_to_quaternion(np.einsum("fbji,fbjk->fbik", played, wanted))
         quats = np.where((angles > PLAYED_WITHIN)[..., None], quaternion_multiply(quats, fix), quats)
         quats *= np.where(quats[..., :1] < 0.0, -1.0, 1.0)
         write(dataclasses.replace(result, quaternions=quats))
-    return worst
+    return seen
