@@ -291,13 +291,20 @@ def find_ballistic_stretches(t, z, tol, min_gravity, noise_sd=0.0):
     free = np.zeros(n, bool)
     visited = np.zeros(n, bool)
     candidates = {}
+    grown = {}  # growth from a seed depends on the seed alone here (nothing is taken yet)
+
+    def grow_from(start):
+        if start not in grown:
+            grown[start] = _grow(t, z, start, start + m - 1, tol, free)
+        return grown[start]
+
     for _, s in seeds:
         if visited[s:s + m].all():
             continue
-        first, last, _ = _grow(t, z, s, s + m - 1, tol, free)
+        first, last, _ = grow_from(s)
         for _ in range(3):
             mid = max(min((first + last) // 2 - m // 2, n - m), 0)
-            again = _grow(t, z, mid, mid + m - 1, tol, free)
+            again = grow_from(mid)
             if (again[0], again[1]) == (first, last) or again[1] - again[0] <= last - first:
                 break
             first, last = again[0], again[1]
