@@ -3,7 +3,7 @@
 Runs ``bench/follow_through.py`` at the demo size (61-bone rig, 30 hair bones,
 250 frames) and at 300 chain bones x 4,000 frames, and, when they exist,
 ``bench/plan_speed.py`` (plan time, ``plan_ms``) and ``bench/check_path.py``
-(checking a 1,000,000-sample path, ``check_1e6_s``); a missing or failing
+(checking a 1,000,000-sample path, ``check_1e6_s`` and ``check_1e6_peak_mb``); a missing or failing
 one gives null. Prints a line per figure, then one JSON object as the last line.
 
 Usage::
@@ -38,11 +38,14 @@ def last_json(cmd, timeout):
 
 def optional_figure(script, key, timeout=300):
     """``key`` from the last JSON line of another helper's benchmark script, or None when it is absent."""
+    return optional_figures(script, (key,), timeout)[0]
+
+
+def optional_figures(script, keys, timeout=300):
+    """``keys`` from one run of a benchmark script (each None when the script or the key is absent)."""
     path = os.path.join(HERE, script)
-    if not os.path.exists(path):
-        return None
-    out = last_json([sys.executable, path], timeout)
-    return None if out is None else out.get(key)
+    out = last_json([sys.executable, path], timeout) if os.path.exists(path) else None
+    return [None if out is None else out.get(k) for k in keys]
 
 
 def scaling_exponent(points, column):
@@ -67,9 +70,10 @@ def _r(x, digits=3):
     return None if x is None or (isinstance(x, float) and not math.isfinite(x)) else round(x, digits)
 
 
-def summary(demo, large, plan_ms, check_s):
+def summary(demo, large, plan_ms, check_s, check_peak_mb=None):
     """The figures (ratios where a ratio fits) and the lines printed for them."""
-    out = {"blender": demo["blender"], "plan_ms": plan_ms, "check_1e6_s": check_s}
+    out = {"blender": demo["blender"], "plan_ms": plan_ms, "check_1e6_s": check_s,
+           "check_1e6_peak_mb": check_peak_mb}
     fl = demo["floor_s"]
     out.update(
         floor_ms=_r(fl * 1e3, 2),
@@ -125,7 +129,7 @@ def _print(out, demo, large):
               f"nla.bake takes {out['large_speedup_vs_builtin_bake']} x the re-bake")
         print(f"  cost ~ (bones x frames)^{out['scaling_exponent']} (bones^{out['scaling_exponent_bones']} "
               f"frames^{out['scaling_exponent_frames']}); simulation alone ^{out['simulation_scaling_exponent']}")
-    print(f"checking a 1,000,000-sample path: {out['check_1e6_s']} s")
+    print(f"checking a 1,000,000-sample path: {out['check_1e6_s']} s, peak memory {out['check_1e6_peak_mb']} MB")
 
 
 def main(argv=None):
@@ -139,7 +143,7 @@ def main(argv=None):
         sys.exit("the demo-size benchmark failed")
     large = None if args.skip_large else last_json([sys.executable, script, "--zip", args.zip, "--size", "large"], 1200)
     out = summary(demo, large, optional_figure("plan_speed.py", "plan_ms"),
-                  optional_figure("check_path.py", "check_1e6_s"))
+                  *optional_figures("check_path.py", ("check_1e6_s", "check_1e6_peak_mb")))
     _print(out, demo, large)
     print(json.dumps(out))
 

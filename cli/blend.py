@@ -128,8 +128,9 @@ def sample_blend_track(path, object_name, bone_name=None, follow="auto", table="
     """The path the check follows, over the scene's frame range, as the panel's Check Jump samples it.
 
     The choice is the add-on's (``addon.check.path``): ``auto`` follows the whole-body
-    centre of mass of a rig with a bone map, bone masses or the in-air correction layer,
-    else the bone (or the object); ``bone`` and ``body`` force one.
+    centre of mass whenever the rig reads as a body (its bone tree, or a bone map or bone
+    masses it carries), else the bone (``bone_name``, else the body bone saved in the
+    file's jump panel), else the object; ``bone`` and ``body`` force one.
 
     Parameters
     ----------
@@ -156,7 +157,8 @@ def sample_blend_track(path, object_name, bone_name=None, follow="auto", table="
         one the jump was planned under; Blender's physics gravity is not read.
     checked : dict
         ``follows`` ("body", "bone" or "object"), ``text`` ("checked the whole-body COM
-        (map found from the bone tree)"), ``note`` (why Automatic fell back, or "") and
+        (map found from the bone tree)"), ``note`` (why Automatic fell back, or ""),
+        ``reason`` (why this path: "Automatic: the rig reads as a body") and
         ``stretch``: the deform legs and arms longer than at rest, read from the evaluated
         rig over the scene's range by the same code as the panel's Check Jump
         (:func:`limb_stretch`).
@@ -175,10 +177,12 @@ def sample_blend_track(path, object_name, bone_name=None, follow="auto", table="
     if bone_name and (obj.type != "ARMATURE" or bone_name not in obj.pose.bones):
         raise InvalidTrajectoryError(f"{path}: {object_name!r} has no pose bone {bone_name!r}; "
                                      "give --bone with the body (COM) bone's name")
+    source = "given with --bone" if bone_name else ""
     if not bone_name and obj.type == "ARMATURE":
         # As the panel's Check Jump: the body bone saved in the file's jump panel.
         saved = saved_setting(scene, "com_bone")
         bone_name = saved if isinstance(saved, str) and saved in obj.pose.bones else None
+        source = "saved in the file's jump panel" if bone_name else ""
     choose = addon_module("check.path")
     try:
         found = choose.checked_path(scene, obj, bone_name or "", FOLLOW_OPTIONS[follow], table)
@@ -186,7 +190,8 @@ def sample_blend_track(path, object_name, bone_name=None, follow="auto", table="
         raise InvalidTrajectoryError(f"{path}: {choose.body_refusal(exc, 'give --follow bone')}") from None
     fps = scene.render.fps / scene.render.fps_base
     gravity = jump_gravity(scene)
-    checked = {"follows": found.follows, "text": found.text, "note": found.note,
+    reason = found.reason + (f" ({source})" if found.follows == "bone" and source else "")
+    checked = {"follows": found.follows, "text": found.text, "note": found.note, "reason": reason,
                "stretch": limb_stretch(scene, obj)}
     return found.frames, found.points, fps, gravity, checked
 

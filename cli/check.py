@@ -8,9 +8,10 @@ body's joints instead: with them the whole-body centre of mass is checked in the
 as it is for a rig in a .blend (the panel's Check Body Arc).
 
 For a .blend the path checked is chosen as the panel's Check Jump chooses it
-(``--follow``, default ``auto``): the whole-body centre of mass of a rig with a bone
-map, bone masses or the in-air correction layer (after Keep Body on Its Arc the hips
-are rightly off a parabola while the limbs swing), else the ``--bone`` (or the object).
+(``--follow``, default ``auto``): the whole-body centre of mass whenever the rig reads
+as a body (in the air only it must fall on one parabola; after Keep Body on Its Arc the
+hips are rightly off one while the limbs swing), else the ``--bone`` or the body bone
+saved in the file's jump panel, else the object. The report says which, and why.
 
 Exit codes: 0 no problem found (stylisations may still be listed), 1 problems found,
 2 bad input (one line on stderr).
@@ -55,9 +56,9 @@ def add_parser(subparsers):
     p.add_argument("--bone", help=".blend: the body (COM) bone of --object; its head is sampled")
     p.add_argument("--follow", choices=("auto", "bone", "body"), default="auto",
                    help=".blend: what is checked. body: the whole-body centre of mass (in the air only it "
-                        "must fall on one parabola); bone: --bone's head, or the object without --bone; "
-                        "auto (default): body when the rig has a bone map (lw_body_map), bone masses "
-                        "(lw_bone_masses) or the in-air correction layer lw:body, else bone")
+                        "must fall on one parabola); bone: --bone's head (else the body bone saved in the "
+                        "jump panel, else the object); auto (default): body whenever the rig reads as a "
+                        "body, else bone")
     p.add_argument("--bvh-units", choices=("m", "cm", "mm", "in"),
                    help=".bvh: the file's length unit (default: found from the skeleton's height)")
     p.add_argument("--bvh-up", choices=("y", "z"),
@@ -92,6 +93,14 @@ def _leg_lengths(items, feet):
             raise InvalidTrajectoryError(f"--leg-length {item!r}: the length must be positive")
         out[name] = length
     return out
+
+
+def gravity_option(value, default=None):
+    """The ``--gravity`` option [m/s^2]: a number or earth/moon/mars, its sign ignored (a
+    gravity pulls down whichever way it is written); ``default`` when it was not given."""
+    if value is None:
+        return default
+    return gravity_from(str(value).strip().lstrip("-"))
 
 
 def _frame_value(f):
@@ -250,7 +259,7 @@ def check_path(path, fps=None, gravity=None, leg_lengths=(), object_name=None, b
                                                                                 follow, body_table)
             feet = []
             fps = parse_fps(fps) if fps is not None else scene_fps
-            given = gravity_from(str(gravity).strip().lstrip("-")) if gravity is not None else None
+            given = gravity_option(gravity)
             gravity = given if given is not None else scene_g
             arc = body_arc.blend_body_arc(object_name, given, tolerance, body_table)
         elif path.lower().endswith(".bvh"):
@@ -259,12 +268,12 @@ def check_path(path, fps=None, gravity=None, leg_lengths=(), object_name=None, b
             frames, positions, file_fps, checked = bvh_track(path, bvh_units, bvh_up, follow, body_table, bone_name)
             feet = []
             fps = parse_fps(fps) if fps is not None else file_fps
-            gravity = gravity_from(str(gravity if gravity is not None else BLENDER_DEFAULT_GRAVITY).strip().lstrip("-"))
+            gravity = gravity_option(gravity, BLENDER_DEFAULT_GRAVITY)
         else:
             if fps is None:
                 raise InvalidTrajectoryError("a CSV needs --fps (e.g. 24 or 24000/1001)")
             fps = parse_fps(fps)
-            gravity = gravity_from(str(gravity if gravity is not None else BLENDER_DEFAULT_GRAVITY).strip().lstrip("-"))
+            gravity = gravity_option(gravity, BLENDER_DEFAULT_GRAVITY)
             frames, positions, tracks = read_csv_tracks(path)
             foot_columns = {k: v for k, v in tracks.items() if k not in body_arc.LANDMARK_COLUMNS}
             lengths = _leg_lengths(list(leg_lengths), foot_columns)
@@ -368,6 +377,7 @@ def run(args):
         print(json.dumps(report_dict(result, arc, checked), indent=2))
     else:
         head = [f"  {checked['text']}"] if checked is not None else []
+        head += [f"  why: {checked['reason']}"] if checked is not None and checked.get("reason") else []
         text = report_text(result, path).split("\n")
         print("\n".join(text[:1] + head + text[1:] + arc_text(arc) + stretch_text(checked)))
     return 1 if has_problems(result, arc, checked) else 0

@@ -113,7 +113,8 @@ class LEAPWRIGHT_OT_check_jump(bpy.types.Operator):
         settings.summary = (f"{path.text}: {len(result.flights)} flight(s), implied g "
                             + (f"{g:.3f} m/s²" if g is not None else "none (nothing ballistic)")
                             + f" against the jump's {gravity:.4g} m/s², "
-                            f"{len(result.findings) + len(stretched)} finding(s)")
+                            f"{len(result.findings) + len(stretched)} finding(s)"
+                            + (f"; {path.reason}" if path.reason else ""))
         path_overlay.remember_check(frames, points, result, fps, scene_units.metres_per_unit(scene))
         if path_overlay.is_drawing():
             path_overlay.refresh(scene)

@@ -11,10 +11,10 @@ The choice (:data:`FOLLOW_ITEMS`):
 * ``BONE`` — the body bone's head (or the object's origin when no bone is set);
 * ``BODY`` — the whole-body COM (:mod:`body_com`); a rig that cannot be read as a body
   is refused with :class:`body_com.BodyError`;
-* ``AUTO`` — the whole-body COM when the rig says it is a body: it carries a segment
-  map (:data:`body_com.MAP_PROPERTY`) or per-bone masses (:data:`body_com.MASS_PROPERTY`),
-  or it has the in-air correction layer; otherwise the body bone. When the rig says so
-  but cannot be read, the body bone is checked and the reason is given.
+* ``AUTO`` — the whole-body COM whenever the rig reads as a body: its segment map found
+  from the bone tree (the reading Body in the Air uses), or a map or per-bone masses it
+  carries (:data:`body_com.MAP_PROPERTY`, :data:`body_com.MASS_PROPERTY`); otherwise the
+  body bone, otherwise the object. What was followed and why is said in ``reason``.
 
 Every path is sampled over the scene's frame range, in scene time, in metres. This
 module is shared by the panel's Check Jump and ``leapwright check`` on a .blend.
@@ -31,8 +31,9 @@ from ..rig import sampling as rig_sampling
 from ..body.arc import CAPABILITY as AIR_CAPABILITY
 
 FOLLOW_ITEMS = (
-    ("AUTO", "Automatic", "The whole-body centre of mass when the rig has a bone map, bone masses or the "
-                          "in-air correction layer; otherwise the body bone"),
+    ("AUTO", "Automatic", "The whole-body centre of mass whenever the rig reads as a body (its bones found "
+                          "from the bone tree, or a bone map or bone masses set by hand); otherwise the body "
+                          "bone, or the object when none is set"),
     ("BONE", "Body bone", "The head of the body bone under Character (the object when none is set)"),
     ("BODY", "Whole-body COM", "The centre of mass of the whole body, from the bones mapped to body segments"),
 )
@@ -48,8 +49,9 @@ class CheckedPath:
     frames : ndarray (F,)  scene frames
     points : ndarray (F, 3)  world positions [m]
     follows : str  "body", "bone" or "object"
-    label : str  what was checked, for the summary ("the whole-body COM (map set by hand)")
-    note : str  why Automatic did not follow the whole-body COM it was asked to, or ""
+    label : str  what was checked, for the summary ("the whole-body COM (map found from the bone tree)")
+    note : str  why Automatic did not follow the whole-body COM, or ""
+    reason : str  why this path was followed ("Automatic: the rig reads as a body"), or ""
     """
 
     frames: np.ndarray
@@ -57,6 +59,7 @@ class CheckedPath:
     follows: str
     label: str
     note: str = ""
+    reason: str = ""
 
     @property
     def text(self):
@@ -102,11 +105,24 @@ def sample_bone_path(scene, rig, bone):
     return frames, points * m
 
 
-def _bone_path(scene, rig, bone, note=""):
+def _bone_path(scene, rig, bone, note="", reason=""):
     frames, points = sample_bone_path(scene, rig, bone)
     if bone:
-        return CheckedPath(frames, points, "bone", f"the body bone '{bone}'", note)
-    return CheckedPath(frames, points, "object", f"the object '{rig.name}'", note)
+        return CheckedPath(frames, points, "bone", f"the body bone '{bone}'", note, reason)
+    return CheckedPath(frames, points, "object", f"the object '{rig.name}'", note, reason)
+
+
+def _fallback(rig, bone, exc):
+    """``(note, reason)`` of Automatic following the body bone (or the object) instead of the body."""
+    instead = f"the body bone '{bone}'" if bone else "the object (no body bone is set)"
+    if rig.type != "ARMATURE":
+        return "", f"Automatic: '{rig.name}' is not a rig, so {instead}"
+    signs = body_signs(rig)
+    if signs:
+        note = f"the whole-body COM, asked for by {' and '.join(signs)}, cannot be read: {exc}"
+    else:
+        note = f"the rig does not read as a body: {exc}"
+    return note, f"Automatic: the rig does not read as a body, so {instead}"
 
 
 def _label(how):
@@ -142,16 +158,16 @@ def checked_path(scene, rig, bone, follow="AUTO", table="de_leva_male"):
     if follow not in FOLLOW_KEYS:
         raise body_com.BodyError(f"unknown path to follow {follow!r}; choose one of {', '.join(FOLLOW_KEYS)}")
     if follow == "BONE":
-        return _bone_path(scene, rig, bone)
-    signs = body_signs(rig)
-    if follow == "AUTO" and not signs:
-        return _bone_path(scene, rig, bone)
+        return _bone_path(scene, rig, bone, reason="Follow is set to the body bone")
     try:
+        if rig.type != "ARMATURE":
+            raise body_com.BodyError(f"'{rig.name}' is not a rig")
         model, _marks, how = body_com.body_model(rig, table)
     except body_com.BodyError as exc:
         if follow == "BODY":
             raise
-        return _bone_path(scene, rig, bone, f"the whole-body COM, asked for by {' and '.join(signs)}, "
-                                            f"cannot be read: {exc}")
+        note, reason = _fallback(rig, bone, exc)
+        return _bone_path(scene, rig, bone, note, reason)
     frames = _frames(scene)
-    return CheckedPath(frames, body_com.whole_body_com(scene, rig, model, frames), "body", _label(how))
+    reason = "Follow is set to the whole-body COM" if follow == "BODY" else "Automatic: the rig reads as a body"
+    return CheckedPath(frames, body_com.whole_body_com(scene, rig, model, frames), "body", _label(how), "", reason)

@@ -207,12 +207,16 @@ def _edge_time(t, z, edge, inner, side, g, step):
     """Sub-sample time where the path leaves (``start``) or rejoins (``end``) free fall."""
     n = len(t)
     reach = max(3, int(round(0.12 / step)))
+    # Candidates reach as far into the stretch as out of it: the grown stretch takes in every
+    # sample within the wobble tolerance of its parabola, so a push that fades to zero puts
+    # its last frames inside it, and the true take-off can lie a full ``reach`` in (a grid
+    # ending half a reach in could only ever start such a flight early).
     if side == "start":
         a, b = max(edge - reach, 0), min(inner, edge + 2 * reach, n - 1)
-        grid = np.arange(t[a], t[max(min(edge + reach // 2, b - 3), a)] + 1e-12, step / 4)
+        grid = np.arange(t[a], t[max(min(edge + reach, b - 3), a)] + 1e-12, step / 4)
     else:
         a, b = max(inner, edge - 2 * reach, 0), min(edge + reach, n - 1)
-        grid = np.arange(t[min(max(edge - reach // 2, a + 3), b)], t[b] + 1e-12, step / 4)
+        grid = np.arange(t[min(max(edge - reach, a + 3), b)], t[b] + 1e-12, step / 4)
     tw, zw = t[a:b + 1], z[a:b + 1]
     if len(tw) < 6 or len(grid) == 0:
         return float(t[edge] - step / 2 if side == "start" else t[edge] + step / 2)

@@ -12,6 +12,8 @@ Galileo's law of fall: distances from rest grow as the odd numbers 1:3:5:7 per e
 time step, i.e. equal second differences ``g dt^2`` (textbook mechanics).
 """
 
+import functools
+
 import numpy as np
 
 from .parabola import Parabola, Stretch, fit_parabola, range_fits, window_fits  # noqa: F401  (re-exported)
@@ -291,13 +293,15 @@ def find_ballistic_stretches(t, z, tol, min_gravity, noise_sd=0.0):
     free = np.zeros(n, bool)
     visited = np.zeros(n, bool)
     candidates = {}
+    # Growth from a seed depends on the seed alone here (nothing is taken yet): once per seed.
+    grow_from = functools.lru_cache(maxsize=None)(lambda start: _grow(t, z, start, start + m - 1, tol, free))
     for _, s in seeds:
         if visited[s:s + m].all():
             continue
-        first, last, _ = _grow(t, z, s, s + m - 1, tol, free)
+        first, last, _ = grow_from(s)
         for _ in range(3):
             mid = max(min((first + last) // 2 - m // 2, n - m), 0)
-            again = _grow(t, z, mid, mid + m - 1, tol, free)
+            again = grow_from(mid)
             if (again[0], again[1]) == (first, last) or again[1] - again[0] <= last - first:
                 break
             first, last = again[0], again[1]

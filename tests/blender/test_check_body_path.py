@@ -103,8 +103,9 @@ def _scene_g(scene):
 @pytest.fixture
 def kept_on_arc():
     rig, scene, first, last = _hand_made_jump()
-    c, _ = _check("AUTO")  # nothing on the rig says "body" yet: the body bone is followed
-    assert c.summary.startswith("checked the body bone 'hips':"), c.summary
+    c, _ = _check("AUTO")  # nothing on the rig says "body", but it reads as one: the whole-body COM
+    assert c.summary.startswith("checked the whole-body COM (map found from the bone tree):"), c.summary
+    assert c.summary.endswith("; Automatic: the rig reads as a body"), c.summary
     assert bpy.ops.leapwright.keep_body_on_arc() == {"FINISHED"}
     return rig, scene, first, last
 
@@ -119,7 +120,7 @@ def test_after_keep_body_on_arc_the_hips_are_off_arc_and_the_whole_body_com_is_a
     # Arms rising carry the COM up, so the corrected torso must leave its own parabola.
     assert _off_arc(hips, first, last), hips
     capfd.readouterr()
-    c, body = _check("AUTO")  # the in-air correction layer is on the rig: the whole-body COM
+    c, body = _check("AUTO")  # the rig reads as a body: the whole-body COM
     assert c.summary.startswith("checked the whole-body COM (map found from the bone tree): 1 flight(s)"), c.summary
     assert ("INFO", c.summary) in reports(capfd.readouterr().out)
     assert not _off_arc(body, first, last), body
@@ -163,6 +164,14 @@ def test_whole_body_com_asked_of_a_rig_that_cannot_be_read_is_refused_and_change
     assert file_state() == before, first_difference(file_state(), before)
     assert c.summary == summary and c.implied_gravity == gravity
     assert [(f.kind, f.first_frame, f.last_frame) for f in c.findings] == earlier
+
+
+def test_automatic_on_a_rig_that_does_not_read_as_a_body_follows_the_body_bone_and_says_why():
+    rig = _unmappable_rig()
+    c, found = _check("AUTO")
+    assert c.summary.startswith("checked the body bone 'hips' (the rig does not read as a body: "), c.summary
+    assert c.summary.endswith("; Automatic: the rig does not read as a body, so the body bone 'hips'"), c.summary
+    assert _check("BONE")[1] == found
 
 
 def test_automatic_falls_back_to_the_body_bone_and_says_why():
@@ -218,7 +227,13 @@ def test_cli_whole_body_com_of_a_rig_that_cannot_be_read_is_bad_input(tmp_path):
     out = _cli(str(path), "--object", rig.name, "--bone", "hips", "--json")
     assert out.returncode in (0, 1), out.stderr[-2000:]
     auto = json.loads(out.stdout)
-    assert auto["checked_path"] == {"follows": "bone", "text": "checked the body bone 'hips'", "note": ""}
+    assert auto["checked_path"]["follows"] == "bone"
+    assert auto["checked_path"]["text"].startswith("checked the body bone 'hips' (the rig does not read as a body: ")
+    assert auto["checked_path"]["reason"] == ("Automatic: the rig does not read as a body, so the body bone 'hips' "
+                                              "(given with --bone)")
+    # Without --bone, the body bone saved in the file's jump panel.
+    saved = json.loads(_cli(str(path), "--object", rig.name, "--json").stdout)["checked_path"]
+    assert saved["follows"] == "bone" and saved["reason"].endswith("(saved in the file's jump panel)"), saved
     assert auto["body_arc"]["checked"] is False and "map the bones by hand" in auto["body_arc"]["reason"]
 
 

@@ -78,8 +78,8 @@ def test_check_jump_on_an_imported_capture_finds_the_flight(tmp_path, follow):
     scene.leapwright_check.follow = follow
     assert bpy.ops.leapwright.check_jump() == {"FINISHED"}
     c = scene.leapwright_check
-    # Automatic follows the body bone on a rig nothing marks as a body (the add-on's rule).
-    follows = "the whole-body COM (map found from the bone tree)" if follow == "BODY" else "the body bone 'Hips'"
+    # Automatic follows the whole-body COM of a rig that reads as a body (the add-on's rule).
+    follows = "the body bone 'Hips'" if follow == "BONE" else "the whole-body COM (map found from the bone tree)"
     assert c.summary.startswith(f"checked {follows}: 1 flight(s)"), c.summary
     assert abs(c.implied_gravity / 9.81 - 1) < 0.05, c.summary  # the acceptance
     assert not [f.kind for f in c.findings if f.kind in ("floaty_gravity", "heavy_gravity")]

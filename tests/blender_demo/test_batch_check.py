@@ -137,3 +137,26 @@ def test_bake_batch_with_a_broken_file_is_bad_input_for_that_file_only(copies, t
     summary = json.loads(r.stdout)
     assert r.returncode == 2 and summary["clean"] == 1 and summary["bad_input"] == 1
     assert summary["results"][1]["file"] == str(bad) and "bad.blend" in summary["results"][1]["error"]
+
+
+def test_demo_check_without_bone_follows_the_whole_body_com_and_says_why():
+    # The case: `check demo.blend --object mannequin` without --bone sampled the
+    # object, which does not move. Automatic now follows the whole-body COM of a rig that
+    # reads as a body, and the flight implies standard gravity (CGPM 1901) within 0.5 %.
+    demo = OUT / "jump_demo.blend"
+    assert demo.exists(), "run `make demo` first"
+    meta = json.loads((OUT / "jump_demo.json").read_text())
+    r = leapwright("check", str(demo), "--object", meta["rig"], "--json")
+    assert r.returncode == 0, r.stdout[-2000:] + r.stderr[-2000:]
+    report = json.loads(r.stdout)
+    checked = report["checked_path"]
+    assert checked["follows"] == "body", checked
+    assert checked["reason"] == "Automatic: the rig reads as a body"
+    assert len(report["flights"]) == 1 and report["findings"] == []
+    assert report["implied_gravity_m_s2"] == pytest.approx(G0, rel=0.005)
+    text = leapwright("check", str(demo), "--object", meta["rig"]).stdout
+    assert "checked the whole-body COM (map found from the bone tree)" in text and "no ballistic flight" not in text
+    # Follow bone without --bone: the body bone saved in the file's jump panel.
+    bone = json.loads(leapwright("check", str(demo), "--object", meta["rig"], "--follow", "bone", "--json").stdout)
+    assert bone["checked_path"]["text"] == f"checked the body bone '{meta['body_bone']}'"
+    assert bone["checked_path"]["reason"].endswith("(saved in the file's jump panel)")

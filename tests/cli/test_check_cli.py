@@ -214,3 +214,46 @@ def test_a_still_path_is_never_called_consistent():
     text = report_text(analyse_trajectory(frames, pos, 24.0), "still.csv")
     assert "does not move" in text and "pick the body bone" in text
     assert "physically consistent" not in text
+
+
+def test_gravity_option_reads_the_same_for_every_kind_of_file():
+    # One reading of --gravity for a .blend, a BVH and a CSV (cli.check.gravity_option):
+    # the sign is ignored, presets are named bodies' surface gravity (Moon 1.62 m/s^2,
+    # Mars 3.71 m/s^2: NASA planetary fact sheets), and an absent option gives the default.
+    from cli.check import gravity_option
+
+    assert gravity_option(" -moon ") == pytest.approx(1.62)
+    assert gravity_option("-3.71") == gravity_option("mars") == pytest.approx(3.71)
+    assert gravity_option(None) is None and gravity_option(None, 9.81) == 9.81
+    with pytest.raises(LeapwrightError, match="'sideways'"):
+        gravity_option("sideways")
+    with pytest.raises(LeapwrightError):
+        gravity_option("0")
+
+
+def test_csv_check_reads_a_minus_sign_on_gravity_as_the_same_gravity(tmp_path):
+    # The planner's Moon jump (1.62 m/s^2, NASA fact sheet) written as a CSV: "-moon" and "1.62"
+    # give the same report.
+    plan, frames, _, path = planned_csv(tmp_path, JumpGoals(height=0.4, gravity=1.62), 24)
+    a = json.loads(leapwright("check", path, "--fps", "24", "--gravity=-moon", "--json").stdout)
+    b = json.loads(leapwright("check", path, "--fps", "24", "--gravity", "1.62", "--json").stdout)
+    assert a == b and a["scene_gravity_m_s2"] == pytest.approx(1.62)
+
+
+def test_chart_names_apparent_weight_and_the_file_not_a_folder(tmp_path, monkeypatch, capsys):
+    # The issue's chart: the path's m(g + a) is its apparent weight (Newton's second law), not a
+    # measured ground force (it is 0 in the air only if the path is ballistic), and the title named a
+    # temporary folder. What the chart is drawn with is read here.
+    import cli.charts
+    from cli.main import main
+
+    drawn = {}
+    monkeypatch.setattr(cli.charts, "force_plate_chart",
+                        lambda path, frames, height, force, spans, title, force_label: drawn.update(
+                            title=title, label=force_label, force=np.asarray(force)))
+    _, _, _, path = planned_csv(tmp_path, JumpGoals(height=0.4), 24.0, name="shot_042.csv")
+    assert main(["check", str(path), "--fps", "24", "--chart", str(tmp_path / "c.png")]) == 0
+    capsys.readouterr()
+    assert drawn["title"] == "shot_042.csv at 24 fps" and str(tmp_path) not in drawn["title"]
+    assert drawn["label"].startswith("apparent weight") and "ground force" not in drawn["label"]
+    assert drawn["force"].min() == pytest.approx(0.0, abs=0.02)  # weightless in the air

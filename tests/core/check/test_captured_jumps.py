@@ -84,10 +84,7 @@ def test_a_moon_jump_capture_is_floaty_and_sure_of_it():
     assert "floaty_gravity" in [x.kind for x in result.findings]
 
 
-@pytest.mark.parametrize("phase", [pytest.param(p, marks=pytest.mark.xfail(
-    strict=True, reason="known: at this phase the flight still starts 2 frames early (the push's last "
-                        "frames lie within the +-1 mm noise of the parabola)")) if abs(p - 0.8) < 1e-9 else p
-    for p in np.round(np.linspace(0.0, 0.9, 10), 1)])
+@pytest.mark.parametrize("phase", np.round(np.linspace(0.0, 0.9, 10), 1))
 def test_planned_moon_jump_with_millimetre_noise_does_not_start_early(phase):
     # The planner's jump under Moon gravity, +-1 mm uniform noise at 24 fps, sampled at every
     # sub-frame phase (the case: the flight started 2 frames early).
@@ -105,6 +102,9 @@ def test_planned_moon_jump_with_millimetre_noise_does_not_start_early(phase):
     # to zero, so its last frame lies within the noise of the parabola).
     assert f.first_frame >= first_airborne - 1.5
     assert abs(f.takeoff_frame / 24.0 - hop.takeoff_time_s) <= 1.5 / 24.0
+    # The same at the other end: the last sample in the air, never 2+ frames late.
+    last_airborne = np.floor(hop.touchdown_time_s * 24.0 - phase) + phase
+    assert f.last_frame <= last_airborne + 1.5
 
 
 @pytest.mark.parametrize("phase", np.linspace(0.0, 0.9, 10))
