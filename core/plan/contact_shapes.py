@@ -13,6 +13,7 @@ lowest (:mod:`.shape_choice`).
 """
 
 from dataclasses import dataclass
+import functools
 import math
 
 import numpy as np
@@ -108,6 +109,7 @@ def _both_free(spec, lo, hi):
     return d1, d2
 
 
+@functools.lru_cache(maxsize=256)
 def choose_shape(spec, first_duration, second_duration, duration_range):
     """Free values of a stretch that make its peak force as low as the goals allow.
 
@@ -123,6 +125,12 @@ def choose_shape(spec, first_duration, second_duration, duration_range):
     -------
     StretchShape or None
         ``None`` when no choice meets the physical limits.
+
+    Notes
+    -----
+    Kept per stretch (an immutable spec and durations give the same shape every time): while a
+    slider drags one goal, the stretches it does not touch (the landing, while the dip is dragged)
+    are not searched again.
     """
     lo, hi = duration_range
     d1, d2 = first_duration, second_duration

@@ -14,10 +14,13 @@ the take-off ground, Z up:
 Phase names follow the force-plate convention of McMahon et al. 2018 (Strength
 Cond J 40(4):96-106): weighing, unweighting, braking, propulsion, flight, landing.
 
-Forward path x(t): no travel in the dip; in propulsion the horizontal force is a
-ramp times the vertical force (Fx = k w(s) Fz, w = smoothstep), so it starts at 0
-and fades with Fz at take-off; constant speed in flight; on landing the mirror
-ramp absorbs it. The required friction coefficient is the largest Fx/Fz.
+Every push ends with a release (:mod:`.release`): the force falls from body weight
+to 0 over a set time, so the peak COM speed comes that long before take-off.
+
+Forward path x(t) (:mod:`.forward_path`): no travel in the dip; in propulsion the
+horizontal force is a ramp times the vertical force, so it starts at 0 and fades
+with Fz at take-off; constant speed in flight; on landing the mirror ramp absorbs
+it. The required friction coefficient is the largest Fx/Fz.
 """
 
 from dataclasses import dataclass, field
@@ -30,10 +33,12 @@ from .contact_shapes import (ABSORPTION, DIP, PROPULSION, RECOVERY, EndState, St
     choose_shape)
 from ..base.errors import InfeasibleJumpError
 from .flight_path import flight_for_speed, flight_for_time
+from .forward_path import landing_unit_path, push_unit_paths
 from .goals import resolved, similarity
-from ..base.piecewise import PiecewisePolynomial, smoothstep
+from ..base.piecewise import PiecewisePolynomial
 from .plausibility import plausibility_report
 from .refusals import landing_refusal, start_refusal
+from .release import release_duration, release_path, release_start
 
 PHASE_NAMES = ("weighing", "unweighting", "braking", "propulsion", "flight", "landing")
 _FREE_DURATION_RANGE = (0.04, 3.0)  # s at human scale, bounds for a chosen duration
@@ -155,26 +160,6 @@ def _const(value):
     return Polynomial([float(value)])
 
 
-def _forward_unit_paths(z_piece, duration, gravity, absorbing):
-    """Forward position polynomials for a unit change of forward speed.
-
-    The horizontal acceleration is ``k w(s) (g + z'')`` (push) or ``-k (1 - w(s)) (g + z'')``
-    (absorption), with k making the speed change 1 m/s. Returns ``(x_unit, k)``: position for
-    1 m/s [m per m/s], and k, the largest Fx/Fz ratio per m/s. Plain coefficient arrays
-    (ascending powers) keep it quick: the panel re-plans while a value is dragged.
-    """
-    T, c = float(duration), z_piece.coef
-    support = c[2:] * np.arange(2, c.size) * np.arange(1, c.size - 1)  # z'' + g
-    support[0] += gravity
-    w = smoothstep(T).coef
-    support = np.convolve(support, np.array([1.0, 0.0, 0.0, 0.0]) - w if absorbing else w)
-    pushed = np.concatenate([[0.0], support / np.arange(1, support.size + 1)])  # its integral from 0
-    k = 1.0 / float(np.polynomial.polynomial.polyval(T, pushed))
-    speed = -k * pushed if absorbing else k * pushed
-    speed[0] += 1.0 if absorbing else 0.0
-    return Polynomial(np.concatenate([[0.0], speed / np.arange(1, speed.size + 1)])), k
-
-
 def plan_jump(goals):
     """Plan a jump (or hop sequence) that meets ``goals``.
 
@@ -199,7 +184,9 @@ def plan_jump(goals):
     """
     G = resolved(goals)
     _, time_scale = similarity(G)
-    choose = _ShapeChooser(tuple(x * time_scale for x in _FREE_DURATION_RANGE))
+    release = release_duration(time_scale, G.push_duration)
+    push = None if G.push_duration is None else G.push_duration - release  # the push before its release
+    choose = _ShapeChooser(tuple(x * time_scale for x in _FREE_DURATION_RANGE), release, push)
     flight = _flight_for(G, G.gravity, G.landing_height)
     _require_landing_below_standing(G)
     pieces = _PathPieces()
@@ -238,10 +225,11 @@ class _PathPieces:
 
 class _ShapeChooser:
     """The contact shape of a stretch, chosen once: a rebound stretch is both a hop's landing
-    and the next hop's push."""
+    and the next hop's push. Holds the plan's release duration [s] and the given push's
+    duration before its release [s] (None: chosen)."""
 
-    def __init__(self, free_range):
-        self.free_range = free_range
+    def __init__(self, free_range, release, push):
+        self.free_range, self.release, self.push = free_range, release, push
         self.chosen = {}
 
     def __call__(self, spec, first, second):
@@ -277,10 +265,11 @@ def _push_stretch(G, hop, flight, choose):
     g, e, ground = G.gravity, G.takeoff_extension, (hop - 1) * G.landing_height
     takeoff_state = EndState(ground + e, flight.takeoff_speed, -g)
     if hop == 1:
-        spec = StretchSpec(EndState(0.0, 0.0, 0.0), -G.depth, takeoff_state, DIP, PROPULSION, g)
-        shape = choose(spec, G.dip_duration, G.push_duration)
+        release = release_start(takeoff_state, g, choose.release)
+        spec = StretchSpec(EndState(0.0, 0.0, 0.0), -G.depth, release, DIP, PROPULSION, g)
+        shape = choose(spec, G.dip_duration, choose.push)
         if shape is None:
-            raise InfeasibleJumpError(start_refusal(G, spec, choose))
+            raise InfeasibleJumpError(start_refusal(G, spec, choose, flight.takeoff_speed))
         return spec, shape
     spec = StretchSpec(EndState(ground + e, flight.touchdown_speed, -g), ground + e - G.landing_depth,
                        takeoff_state, ABSORPTION, PROPULSION, g)
@@ -293,15 +282,14 @@ def _push_stretch(G, hop, flight, choose):
 def _landing_after(G, hop, flight, choose):
     """The landing stretch after hop ``hop`` with its absorption piece and forward unit path.
 
-    Returns ``(spec, shape, absorption, x_unit, k)`` (see :func:`_forward_unit_paths`)."""
-    spec = _landing_spec(G, hop, G.landing_height, G.takeoff_extension, flight.touchdown_speed,
-                         flight.takeoff_speed)
+    Returns ``(spec, shape, absorption, x_unit, k)`` (see :func:`.forward_path.landing_unit_path`)."""
+    spec = _landing_spec(G, hop, flight)
     shape = choose(spec, G.landing_duration,
                    G.push_duration if spec.second_kind == PROPULSION else G.recovery_duration)
     if shape is None:
         raise InfeasibleJumpError(landing_refusal(G, spec, choose))
     absorption, _ = build_pieces(spec, shape.bottom_acceleration, shape.first_duration, shape.second_duration)
-    x_unit, k = _forward_unit_paths(absorption, shape.first_duration, G.gravity, absorbing=True)
+    x_unit, k = landing_unit_path(absorption, shape.first_duration, G.gravity)
     return spec, shape, absorption, x_unit, k
 
 
@@ -316,9 +304,10 @@ def _add_hop(pieces, G, hop, flight, choose, x_now, landing, hops, shapes):
     spec, shape = _push_stretch(G, hop, flight, choose)
     shapes.append(shape)
     first, second = build_pieces(spec, shape.bottom_acceleration, shape.first_duration, shape.second_duration)
-    x_push, k_push = _forward_unit_paths(second, shape.second_duration, g, absorbing=False)
+    tau = choose.release if hop == 1 else 0.0  # a rebound leaves at the end of its stretch
+    x_push, x_release, k_push = push_unit_paths(second, shape.second_duration, tau, g)
     land_spec, land_shape, land_first, x_land, k_land = _landing_after(G, hop, flight, choose)
-    per_unit = x_push(shape.second_duration) + flight.duration + x_land(land_shape.first_duration)
+    per_unit = x_release(tau) + flight.duration + x_land(land_shape.first_duration)
     vx = G.distance / per_unit
 
     t = pieces.t
@@ -331,9 +320,11 @@ def _add_hop(pieces, G, hop, flight, choose, x_now, landing, hops, shapes):
         pieces.phases.append(Phase("landing", landing.hop, t, t + shape.first_duration))
         pieces.add(shape.first_duration, first, x_now + landing.forward_speed * landing.forward_unit)
         x_now = x_now + landing.forward_speed * landing.forward_unit(shape.first_duration)
-    pieces.phases.append(Phase("propulsion", hop, pieces.t, pieces.t + shape.second_duration))
+    pieces.phases.append(Phase("propulsion", hop, pieces.t, pieces.t + shape.second_duration + tau))
     pieces.add(shape.second_duration, second, x_now + vx * x_push)
-    x_now += vx * x_push(shape.second_duration)
+    if tau > 0.0:
+        pieces.add(tau, release_path(spec.end, g, tau), x_now + vx * x_release)
+    x_now += vx * x_release(tau)
     takeoff_time = pieces.t
     pieces.phases.append(Phase("flight", hop, takeoff_time, takeoff_time + flight.duration))
     ground = (hop - 1) * G.landing_height
@@ -357,14 +348,13 @@ def _add_last_landing(pieces, landing, x_now, shapes):
     pieces.phases.append(Phase("landing", landing.hop, landing_start, pieces.t))
 
 
-def _landing_spec(G, hop, rise, e, v_td, v0):
+def _landing_spec(G, hop, flight):
     """The contact stretch that follows hop ``hop``'s flight."""
-    ground = hop * rise
-    start = EndState(ground + e, v_td, -G.gravity)
+    g, e, ground = G.gravity, G.takeoff_extension, hop * G.landing_height
+    start = EndState(ground + e, flight.touchdown_speed, -g)
     bottom = ground + e - G.landing_depth
     if hop < G.hops:
-        return StretchSpec(start, bottom, EndState(ground + e, v0, -G.gravity), ABSORPTION, PROPULSION,
-                           G.gravity)
+        return StretchSpec(start, bottom, EndState(ground + e, flight.takeoff_speed, -g), ABSORPTION, PROPULSION, g)
     return StretchSpec(start, bottom, EndState(ground, 0.0, 0.0), ABSORPTION, RECOVERY, G.gravity)
 
 

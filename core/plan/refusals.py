@@ -40,25 +40,29 @@ def _fix_list(fixes, fallback):
     return ("fix: " + ", or ".join(fixes)) if fixes else fallback
 
 
-def start_refusal(goals, spec, choose):
-    """The message for a dip and push that no physical jump meets, with fixes that work."""
+def start_refusal(goals, spec, choose, takeoff_speed):
+    """The message for a dip and push that no physical jump meets, with fixes that work.
+
+    ``choose.push`` is the given push's time before its release [s] (the stretch's second
+    piece); the message repeats the animator's own push duration. ``takeoff_speed`` [m/s].
+    """
     lo, hi = choose.free_range
     fixes = []
-    if goals.push_duration is not None and choose(spec, goals.dip_duration, None) is not None:
+    if choose.push is not None and choose(spec, goals.dip_duration, None) is not None:
         fixes.append("leave the push duration to be chosen")
-    pushes = goals.push_duration if goals.push_duration is not None else np.geomspace(lo, hi, 24)
+    pushes = choose.push if choose.push is not None else np.geomspace(lo, hi, 24)
     if goals.dip_duration < hi:
         longer = _longer(spec, goals.dip_duration, pushes, hi, True)
         if longer is not None:
             fixes.append(f"lengthen the dip to at least {_up(longer):.2f} s")
     for fraction in np.linspace(0.9, 0.1, 9):
         shallower = replace(spec, bottom_height=spec.bottom_height * fraction)
-        if choose(shallower, goals.dip_duration, goals.push_duration) is not None:
+        if choose(shallower, goals.dip_duration, choose.push) is not None:
             fixes.append(f"make the dip at most {math.floor(-100 * shallower.bottom_height) / 100:.2f} m deep")
             break
     push = f" after a {goals.push_duration:.3g} s push" if goals.push_duration is not None else ""
     return (f"no dip and push meet these goals: a {goals.dip_duration:.3g} s dip to {goals.depth:.3g} m with a "
-            f"take-off at {spec.end.speed:.3g} m/s{push} needs the ground to pull or the body to fall faster "
+            f"take-off at {takeoff_speed:.3g} m/s{push} needs the ground to pull or the body to fall faster "
             f"than g = {goals.gravity:.4g} m/s^2; "
             + _fix_list(fixes, "no longer dip or shallower depth helps: lower the jump"))
 
@@ -71,7 +75,7 @@ def landing_refusal(goals, spec, choose):
     if spec.second_kind == "recovery":
         after = goals.recovery_duration
     elif goals.push_duration is not None:
-        after = goals.push_duration
+        after = goals.push_duration  # a rebound has no release (planner.py)
     if duration is not None and choose(spec, None, after) is not None:
         fixes.append("leave the landing duration to be chosen")
     if duration is not None and duration < hi:

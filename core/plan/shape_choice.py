@@ -13,6 +13,7 @@ sample and the next batch tries again, so the worst case is a grid refinement.
 """
 
 import functools
+import math
 
 import numpy as np
 
@@ -38,29 +39,44 @@ def _durations(fixed, free_is_first, free):
 
 
 def _parabola(u, p):
-    """Coefficients (c2, c1, c0) of the parabola through three points (divided differences)."""
-    s01, s12 = (p[1] - p[0]) / (u[1] - u[0]), (p[2] - p[1]) / (u[2] - u[1])
-    c2 = (s12 - s01) / (u[2] - u[0])
-    c1 = s01 - c2 * (u[0] + u[1])
-    return np.array([c2, c1, p[0] - c1 * u[0] - c2 * u[0] * u[0]])
+    """Coefficients (c2, c1, c0) of the parabola through three points (divided differences).
+
+    Plain floats and the math module: three points are too few for numpy's per-call cost.
+    """
+    u0, u1, u2 = float(u[0]), float(u[1]), float(u[2])
+    p0, p1, p2 = float(p[0]), float(p[1]), float(p[2])
+    s01, s12 = (p1 - p0) / (u1 - u0), (p2 - p1) / (u2 - u1)
+    c2 = (s12 - s01) / (u2 - u0)
+    c1 = s01 - c2 * (u0 + u1)
+    return c2, c1, p0 - c1 * u0 - c2 * u0 * u0
+
+
+def _real_roots(c2, c1, c0):
+    """Real roots of c2 x^2 + c1 x + c0 (leading zero coefficients dropped, as numpy.roots does)."""
+    if c2 == 0.0:
+        return [] if c1 == 0.0 else [-c0 / c1]
+    disc = c1 * c1 - 4.0 * c2 * c0
+    if disc < 0.0:
+        return []
+    # The form without cancellation: q = -(c1 + sign(c1) sqrt(disc)) / 2, roots q / c2 and c0 / q.
+    q = -0.5 * (c1 + math.copysign(math.sqrt(disc), c1))
+    return [q / c2, c0 / q] if q != 0.0 else [0.0, 0.0]
 
 
 def _crossing(u, p, m):
     """Closed-form minimiser of a piecewise quadratic around the lowest sample ``m``, or ``None``."""
-    if m < 3 or m > len(u) - 4 or not np.all(np.isfinite(p[m - 3:m + 4])):
+    if m < 3 or m > len(u) - 4 or not all(math.isfinite(x) for x in p[m - 3:m + 4]):
         return None
     left, right = _parabola(u[m - 3:m], p[m - 3:m]), _parabola(u[m + 1:m + 4], p[m + 1:m + 4])
-    lo, hi = u[m - 1], u[m + 1]
-    difference = left - right
-    if np.allclose(difference, 0.0, atol=1e-9 * np.abs(left).max()):
+    lo, hi = float(u[m - 1]), float(u[m + 1])
+    difference = [a - b for a, b in zip(left, right)]
+    if max(abs(x) for x in difference) <= 1e-9 * max(abs(x) for x in left):
         if left[0] <= 0.0:  # one smooth quadratic: its vertex, if it has a minimum
             return None
         vertex = -left[1] / (2.0 * left[0])
         return vertex if lo <= vertex <= hi else None
-    roots = np.roots(difference)
-    roots = roots[np.isreal(roots)].real
-    roots = roots[(roots >= lo) & (roots <= hi)]
-    return float(roots[0]) if roots.size == 1 else None
+    roots = [r for r in _real_roots(*difference) if lo <= r <= hi]
+    return roots[0] if len(roots) == 1 else None
 
 
 def _feasible_edge(tables, fixed, free_is_first, u_in, u_out):

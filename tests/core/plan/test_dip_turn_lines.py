@@ -87,7 +87,11 @@ def test_plans_match_the_sample_check_on_a_grid_of_goals(monkeypatch):
         return shape_search.LineTables(spec, turn_by_lines=False)
     monkeypatch.setattr(shape_choice, "line_tables", slow_tables)
     monkeypatch.setattr(contact_shapes, "line_tables", slow_tables)
-    slow = [_plan_or_refusal(g) for g in goal_sets]
+    contact_shapes.choose_shape.cache_clear()  # shapes kept from the quick run would hide the slow path
+    try:
+        slow = [_plan_or_refusal(g) for g in goal_sets]
+    finally:
+        contact_shapes.choose_shape.cache_clear()
     planned = 0
     for goals, a, b in zip(goal_sets, fast, slow):
         assert type(a) is type(b), goals
@@ -102,3 +106,19 @@ def test_plans_match_the_sample_check_on_a_grid_of_goals(monkeypatch):
         for name in ("peak_push_force_bw", "min_unweighting_force_bw", "peak_landing_force_bw"):
             assert getattr(a.report, name) == pytest.approx(getattr(b.report, name), abs=1e-4), (goals, name)
     assert planned >= len(goal_sets) // 2
+
+
+def test_a_kept_shape_is_the_shape_a_fresh_search_finds():
+    # Shapes are kept per stretch while a slider drags: a plan drawn from kept shapes must be the
+    # plan a cold search draws, and dragging one goal must re-plan the stretch it touches.
+    goals = dict(height=0.4, hops=2, distance=0.5)
+    contact_shapes.choose_shape.cache_clear()
+    cold = plan_jump(JumpGoals(**goals))
+    warm = plan_jump(JumpGoals(**goals))
+    assert warm.shapes == cold.shapes
+    t = np.linspace(0.0, cold.duration_s, 4001)
+    assert np.array_equal(warm.height(t), cold.height(t)) and np.array_equal(warm.forward(t), cold.forward(t))
+    dragged = plan_jump(JumpGoals(**goals, depth=0.30))
+    assert dragged.shapes[0] != cold.shapes[0] and dragged.shapes[1:] == cold.shapes[1:]
+    contact_shapes.choose_shape.cache_clear()
+    assert plan_jump(JumpGoals(**goals, depth=0.30)).shapes == dragged.shapes

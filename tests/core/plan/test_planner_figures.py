@@ -63,12 +63,25 @@ def _stretch_peak(spec, a_b, d1, d2):
     return peak
 
 
+def release_start_state(plan):
+    """Where the push's release starts (force 1 BW), by integrating its force backwards from take-off.
+
+    The release lasts the propulsion phase less the push quintic, its force falling linearly from
+    1 BW to 0, a = -g t / tau (kinematics, textbook): v = v0 + g tau / 2, z = e - v0 tau - g tau^2 / 3.
+    """
+    from leapwright.core.plan.contact_shapes import EndState
+    G, g, v0 = plan.resolved_goals, plan.gravity, plan.hops[0].takeoff_speed_m_s
+    push = next(p for p in plan.phases if p.name == "propulsion")
+    tau = push.end_s - push.start_s - plan.shapes[0].second_duration
+    return EndState(G.takeoff_extension - v0 * tau - g * tau * tau / 3.0, v0 + 0.5 * g * tau, 0.0)
+
+
 def _stretch_specs(plan):
     from leapwright.core.plan.contact_shapes import DIP, PROPULSION, ABSORPTION, RECOVERY, EndState, StretchSpec
     G, g = plan.resolved_goals, plan.gravity
     e, v0 = G.takeoff_extension, plan.hops[0].takeoff_speed_m_s
     v_td = v0 - g * plan.hops[0].flight_time_s
-    start = StretchSpec(EndState(0, 0, 0), -G.depth, EndState(e, v0, -g), DIP, PROPULSION, g)
+    start = StretchSpec(EndState(0, 0, 0), -G.depth, release_start_state(plan), DIP, PROPULSION, g)
     land = StretchSpec(EndState(e, v_td, -g), e - G.landing_depth, EndState(0, 0, 0), ABSORPTION, RECOVERY, g)
     return start, land
 

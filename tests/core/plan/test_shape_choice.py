@@ -150,17 +150,29 @@ def test_plans_follow_the_reference_durations_within_a_micrometre(goals):
     push_spec, landing_spec = _stretch_specs(plan)
     push_ref, _ = reference_duration(push_spec, G0.dip_duration, False)
     land_ref, _ = reference_duration(landing_spec, G0.recovery_duration, True)
-    ref = plan_jump(JumpGoals(**goals, push_duration=push_ref, landing_duration=land_ref))
+    push = next(p for p in plan.phases if p.name == "propulsion")
+    release = push.end_s - push.start_s - plan.shapes[0].second_duration  # the push's last part, force 1 -> 0 BW
+    ref = plan_jump(JumpGoals(**goals, push_duration=push_ref + release, landing_duration=land_ref))
     t = np.linspace(0.0, min(plan.duration_s, ref.duration_s), 4001)
     assert np.max(np.abs(plan.height(t) - ref.height(t))) < 1e-6
     assert plan.report.peak_push_force_bw == pytest.approx(ref.report.peak_push_force_bw, abs=1e-4)
     assert plan.report.peak_landing_force_bw == pytest.approx(ref.report.peak_landing_force_bw, abs=1e-4)
 
 
+def release_start_state(plan):
+    """Where the push's release starts (force 1 BW): its force falls linearly from 1 BW to 0,
+    a = -g t / tau, so integrating back from take-off (kinematics, textbook) gives
+    v = v0 + g tau / 2, z = e - v0 tau - g tau^2 / 3; tau is the propulsion phase less the push quintic."""
+    G0, g, v0 = plan.resolved_goals, plan.gravity, plan.hops[0].takeoff_speed_m_s
+    push = next(p for p in plan.phases if p.name == "propulsion")
+    tau = push.end_s - push.start_s - plan.shapes[0].second_duration
+    return EndState(G0.takeoff_extension - v0 * tau - g * tau * tau / 3.0, v0 + 0.5 * g * tau, 0.0)
+
+
 def _stretch_specs(plan):
     G0, hop = plan.resolved_goals, plan.hops[0]
     e, g = G0.takeoff_extension, plan.gravity
-    push = StretchSpec(EndState(0.0, 0.0, 0.0), -G0.depth, EndState(e, hop.takeoff_speed_m_s, -g), DIP, PROPULSION, g)
+    push = StretchSpec(EndState(0.0, 0.0, 0.0), -G0.depth, release_start_state(plan), DIP, PROPULSION, g)
     v_td = -plan.vertical_speed(hop.touchdown_time_s)
     landing = StretchSpec(EndState(e, -v_td, -g), e - G0.landing_depth, EndState(0.0, 0.0, 0.0), ABSORPTION,
                           RECOVERY, g)
