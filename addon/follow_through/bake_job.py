@@ -52,7 +52,7 @@ class BakeJob:
     reused : bool
         The motion kept from the last bake was used (nothing sampled).
     timings : dict of str -> float
-        Seconds spent sampling (0 when reused), simulating and building the curves.
+        Seconds spent sampling (0 when reused), simulating, building the curves and writing them.
 
     Raises
     ------
@@ -67,7 +67,7 @@ class BakeJob:
         self.names, self.frames, self.eulers, self.channels = bake.sampling_plan(rig, request)
         self.key = sampled_motion.take_key(self.names, self.frames, self.channels)
         self.work, self.reused, self.cancelled = None, False, False
-        self.timings = {"sampling": 0.0, "simulation": 0.0, "curves": 0.0}
+        self.timings = {"sampling": 0.0, "simulation": 0.0, "curves": 0.0, "writing": 0.0}
         self._take = self._sampling = self._thread = None
         self._outcome = []
         self._fingerprint = motion_fingerprint(scene, rig, skip_tracks=(bake.TRACK,))
@@ -142,7 +142,9 @@ class BakeJob:
         self.timings["sampling"] += sampled_motion.timed_sampling(self._sampling, seconds)
         if not self._sampling.finished:
             return False
+        start = time.perf_counter()
         matrices, _, values = self._sampling.result()
+        self.timings["sampling"] += time.perf_counter() - start  # the world matrices put together count too
         self._sampling.close(restore_frame=False)  # the unmute below evaluates the frame once
         self._sampling = None
         self._unmute()
@@ -168,9 +170,12 @@ class BakeJob:
 
     def write(self):
         """Write the prepared curves (after :meth:`step` returned True)."""
+        start = time.perf_counter()
         if not bake.apply(self.rig, self.work):  # a new layer may have moved the animator's action to a track
             sampled_motion.restamp(self.scene, self.rig,
                                    motion_fingerprint(self.scene, self.rig, skip_tracks=(bake.TRACK,)))
+        self.timings["writing"] = time.perf_counter() - start
+        LAST_TIMINGS["writing"] = self.timings["writing"]
 
     def run(self):
         """Prepare to the end in this thread; returns the work (not yet written)."""
