@@ -79,7 +79,8 @@ class BakeJob:
                 self._take, self.reused = take, True
                 self._unmute()
             else:
-                self._sampling = PoseSampling(scene, rig, self.frames, self.names, self.channels)
+                self._sampling = PoseSampling(scene, rig, self.frames, self.names, self.channels,
+                                              out=sampled_motion.spare_matrices(scene, rig, self.key))
         except BaseException:
             self._unmute()
             raise
