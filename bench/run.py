@@ -66,6 +66,20 @@ def scaling_exponent(points, column):
     return float(k), float(kb), float(kf)
 
 
+def breakdown(total, parts):
+    """Milliseconds of one bake by part: sampling, simulation, writing (building and writing the keys), other.
+
+    ``other`` is what the operator spent outside the three (checks, the motion's fingerprint, the
+    kept motion's confirmation, the report, Blender's own operator and undo step).
+    """
+    if not parts:
+        return None
+    writing = parts.get("curves", 0.0) + parts.get("writing", 0.0)
+    other = total - parts["sampling"] - parts["simulation"] - writing
+    return {"sampling": _r(parts["sampling"] * 1e3, 2), "simulation": _r(parts["simulation"] * 1e3, 2),
+            "writing": _r(writing * 1e3, 2), "other": _r(other * 1e3, 2)}
+
+
 def _r(x, digits=3):
     return None if x is None or (isinstance(x, float) and not math.isfinite(x)) else round(x, digits)
 
@@ -89,6 +103,10 @@ def summary(demo, large, plan_ms, check_s, check_peak_mb=None):
         blas_threads_in_bake=demo["blas_threads_in_bake"],
         blas_threads_outside=demo["blas_threads_outside"],
         plan_readout_update_ms=_r(demo["plan_readout_update_s"] * 1e3, 2),
+        rebake_parts_ms=breakdown(demo["rebake_s"], demo["parts_s"]),
+        first_bake_parts_ms=breakdown(demo["first_bake_s"], demo.get("first_parts_s")),
+        tune_rebake_live_parts_ms=breakdown(demo["tune_rebake_live_s"], demo["tune_parts_s"]),
+        tune_rebake_operator_parts_ms=breakdown(demo["tune_rebake_operator_s"], demo.get("tune_operator_parts_s")),
     )
     if large is not None:
         lf = large["floor_s"]
@@ -104,10 +122,18 @@ def summary(demo, large, plan_ms, check_s, check_peak_mb=None):
             scaling_exponent=_r(k), scaling_exponent_bones=_r(kb), scaling_exponent_frames=_r(kf),
             simulation_scaling_exponent=_r(ks), simulation_scaling_exponent_bones=_r(ksb),
             simulation_scaling_exponent_frames=_r(ksf),
+            large_rebake_parts_ms=breakdown(large["rebake_s"], large["parts_s"]),
+            large_first_bake_parts_ms=breakdown(large["first_bake_s"], large.get("first_parts_s")),
         )
     else:
         out.update(large_floor_ratio=None, scaling_exponent=None)
     return out
+
+
+def _parts_text(parts):
+    if not parts:
+        return "not measured"
+    return ", ".join(f"{name} {value}" for name, value in parts.items())
 
 
 def _print(out, demo, large):
@@ -120,6 +146,10 @@ def _print(out, demo, large):
           f"{out['tune_rebake_operator_ms']} ms); sampling {out['sampling_floor_ratio']} x floor; simulation "
           f"{out['simulation_ms']} ms; BLAS threads in the bake {out['blas_threads_in_bake']} "
           f"(outside {out['blas_threads_outside']})")
+    for label, key in (("first bake", "first_bake_parts_ms"), ("re-bake", "rebake_parts_ms"),
+                       ("tuning re-bake (live)", "tune_rebake_live_parts_ms"),
+                       ("tuning re-bake (operator)", "tune_rebake_operator_parts_ms")):
+        print(f"  {label} in ms: {_parts_text(out[key])}")
     print(f"  plan readout after a value change {out['plan_readout_update_ms']} ms; plan {out['plan_ms']} ms")
     if large is not None:
         print(f"large: {large['baked_bones']} chain bones x {large['frames']} frames ({large['rig_bones']}-bone "
@@ -127,6 +157,8 @@ def _print(out, demo, large):
         print(f"  first bake {out['large_first_bake_floor_ratio']} x floor, re-bake {out['large_floor_ratio']} x "
               f"floor (sampling {out['large_sampling_floor_ratio']}, simulation {out['large_simulation_s']} s); "
               f"nla.bake takes {out['large_speedup_vs_builtin_bake']} x the re-bake")
+        print(f"  first bake in ms: {_parts_text(out['large_first_bake_parts_ms'])}")
+        print(f"  re-bake in ms: {_parts_text(out['large_rebake_parts_ms'])}")
         print(f"  cost ~ (bones x frames)^{out['scaling_exponent']} (bones^{out['scaling_exponent_bones']} "
               f"frames^{out['scaling_exponent_frames']}); simulation alone ^{out['simulation_scaling_exponent']}")
     print(f"checking a 1,000,000-sample path: {out['check_1e6_s']} s, peak memory {out['check_1e6_peak_mb']} MB")

@@ -98,6 +98,25 @@ def new_fcurve(action, obj, data_path, index, group_name):
     return fc
 
 
+def new_fcurves(action, obj, channels, group_name):
+    """New, empty F-curves for ``channels`` ((data_path, index) pairs) in one group of ``action``.
+
+    :func:`new_fcurve` for many curves at once: the slot's channel bag and the group are
+    looked up once, not once per curve (a layer of 120 curves spent more on those look-ups
+    than on its keys).
+    """
+    if not LAYERED:
+        return [action.fcurves.new(path, index=index, action_group=group_name) for path, index in channels]
+    bag = _channelbag(action, obj, create=True)
+    group = bag.groups.get(group_name) or bag.groups.new(group_name)
+    out = []
+    for path, index in channels:
+        fc = bag.fcurves.new(path, index=index)
+        fc.group = group
+        out.append(fc)
+    return out
+
+
 def remove_fcurve(action, obj, fc):
     """Delete one F-curve from ``action``."""
     fcurves(action, obj).remove(fc)

@@ -118,8 +118,8 @@ def write_layer(obj, capability, specs, remember_static):
     delta = compat.new_delta_action(obj, f"{group_name(capability)} {obj.name}")
     identity.renew_id(delta)
     delta[LAYER_PROPERTY] = capability
-    for spec in specs:
-        fc = compat.new_fcurve(delta, obj, spec.data_path, spec.index, group_name(capability))
+    curves = compat.new_fcurves(delta, obj, [(s.data_path, s.index) for s in specs], group_name(capability))
+    for fc, spec in zip(curves, specs):
         write_curve(fc, spec.frames, spec.values, spec.slopes, spec.interpolation)
     ad = obj.animation_data
     track = ad.nla_tracks.new()

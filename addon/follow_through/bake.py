@@ -287,13 +287,14 @@ def curves_for(rig, names, eulers, frames, values, bake, body=""):
         keep = bake.key_mask[:, b]
         pb = rig.pose.bones[name]
         path = pb.path_from_id()
+        times = frames[keep].astype(float)  # one array for the bone's curves (4,000 frames x 300 bones add up)
         if name in eulers:
             deltas = _euler_deltas(values["rotation_euler"][keep, b], bake.quaternions[keep, b], pb.rotation_mode)
-            specs += [CurveSpec(f"{path}.rotation_euler", i, frames[keep].astype(float), deltas[:, i], None,
+            specs += [CurveSpec(f"{path}.rotation_euler", i, times, deltas[:, i], None,
                                 interpolation) for i in range(3)]
         else:
             q = bake.quaternions[keep, b]
-            specs += [CurveSpec(f"{path}.rotation_quaternion", i, frames[keep].astype(float), q[:, i], None,
+            specs += [CurveSpec(f"{path}.rotation_quaternion", i, times, q[:, i], None,
                                 interpolation) for i in range(4)]
     peaks = {n: float(p) for n, p in zip(names, bake.peak_offsets)}
     return LagWork(tuple(specs), peaks, int(sum(len(s.frames) for s in specs)), body)

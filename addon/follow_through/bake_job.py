@@ -52,7 +52,8 @@ class BakeJob:
     reused : bool
         The motion kept from the last bake was used (nothing sampled).
     timings : dict of str -> float
-        Seconds spent sampling (0 when reused), simulating and building the curves.
+        Seconds spent sampling (0 when reused), simulating, building the curves and writing them
+        (with any read-back of constrained chains).
     result : ChainBake or None
         The core's result, once simulated.
     read_backs : list of float
@@ -73,7 +74,7 @@ class BakeJob:
         self.key = sampled_motion.take_key(self.names, self.frames, self.channels, len(request.bones))
         self.work, self.reused, self.cancelled = None, False, False
         self.result, self.read_backs = None, []
-        self.timings = {"sampling": 0.0, "simulation": 0.0, "curves": 0.0}
+        self.timings = {"sampling": 0.0, "simulation": 0.0, "curves": 0.0, "writing": 0.0}
         self._take = self._sampling = self._thread = None
         self._body_text = ""
         self._outcome = []
@@ -86,7 +87,8 @@ class BakeJob:
                 self._take, self.reused = take, True
                 self._unmute()
             else:
-                self._sampling = PoseSampling(scene, rig, self.frames, self.names, self.channels)
+                self._sampling = PoseSampling(scene, rig, self.frames, self.names, self.channels,
+                                              out=sampled_motion.spare_matrices(scene, rig, self.key))
         except BaseException:
             self._unmute()
             raise
@@ -152,7 +154,9 @@ class BakeJob:
         self.timings["sampling"] += sampled_motion.timed_sampling(self._sampling, seconds)
         if not self._sampling.finished:
             return False
+        start = time.perf_counter()
         matrices, _, values = self._sampling.result()
+        self.timings["sampling"] += time.perf_counter() - start  # the world matrices put together count too
         self._sampling.close(restore_frame=False)  # the unmute below evaluates the frame once
         self._sampling = None
         self._unmute()
@@ -178,12 +182,15 @@ class BakeJob:
 
     def write(self):
         """Write the prepared curves (after :meth:`step` returned True)."""
+        start = time.perf_counter()
         if not bake.apply(self.rig, self.work):  # a new layer may have moved the animator's action to a track
             sampled_motion.restamp(self.scene, self.rig,
                                    motion_fingerprint(self.scene, self.rig, skip_tracks=(bake.TRACK,)))
         passes = played_deltas.correction_passes(self.rig, self.request.bones)
         if passes:
             self.read_backs = played_deltas.play_as_simulated(self.scene, self.rig, self, self._rewrite, passes)
+        self.timings["writing"] = time.perf_counter() - start
+        LAST_TIMINGS["writing"] = self.timings["writing"]
 
     @property
     def animated(self):

@@ -107,6 +107,20 @@ def keep(scene, rig, take):
         _TAKES.pop(next(iter(_TAKES)))
 
 
+def spare_matrices(scene, rig, key):
+    """The matrices of this rig's kept take when it has ``key`` but is about to be sampled again, else None.
+
+    The take is dropped (its motion no longer holds) and its array is handed to the new
+    sampling to write over: for a big take, memory the process already holds is much cheaper
+    than new memory (see :class:`..rig.sampling.PoseSampling`).
+    """
+    take = _TAKES.get(_slot(scene, rig))
+    if take is None or take.key != key:
+        return None
+    _TAKES.pop(_slot(scene, rig))
+    return take.matrices
+
+
 def kept(scene, rig):
     """This rig's kept take, or None."""
     return _TAKES.get(_slot(scene, rig))

@@ -14,7 +14,7 @@ import pytest
 
 from rig_builder import add_user_keys
 from scene_probe import addon, snapshot
-from test_follow_through import PONY, _bake, _jumping_rig, _key_values, _lag_curves, _ponytail_rig
+from test_follow_through import PONY, _bake, _jumping_rig, _key_values, _lag_curves, _ponytail_rig, _remove
 
 
 def _ft():
@@ -193,3 +193,37 @@ def test_blas_runs_on_one_thread_inside_the_simulation_and_as_before_after():
     job.run()
     assert ft.bake_job.LAST_BLAS_THREADS[0] == 1  # what OpenBLAS reported from inside the simulation
     assert ft.blas_threads.blas_threads() == threads
+
+
+def _played(rig, frames):
+    """World matrices of the ponytail at scene frames (sub-frames too), as the depsgraph evaluates them."""
+    scene, out = bpy.context.scene, []
+    for frame in frames:
+        whole = int(math.floor(frame))
+        scene.frame_set(whole, subframe=float(frame - whole))
+        out.append([np.array(rig.matrix_world @ rig.pose.bones[n].matrix) for n in PONY])
+    return np.array(out)
+
+
+def test_keys_rewritten_in_place_play_as_a_layer_built_afresh_on_and_between_the_keys():
+    # A re-bake with other values writes the new key values into the layer's own curves and
+    # leaves Blender's sorting and handle pass out (linear keys do not read handles).
+    rig, _ = _jumping_rig()
+    scene = bpy.context.scene
+    assert _bake(rig, bones=",".join(PONY), preset="hair") == {"FINISHED"}
+    pointers = {(fc.data_path, fc.array_index): fc.as_pointer() for fc in _lag_curves(rig)}
+    assert _bake(rig, bones=",".join(PONY), preset="cloth") == {"FINISHED"}
+    rewritten = _lag_curves(rig)
+    assert {(fc.data_path, fc.array_index): fc.as_pointer() for fc in rewritten} == pointers  # in place
+    for fc in rewritten:
+        co = _key_values(fc).reshape(-1, 2).astype(float)
+        assert np.all(np.diff(co[:, 0]) > 0)  # still in time order
+        # Blender's own curve evaluation between two linear keys: the straight line through them
+        for i in range(0, len(co) - 1, 7):
+            middle = 0.5 * (co[i] + co[i + 1])
+            assert abs(fc.evaluate(middle[0]) - middle[1]) < 1e-6, (fc.data_path, fc.array_index, middle)
+    frames = [scene.frame_start + 2.5, 0.5 * (scene.frame_start + scene.frame_end), scene.frame_end - 3.25]
+    in_place = _played(rig, frames)
+    assert _remove(rig) == {"FINISHED"}
+    assert _bake(rig, bones=",".join(PONY), preset="cloth") == {"FINISHED"}  # a new layer, its curves updated
+    np.testing.assert_allclose(in_place, _played(rig, frames), atol=1e-6)
