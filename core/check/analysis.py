@@ -287,7 +287,7 @@ def _keyed_flights(keep, stepped, times, frames, pos, noise, scene_g, fps):
     min_g = flight_fit.MIN_FLIGHT_GRAVITY_FRACTION * scene_g
     # First pass: ends judged by each flight's own scatter, which measures the noise.
     stretches = flight_fit.find_ballistic_stretches(tk, zk, tol, min_g, 0.0)
-    refined = flight_fit.noise_from_stretches(stretches)
+    refined = flight_fit.noise_from_stretches(stretches, samples=(tk, zk))
     if refined is not None and refined < noise:
         # The longest flights measure the noise better than the quiet windows did.
         noise, tol = refined, flight_fit.fit_tolerance(refined)
