@@ -35,7 +35,17 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..base.rotation_vectors import cross
+#: Below this gravity gain [1/m] (a swing length beyond 1,000 km) a bone counts as
+#: weightless: its weight's pull is far below rounding, its inertia would overflow.
+MIN_GAIN = 1e-6
+
+_NEXT, _AFTER = np.array([1, 2, 0]), np.array([2, 0, 1])
+
+
+def cross(a, b):
+    """Cross products of (..., 3) arrays, by two index permutations (fewer calls than
+    stacking three components)."""
+    return np.take(a, _NEXT, axis=-1) * np.take(b, _AFTER, axis=-1) - np.take(a, _AFTER, axis=-1) * np.take(b, _NEXT, axis=-1)
 
 __all__ = ["ChainTree", "ChainMatrices", "bob_inertia", "chain_matrices", "gravity_stiffness", "loaded_forces",
            "node_forces", "turned_pose"]
@@ -57,6 +67,8 @@ class ChainTree:
     step: np.ndarray
     parent_position: np.ndarray
     has_parent: np.ndarray
+    parent_flat: np.ndarray
+    step_flat: np.ndarray
 
     @classmethod
     def from_slots(cls, slots):
@@ -74,16 +86,24 @@ class ChainTree:
                         step[t, p[0], j] = c
         parent_position = parent.argmax(axis=-1)
         has_parent = parent.sum(axis=-1) > 0
-        return cls(parent, path, below, step, parent_position, has_parent)
+        # each slot's parent as a flat slot; a chain's first bone points at a zero row
+        step_flat = (np.arange(trees)[:, None, None] * n + step)
+        parent_flat = np.where(has_parent, np.arange(trees)[:, None] * n + parent_position, trees * n).ravel()
+        return cls(parent, path, below, step, parent_position, has_parent, parent_flat, step_flat)
+
+    def of_parents(self, values):
+        """``values`` (t, n, 3) at each slot's parent, zero for a chain's first bone."""
+        flat = values.reshape(-1, 3)
+        return np.concatenate([flat, np.zeros((1, 3))])[self.parent_flat].reshape(values.shape)
 
 
 def bob_inertia(gain, mass):
     """Swing length ``l`` [m], own inertia ``m l^2`` and weight share of every bob.
 
-    A weightless bone (``gain`` 0, i.e. sag 0, or mass 0) keeps a unit inertia of its
+    A weightless bone (``gain`` 0 or below :data:`MIN_GAIN`, i.e. sag 0, or mass 0) keeps a unit inertia of its
     own and neither weighs on nor pulls its parent beyond its spring.
     """
-    weighted = (gain > 0.0) & (mass > 0.0)
+    weighted = (gain > MIN_GAIN) & (mass > 0.0)
     ell = np.where(weighted, 1.0 / np.where(weighted, gain, 1.0), 0.0)
     inertia = np.where(weighted, mass * ell * ell, 1.0)
     return ell, inertia, np.where(weighted, mass, 0.0)
@@ -92,8 +112,7 @@ def bob_inertia(gain, mass):
 def turned_pose(psi, d0, e0, tree):
     """Bone directions ``d``, levers ``e`` (turned with the parent), heads ``h`` relative
     to the root's and the links ``u`` (trees, n, n, 3) of a pose, all (..., trees, n, 3)."""
-    parent_psi = np.where(tree.has_parent[..., None], np.take_along_axis(psi, tree.parent_position[..., None], axis=-2), 0.0)
-    both = rotate_many(np.stack([psi, parent_psi]), np.stack([d0, e0]))
+    both = rotate_many(np.stack([psi, tree.of_parents(psi)]), np.stack([d0, e0]))
     return both[0], both[1]
 
 
@@ -114,7 +133,8 @@ def links(d, e, ell, tree):
     h = tree.path @ e
     bob = ell[..., None] * d
     # a's link towards j: the lever of the child of a on the way (its head less a's)
-    h_step = np.take_along_axis(h[..., None, :, :], tree.step[..., None], axis=-2)  # (..., t, a, j, 3)
+    h_step = np.take_along_axis(h[..., None, :, :], tree.step[..., None], axis=-2) if h.ndim > 3 else \
+        h.reshape(-1, 3)[tree.step_flat]  # (..., t, a, j, 3)
     u = (h_step - h[..., :, None, :]) * tree.below[..., None]
     n = d.shape[-2]
     idx = np.arange(n)

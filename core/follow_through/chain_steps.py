@@ -43,6 +43,11 @@ __all__ = ["integrate_chains", "hold_joints", "PERIODIC_TOLERANCE", "MAX_PERIODI
 
 #: A cyclic bake stops running the range again once its end is this close to its start [rad].
 PERIODIC_TOLERANCE = 1e-5
+#: Evaluate the force again at the corrected state (PECE); False keeps the predicted
+#: state's force for the next frames (PEC: one evaluation per frame).
+REEVALUATE = True
+#: Modal states beyond this size are a runaway and are bounded (far past any swing).
+_RUNAWAY = 1e6
 #: Runs of the range allowed for a cyclic bake.
 MAX_PERIODIC_RUNS = 8
 
@@ -50,8 +55,7 @@ MAX_PERIODIC_RUNS = 8
 def hold_joints(psi, tree, limit):
     """Offsets (..., t, n, 3) with every joint's bend (relative to its parent) held within
     ``limit`` (t, n) [rad]; a joint pulled back moves everything below it alike."""
-    parent = np.where(tree.has_parent[..., None], np.take_along_axis(psi, tree.parent_position[..., None], axis=-2), 0.0)
-    rel = psi - parent
+    rel = psi - tree.of_parents(psi)
     angle2 = np.sum(rel * rel, axis=-1)
     over = angle2 > limit * limit
     if not np.any(over):
@@ -186,9 +190,12 @@ def _run(run, q, v):
         r1 = run.raw_force(k + 1, qp, vp, r_end)
         u1 = r1 + s * qp
         q1, v1 = run.step(k, q, v, u_back[2], wc[0] * u_back[1] + wc[1] * u_back[2] + wc[2] * u1, u1)
-        r1 = run.raw_force(k + 1, q1, v1, r1)
-        if not (np.all(np.isfinite(q1)) and np.all(np.isfinite(v1)) and np.all(np.isfinite(r1))):
-            q1, v1, r1 = (np.nan_to_num(x, nan=0.0, posinf=0.0, neginf=0.0) for x in (q1, v1, r1))
+        if REEVALUATE:
+            r1 = run.raw_force(k + 1, q1, v1, r1)
+        if not (np.all(np.abs(q1) < _RUNAWAY) and np.all(np.abs(v1) < _RUNAWAY) and np.all(np.isfinite(r1))):
+            # a runaway (the explicit part of the force unstable for this chain and frame
+            # rate): the state is bounded so the holds and the output stay finite
+            q1, v1, r1 = (np.clip(np.nan_to_num(x, nan=0.0, posinf=0.0, neginf=0.0), -_RUNAWAY, _RUNAWAY) for x in (q1, v1, r1))
         end = (q1, v1)
         q, out[k + 1] = run.held(k + 1, q1)
         v = v1
@@ -229,14 +236,22 @@ def integrate_chains(slots, coefficients, times, drive, g_ref, cyclic=False, sub
     out, end = _run(run, q, v)
     runs, change = 1, 0.0
     if cyclic:
-        step = np.linalg.inv(np.eye(2) - _monodromy(run))  # (t, n, 2, 2); damped modes: invertible
-        for runs in range(2, MAX_PERIODIC_RUNS + 1):
+        # damped modes make I - monodromy invertible; an undamped one in resonance takes
+        # the least-squares step
+        step = np.linalg.pinv(np.eye(2) - _monodromy(run))  # (t, n, 2, 2)
+        best = None
+        for runs in range(2, MAX_PERIODIC_RUNS + 2):
             gap = np.stack([end[0] - q, end[1] - v], -2)  # (t, n, 2, 3)
             change = float(np.max(np.abs(run.physical(end[0] - q)))) if gap.size else 0.0
-            if change <= PERIODIC_TOLERANCE:
+            if not np.isfinite(change):
+                break
+            if best is None or change < best[0]:
+                best = (change, out)
+            if change <= PERIODIC_TOLERANCE or runs > MAX_PERIODIC_RUNS:
                 break
             fix = step @ gap
             q, v = q + fix[..., 0, :], v + fix[..., 1, :]
             out, end = _run(run, q, v)
+        change, out = best
     offsets = out[::substeps].reshape(-1, slots.trees * slots.size, 3)
     return offsets, runs, change
