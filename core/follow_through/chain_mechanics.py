@@ -175,9 +175,9 @@ def loaded_forces(d0, e0, g_ref, ell, weight, tree):
     return generalized(d0, e0, np.broadcast_to(force, d0.shape), ell, tree)
 
 
-def node_forces(psi, rate, accel, node, consts, tree):
-    """Generalized forces on every bone at one node, less the inertia ``M(psi) psi''``
-    beyond the constant ``M0 psi''`` (``accel`` is the estimate of ``psi''``).
+def node_forces(psi, rate, node, consts, tree):
+    """Generalized forces on every bone at one node (all but the joints' springs and
+    dampers and the inertia of the swing), and the mass matrix of the pose (t, n, n).
 
     ``node``: the drive there, ``d0``, ``e0``, ``ge``, ``al`` and ``loaded``, each
     (t, n, 3). ``consts``: ``ell``, ``weight``, ``unit`` (t, n), ``m0`` (t, n, n).
@@ -192,11 +192,9 @@ def node_forces(psi, rate, accel, node, consts, tree):
     al = node["al"]
     bob_force = weight[..., None] * (node["ge"] - cross(al, ell[..., None] * d) - central)
     q = generalized(d, e, bob_force, ell, tree) - node["loaded"]
-    m = mass_matrix(u, weight, consts["unit"])
-    q -= (m - consts["m0"]) @ accel
     # a weightless bone keeps the one-bone model's turning term on its unit inertia
     unit = consts["unit"][..., None]
-    return q - unit * (al - np.sum(al * d, axis=-1, keepdims=True) * d)
+    return q - unit * (al - np.sum(al * d, axis=-1, keepdims=True) * d), mass_matrix(u, weight, consts["unit"])
 
 
 @dataclass(frozen=True)

@@ -46,6 +46,11 @@ PERIODIC_TOLERANCE = 1e-5
 #: Evaluate the force again at the corrected state (PECE); False keeps the predicted
 #: state's force for the next frames (PEC: one evaluation per frame).
 REEVALUATE = True
+#: Largest ``h sqrt(Lambda)`` (step times a chain mode's angular frequency) stepped
+#: without finer steps on chains of several bones.
+STEP_REACH = 2.0
+#: Most steps per frame interval taken for a fast chain.
+MAX_SUBSTEPS = 8
 #: Modal states beyond this size are a runaway and are bounded (far past any swing).
 _RUNAWAY = 1e6
 #: Runs of the range allowed for a cyclic bake.
@@ -134,18 +139,21 @@ class _Run:
         self.phi, self.beta = phi[..., None], beta[..., None]  # (F-1, t, n, 2, 2, 1), (F-1, t, n, 3, 2, 1)
         self.pred_mid, self.pred_end, self.corr_mid = _weights(np.asarray(times, dtype=float))
         self.limit = coeffs["limit"]
+        # modes of trees with more than one bone (padding modes excluded)
+        self.chained = (used.reshape(t, n).sum(axis=-1) > 1)[:, None] & (padding_rate == 0.0)
         self.contact = contact
 
     def physical(self, q):
         return self.mats.modes @ q
 
-    def raw_force(self, f, q, v, r_guess):
-        """Modal force at frame ``f`` without the given-back stiffness: ``modes^T Q - C' v``."""
+    def raw_force(self, f, q, v):
+        """Modal force at frame ``f`` without the given-back stiffness: the modes'
+        acceleration ``modes^T M0 M(psi)^-1 (Q - C psi' - K psi)`` less their exact part."""
         psi, rate = self.physical(q), self.physical(v)
-        accel = self.physical(-self.mats.rates[..., None] * q - self.mats.damping_modal[..., None] * v + r_guess)
         node = {name: value[f] for name, value in self.nodes.items()}
-        q_force = node_forces(psi, rate, accel, node, self.consts, self.tree)
-        return np.swapaxes(self.mats.modes, -1, -2) @ q_force - self.mats.damping_coupling @ v
+        q_force, mass = node_forces(psi, rate, node, self.consts, self.tree)
+        accel = np.linalg.solve(mass, q_force - self.mats.damping @ rate - self.mats.spring @ psi)
+        return self.mats.to_modes @ accel + self.mats.damping_modal[..., None] * v + self.mats.rates[..., None] * q
 
     def step(self, k, q, v, u0, um, u1):
         """Exact step of interval ``k`` from ``(q, v)`` with the force's parabola through
@@ -177,7 +185,7 @@ def _run(run, q, v):
     frames = run.frames
     out = np.zeros((frames,) + run.shape)
     q, out[0] = run.held(0, q)
-    hist_r = [run.raw_force(0, q, v, np.zeros(run.shape))] * 3
+    hist_r = [run.raw_force(0, q, v)] * 3
     hist_q = [q] * 3
     for k in range(frames - 1):
         s = run.given[k][..., None]
@@ -186,12 +194,11 @@ def _run(run, q, v):
         um = wm[0] * u_back[0] + wm[1] * u_back[1] + wm[2] * u_back[2]
         ue = we[0] * u_back[0] + we[1] * u_back[1] + we[2] * u_back[2]
         qp, vp = run.step(k, q, v, u_back[2], um, ue)
-        r_end = we[0] * hist_r[0] + we[1] * hist_r[1] + we[2] * hist_r[2]
-        r1 = run.raw_force(k + 1, qp, vp, r_end)
+        r1 = run.raw_force(k + 1, qp, vp)
         u1 = r1 + s * qp
         q1, v1 = run.step(k, q, v, u_back[2], wc[0] * u_back[1] + wc[1] * u_back[2] + wc[2] * u1, u1)
         if REEVALUATE:
-            r1 = run.raw_force(k + 1, q1, v1, r1)
+            r1 = run.raw_force(k + 1, q1, v1)
         if not (np.all(np.abs(q1) < _RUNAWAY) and np.all(np.abs(v1) < _RUNAWAY) and np.all(np.isfinite(r1))):
             # a runaway (the explicit part of the force unstable for this chain and frame
             # rate): the state is bounded so the holds and the output stay finite
@@ -212,6 +219,10 @@ def _monodromy(run):
     return total
 
 
+def _refined(times, drive, substeps):
+    return refine_drive(times, drive, substeps) if substeps > 1 else (times, drive)
+
+
 def integrate_chains(slots, coefficients, times, drive, g_ref, cyclic=False, substeps=1, contact=None):
     """Offsets of every chain over the sampled drive, starting from rest (or periodic).
 
@@ -228,9 +239,15 @@ def integrate_chains(slots, coefficients, times, drive, g_ref, cyclic=False, sub
     change : float
         A cyclic bake's last difference between the end and the start [rad] (0 otherwise).
     """
-    if substeps > 1:
-        times, drive = refine_drive(times, drive, substeps)
-    run = _Run(slots, coefficients, times, drive, g_ref, contact)
+    run = _Run(slots, coefficients, *_refined(times, drive, substeps), g_ref, contact)
+    if contact is None and slots.size > 1:
+        # the bent chain's inertia is explicit; past h sqrt(Lambda) ~ STEP_REACH on a chain
+        # of several bones it can run away, so fast chains take finer steps (capped)
+        reach = float(np.max(np.diff(times))) / substeps * float(np.sqrt(np.max(run.mats.rates[run.chained])))
+        finer = min(MAX_SUBSTEPS, max(substeps, int(np.ceil(substeps * reach / STEP_REACH))))
+        if finer > substeps:
+            substeps = finer
+            run = _Run(slots, coefficients, *_refined(times, drive, substeps), g_ref, contact)
     q = np.zeros(run.shape)
     v = np.zeros(run.shape)
     out, end = _run(run, q, v)
