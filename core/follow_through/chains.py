@@ -69,6 +69,7 @@ from ..base.rotation_vectors import (quaternion_conjugate, quaternion_multiply, 
     rotvec_to_quaternion)
 from .apparent_weight import apparent_gravity
 from .contacts import Colliders, contact_arrays, contact_nodes
+from .chain_steps import integrate_chains
 from .integrator import ChainSlots, integrate
 
 __all__ = ["BakeOptions", "ChainBake", "ChainParameters", "Colliders", "LinkCoefficients", "bake_chains"]
@@ -95,6 +96,10 @@ class BakeOptions:
     on_twos : bool
         Hold each result for two samples (keys on samples 0, 2, 4, ... relative to
         each segment's start, interpolation constant).
+    multi_link : bool
+        Simulate each chain as a multi-link pendulum stepped frame by frame
+        (:mod:`.chain_steps`: a child pulls on its parent); False runs the single-link
+        model, where each bone only follows its parent (:mod:`.integrator`).
     """
 
     cyclic: bool = False
@@ -102,6 +107,7 @@ class BakeOptions:
     substeps: int = 1
     key_tolerance: float = 0.0
     on_twos: bool = False
+    multi_link: bool = False
 
 
 @dataclass(frozen=True)
@@ -142,12 +148,16 @@ class ChainBake:
     passes: int
 
 
-def _drive(slots, times, directions, accel, alpha, g_ref, cyclic, padding):
+def _drive(slots, times, directions, accel, alpha, g_ref, cyclic, padding, levers=None):
     """The integrator's drive on the slots, at the samples and halfway between (``_mid``):
-    animated bone directions, apparent gravity at the heads [m/s^2] and angular
-    accelerations [rad/s^2]."""
+    animated bone directions, apparent gravity at the heads [m/s^2], angular
+    accelerations [rad/s^2] and, for the multi-link model, each head's offset from its
+    parent's head [m]."""
     drive = {}
-    for name, value in (("directions", directions), ("head_acceleration", accel), ("alpha", alpha)):
+    parts = [("directions", directions), ("head_acceleration", accel), ("alpha", alpha)]
+    if levers is not None:
+        parts.append(("levers", levers))
+    for name, value in parts:
         drive[name] = slots.to_slots(value)
         drive[name + "_mid"] = slots.to_slots(midpoint_values(times, value, cyclic))
     for suffix in ("", "_mid"):
@@ -213,10 +223,12 @@ def bake_chains(times, heads, rotations, parents, parameters, gravity=(0.0, 0.0,
         seg_times = times[lo:hi]
         accel, alpha = frame_accelerations(seg_times, heads[lo:hi], rots[lo:hi], options.cyclic)
         check_drive(accel, alpha, seg_times, lo)
-        drive = _drive(slots, seg_times, rots[lo:hi, :, :, 1], accel, alpha, g_ref, options.cyclic, padding)
+        levers = _levers(heads[lo:hi], parents) if options.multi_link else None
+        drive = _drive(slots, seg_times, rots[lo:hi, :, :, 1], accel, alpha, g_ref, options.cyclic, padding, levers)
         here = None if contact is None else contact_nodes(contact, lo, hi, slots, seg_times, heads[lo:hi],
                                                           rots[lo:hi, :, :, 1], options.cyclic)
-        offsets, sweeps, _ = integrate(slots, slot_coeffs, seg_times, drive, g_ref, options.cyclic, substeps, here)
+        simulate = integrate_chains if options.multi_link else integrate
+        offsets, sweeps, _ = simulate(slots, slot_coeffs, seg_times, drive, g_ref, options.cyclic, substeps, here)
         passes = max(passes, sweeps)
         world[lo:hi] = offsets[:, slots.slot]
     # joint rotation in world axes, R(psi_p)^T R(psi_c), then in the bone's own axes
@@ -235,6 +247,11 @@ def bake_chains(times, heads, rotations, parents, parameters, gravity=(0.0, 0.0,
         mask = reduce_keys(quats, tolerance, mask, stepped, split_segments(frames, options.resets))
     peaks = np.max(np.linalg.norm(rotvecs, axis=-1), axis=0) if bones else np.zeros(0)
     return ChainBake(times, rotvecs, quats, world, mask, stepped, peaks, mismatch, passes)
+
+
+def _levers(heads, parents):
+    """Each head's offset from its chain parent's head [m], zero for a chain's first bone."""
+    return np.where((parents >= 0)[None, :, None], heads - heads[:, np.maximum(parents, 0)], 0.0)
 
 
 def _check_options(options, frames):

@@ -36,6 +36,9 @@ class ChainParameters:
     transmission : float
         Share of the joint's damping that acts across the joint (against the
         parent's swing rate) rather than against the world [-]; 0 to 1.
+    mass : float
+        Mass of the bone [kg, or any unit shared along the chain: only the ratios
+        within a chain matter]; >= 0. It sets how hard a bone pulls on its parent.
     """
 
     frequency: float
@@ -43,6 +46,7 @@ class ChainParameters:
     sag: float
     angle_limit: float = math.radians(90.0)
     transmission: float = 1.0
+    mass: float = 1.0
 
     def coefficients(self):
         """The physical :class:`LinkCoefficients`, after checking every value.
@@ -77,6 +81,7 @@ class ChainParameters:
             gravity_gain=sag * omega * omega / STANDARD_GRAVITY,
             angle_limit=self.angle_limit,
             transmission=self.transmission,
+            mass=self.mass,
         ).coefficients()
 
 
@@ -102,6 +107,8 @@ class LinkCoefficients:
     transmission : float
         Share of the damping acting across the joint rather than against the
         world [-]; 0 to 1.
+    mass : float
+        Mass of the bone's bob [relative: only ratios within a chain matter]; >= 0.
     """
 
     spring_rate: float
@@ -109,6 +116,7 @@ class LinkCoefficients:
     gravity_gain: float
     angle_limit: float = math.radians(90.0)
     transmission: float = 1.0
+    mass: float = 1.0
 
     def coefficients(self):
         """These coefficients, checked (same interface as :class:`ChainParameters`)."""
@@ -138,7 +146,8 @@ class LinkCoefficients:
         mu = require_finite("transmission", self.transmission, non_negative=True)
         if mu > 1.0:
             raise InvalidGoalError(f"transmission must be from 0 to 1, got {mu:g}; give e.g. 1 (damping only across the joint) or 0.5")
-        return LinkCoefficients(k, c, gain, limit, mu)
+        mass = require_finite("mass", self.mass, non_negative=True)
+        return LinkCoefficients(k, c, gain, limit, mu, mass)
 
 
 def coefficient_arrays(parameters, bones):
@@ -192,4 +201,5 @@ def coefficient_arrays(parameters, bones):
         "gain": column("gravity_gain"),
         "limit": column("angle_limit"),
         "transmission": column("transmission"),
+        "mass": column("mass"),
     }

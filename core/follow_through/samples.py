@@ -286,7 +286,9 @@ def refine_drive(times, drive, substeps):
     h = np.diff(times)
     fine_t = np.concatenate([(times[:-1, None] + w[None, :] * h[:, None]).ravel(), times[-1:]])
     out = {}
-    for name in ("directions", "g_eff", "alpha"):
+    for name in ("directions", "g_eff", "alpha", "levers"):
+        if name not in drive:
+            continue
         s, m, e = drive[name][:-1], drive[name + "_mid"], drive[name][1:]
         nodes = at(s, m, e, w).reshape((-1,) + s.shape[1:])
         out[name] = np.concatenate([nodes, drive[name][-1:]])
