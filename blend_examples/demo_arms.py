@@ -112,6 +112,8 @@ def key_late_swing(scene, rig):
         pb = rig.pose.bones[f"upper_arm.{s}"]
         b = rig.data.bones[pb.name].matrix_local.to_quaternion()
         for phase, after, deg in HAND_KEYS:
+            if phase == "propulsion" and after > 0:  # the upswing starts inside the push (halfway at most)
+                after = min(after, 0.5 * (marks["flight"] - marks["propulsion"]))
             # A turn about the character's side-to-side axis (armature -X: forward x up).
             pb.rotation_quaternion = b.inverted() @ Quaternion((-1.0, 0.0, 0.0), math.radians(deg)) @ b
             pb.keyframe_insert("rotation_quaternion", frame=marks[phase] + after)

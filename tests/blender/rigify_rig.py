@@ -163,3 +163,19 @@ def load_metarig(scene=None):
 def load_generated_rig(scene=None):
     """Append Rigify's generated human control rig to the open file; return the object."""
     return _append(generated_rig_path(), RIG, scene)
+
+
+def load_jumping_rig(scene=None):
+    """The generated rig with the jump panel's default jump written on it (``torso`` as the body
+    bone, the IK feet), the scene's range from the jump's start to 10 frames after it; the rig."""
+    from scene_probe import addon
+
+    rig = load_generated_rig(scene)
+    scene = bpy.context.scene
+    s = scene.leapwright_plan
+    s.rig, s.com_bone, s.foot_left, s.foot_right = rig, "torso", "foot_ik.L", "foot_ik.R"
+    bpy.context.view_layer.objects.active = rig
+    assert bpy.ops.leapwright.write_plan() == {"FINISHED"}
+    plan, _ = addon().plan.link.plan_for(scene)
+    scene.frame_start, scene.frame_end = s.start_frame, s.start_frame + int(plan.duration_s * scene.render.fps) + 10
+    return rig

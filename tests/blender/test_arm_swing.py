@@ -186,7 +186,10 @@ def _late_swing(rig, scene, handles="AUTO_CLAMPED", late=LATE):
     (armature -X: forward x up for a rig facing -Y), from its rest pose.
     """
     push, takeoff, touchdown = _events(scene)
-    keys = ((push - 10, 0.0), (push + late, -40.0), (takeoff + late, 100.0), (touchdown + late, 40.0),
+    # The upswing starts inside the push (halfway at most: a default push is about 6 frames long),
+    # so the swing is late at its peak, not outside contact altogether.
+    low = push + min(late, 0.5 * (takeoff - push))
+    keys = ((push - 10, 0.0), (low, -40.0), (takeoff + late, 100.0), (touchdown + late, 40.0),
             (touchdown + late + 10, 0.0))
     for name in ARMS:
         pb = rig.pose.bones[name]

@@ -22,6 +22,7 @@ import pytest
 
 import rigify_rig
 from scene_probe import MODULE, addon, snapshot
+from test_body_arc import _jump as body_arc_jump
 
 sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "..", "blend_examples"))
 import mannequin  # noqa: E402  (the demo's own rig, not edited here)
@@ -32,37 +33,13 @@ CHECKED = ("head", "neck", "torso")
 SLACK = 0.001
 
 
-def _enable():
-    import addon_utils
-
-    if MODULE not in bpy.context.preferences.addons:
-        addon_utils.enable(MODULE, default_set=True)
-
-
 def _mannequin_jump():
-    objs = mannequin.build_demo_scene()  # a new file, which disables the add-on
-    _enable()
-    rig, scene = objs["rig"], bpy.context.scene
-    s = scene.leapwright_plan
-    s.rig, s.com_bone = rig, mannequin.BODY_BONE
-    s.foot_left, s.foot_right = mannequin.FOOT_CONTROLLERS
-    s.height = 0.5
-    bpy.context.view_layer.objects.active = rig
-    assert bpy.ops.leapwright.write_plan() == {"FINISHED"}
-    scene.frame_start, scene.frame_end = 1, 60
+    rig, _ = body_arc_jump(arm_raise=False)  # the demo's mannequin with the written 0.5 m jump, frames 1-60
     return rig, tuple(mannequin.PONYTAIL)
 
 
 def _rigify_jump():
-    rig = rigify_rig.load_generated_rig()
-    s = bpy.context.scene.leapwright_plan
-    s.rig, s.com_bone, s.foot_left, s.foot_right = rig, "torso", "foot_ik.L", "foot_ik.R"
-    bpy.context.view_layer.objects.active = rig
-    assert bpy.ops.leapwright.write_plan() == {"FINISHED"}
-    scene = bpy.context.scene
-    plan, _ = addon().plan.link.plan_for(scene)
-    scene.frame_start, scene.frame_end = s.start_frame, s.start_frame + int(plan.duration_s * scene.render.fps) + 10
-    return rig, ("ponytail", "ponytail.001", "ponytail.002")
+    return rigify_rig.load_jumping_rig(), ("ponytail", "ponytail.001", "ponytail.002")
 
 
 def _bake(rig, bones, keep_out):

@@ -156,7 +156,9 @@ def test_a_late_swing_on_rigify_is_retimed_to_peak_at_take_off_and_removal_resto
     scene = bpy.context.scene
     push, takeoff, touchdown = _events(scene, plan)
     late = 6
-    keys = ((push - 10, 0.0), (push + late, -40.0), (takeoff + late, 100.0), (touchdown + late, 40.0),
+    # the upswing starts inside the push (halfway at most), so the swing is late at its peak only
+    low = push + min(late, 0.5 * (takeoff - push))
+    keys = ((push - 10, 0.0), (low, -40.0), (takeoff + late, 100.0), (touchdown + late, 40.0),
             (touchdown + late + 10, 0.0))
     _key_arm_turns(rig, keys)
     scene.frame_end = max(scene.frame_end, int(touchdown + late + 14))

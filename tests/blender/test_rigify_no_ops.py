@@ -11,25 +11,12 @@ import bpy
 import numpy as np
 
 import rigify_rig
-from scene_probe import addon
 
 DEF_TAIL = ("DEF-ponytail", "DEF-ponytail.001", "DEF-ponytail.002")
 
 
-def _settings(scene):
-    return scene.leapwright_plan
-
-
 def _jumping_rig():
-    rig = rigify_rig.load_generated_rig()
-    s = _settings(bpy.context.scene)
-    s.rig, s.com_bone, s.foot_left, s.foot_right = rig, "torso", "foot_ik.L", "foot_ik.R"
-    bpy.context.view_layer.objects.active = rig
-    assert bpy.ops.leapwright.write_plan() == {"FINISHED"}
-    scene = bpy.context.scene
-    plan, _ = addon().plan.link.plan_for(scene)
-    scene.frame_start, scene.frame_end = s.start_frame, s.start_frame + int(plan.duration_s * scene.render.fps) + 10
-    return rig
+    return rigify_rig.load_jumping_rig()
 
 
 def _bake(bones):
