@@ -179,16 +179,16 @@ def test_swing_plane_follows_a_rig_turned_90_degrees_about_z(applied):
         assert math.degrees(math.acos(d @ forward / np.linalg.norm(d))) < 8.0
 
 
-def _late_swing(rig, scene, handles="AUTO_CLAMPED", late=LATE):
+def _late_swing(rig, scene, handles="AUTO_CLAMPED", late=LATE, low=None):
     """The animator's own swing, keyed as a user keys it, peaking LATE frames after take-off.
 
     Elevation keys (deg) turn each upper arm about the character's side-to-side axis
     (armature -X: forward x up for a rig facing -Y), from its rest pose.
     """
     push, takeoff, touchdown = _events(scene)
-    # The upswing starts inside the push (halfway at most: a default push is about 6 frames long),
-    # so the swing is late at its peak, not outside contact altogether.
-    low = push + min(late, 0.5 * (takeoff - push))
+    # By default the upswing starts (``low``, a frame) inside the push, halfway at most (a default push
+    # is about 6 frames long), so the swing is late at its peak, not outside contact altogether.
+    low = push + min(late, 0.5 * (takeoff - push)) if low is None else low
     keys = ((push - 10, 0.0), (low, -40.0), (takeoff + late, 100.0), (touchdown + late, 40.0),
             (touchdown + late + 10, 0.0))
     for name in ARMS:

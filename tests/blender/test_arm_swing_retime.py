@@ -121,7 +121,7 @@ def test_a_swing_wholly_in_the_air_is_called_outside_contact_and_retimed_into_th
     rig, scene = _jump()
     push, takeoff, _ = _events(scene)
     late = math.ceil(takeoff - push) + 2  # the upswing starts two frames after take-off
-    _late_swing(rig, scene, late=late)
+    _late_swing(rig, scene, late=late, low=push + late)
     s = scene.leapwright_arms
     s.upper_arm_left, s.upper_arm_right = ARMS
     bpy.context.view_layer.objects.active = rig
