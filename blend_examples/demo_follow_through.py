@@ -56,6 +56,9 @@ def follow_through_pass(demo):
     s = scene.leapwright_follow_through
     s.preset = PRESET
     s.use_scene_range = True
+    # The ponytail and the skirt keep out of the mannequin's head, neck, torso and thighs
+    # (capsules fitted to its deform bones, radii measured on its skin).
+    s.keep_out = True
     bones = lag_bones()
     operator_call(bpy.ops.leapwright.bake_follow_through, rig, bones=",".join(bones), preset="SETTINGS")
     peaks = json.loads(s.readout)

@@ -199,6 +199,7 @@ def make_strip(zip_path, docs):
     operator_call(bpy.ops.leapwright.write_plan, rig, on_conflict="ASK")
     moments = _moments(scene)
     scene.frame_start, scene.frame_end = 1, moments[-1][0] + 4
+    scene.leapwright_follow_through.keep_out = True  # the ponytail stays out of the head and neck
     operator_call(bpy.ops.leapwright.bake_follow_through, rig, bones=",".join(PONYTAIL), preset="hair")
     add_stand_ins(rig)
     _stage(scene, rig, range(scene.frame_start, scene.frame_end + 1))
