@@ -147,7 +147,7 @@ class LineTables:
         self.lower = (offset[:, sign > 0], slope[:, sign > 0])
         self.upper = (offset[:, sign < 0], slope[:, sign < 0])
         self.flat = offset[:, sign == 0]
-        self.hint = None  # the two envelope lines that crossed at the last batch's minimum
+        self.hint = None  # the (falling, rising) line pairs that crossed at the last batch's minima
 
     def feasible_interval(self, powers):
         """``(lo, hi)``: the a_b interval meeting the limits at each duration pair (empty: ``lo >= hi``)."""
@@ -261,12 +261,13 @@ def lowest_envelope(alpha, beta, lo, hi, hint=None, passes=60):
         Line offsets; ``beta`` (m,) their slopes, shared by every row.
     lo, hi : ndarray (n,)
         The interval of each row.
-    hint : (int, int), optional
-        A falling and a rising line likely to cross at the minimum (tried first).
+    hint : sequence of (int, int), optional
+        (falling, rising) line pairs likely to cross at the minimum, tried first in turn.
 
     Returns
     -------
-    (x, value, crossing pair) : ndarrays (n,) and the (falling, rising) lines of the last row solved by crossing
+    (x, value, pairs) : ndarrays (n,) and the distinct (falling, rising) pairs that crossed at
+    a row's minimum (the next batch's hint: neighbouring durations share their active pairs)
 
     Notes
     -----
@@ -274,27 +275,37 @@ def lowest_envelope(alpha, beta, lo, hi, hint=None, passes=60):
     has a falling highest line and right end a rising one; the two lines cross
     at the envelope's minimum unless another line is higher there, which then
     replaces the bracket end on its side. Each pass removes at least one corner.
+    A hinted pair is accepted only where its crossing passes the same test, so a
+    hint changes the work, never the answer.
     """
     n = alpha.shape[0]
     x, value = np.empty(n), np.empty(n)
     todo = np.arange(n)
-    pair = hint
-    if hint is not None:
-        i, j = hint
-        cross = np.clip((alpha[:, i] - alpha[:, j]) / (beta[j] - beta[i]), lo, hi)
-        k, v = _highest_line(alpha, beta, cross)
-        model = alpha[:, j] + beta[j] * cross
-        done = (cross > lo) & (cross < hi) & (v <= model + 1e-12 * np.maximum(1.0, np.abs(model)))
-        x[done], value[done] = cross[done], v[done]
-        todo = np.flatnonzero(~done)
+    used = []
+    for i, j in hint or ():
+        if not todo.size:
+            break
+        rows, a, b = alpha[todo], lo[todo], hi[todo]
+        cross = np.clip((rows[:, i] - rows[:, j]) / (beta[j] - beta[i]), a, b)
+        _, v = _highest_line(rows, beta, cross)
+        model = rows[:, j] + beta[j] * cross
+        done = (cross > a) & (cross < b) & (v <= model + 1e-12 * np.maximum(1.0, np.abs(model)))
+        if done.any():
+            x[todo[done]], value[todo[done]] = cross[done], v[done]
+            used.append((i, j))
+            todo = todo[~done]
     if todo.size:
         x[todo], value[todo], found = _lowest_envelope_rows(alpha[todo], beta, lo[todo], hi[todo], passes)
-        pair = found or pair
-    return x, value, pair
+        used += [pair for pair in found if pair not in used]
+    return x, value, used[:_HINT_PAIRS]
+
+
+#: Pairs kept as the next batch's hint (a bracket around one crossing of two quadratics has two).
+_HINT_PAIRS = 3
 
 
 def _lowest_envelope_rows(alpha, beta, lo, hi, passes):
-    """:func:`lowest_envelope` from the interval ends, without a hint."""
+    """:func:`lowest_envelope` from the interval ends, without a hint; also the pairs found, most used first."""
     k_lo, v_lo = _highest_line(alpha, beta, lo)
     k_hi, v_hi = _highest_line(alpha, beta, hi)
     x, value = lo.copy(), v_lo.copy()
@@ -302,7 +313,7 @@ def _lowest_envelope_rows(alpha, beta, lo, hi, passes):
     x[at_hi], value[at_hi] = hi[at_hi], v_hi[at_hi]
     idx = np.flatnonzero((beta[k_lo] < 0.0) & (beta[k_hi] > 0.0))
     a, b, i, j = lo[idx], hi[idx], k_lo[idx], k_hi[idx]
-    pair = None
+    counts = {}
     for _ in range(passes):
         if not idx.size:
             break
@@ -313,12 +324,11 @@ def _lowest_envelope_rows(alpha, beta, lo, hi, passes):
         model = aj + beta[j] * cross
         done = (v <= model + 1e-12 * np.maximum(1.0, np.abs(model))) | (beta[k] == 0.0)
         x[idx[done]], value[idx[done]] = cross[done], v[done]
-        if done.any():
-            last = np.flatnonzero(done)[-1]
-            pair = (int(i[last]), int(j[last]))
+        for pair in zip(i[done].tolist(), j[done].tolist()):
+            counts[pair] = counts.get(pair, 0) + 1
         rising = beta[k] > 0.0
         b, j = np.where(rising, cross, b), np.where(rising, k, j)
         a, i = np.where(rising, a, cross), np.where(rising, i, k)
         keep = ~done
         idx, a, b, i, j = idx[keep], a[keep], b[keep], i[keep], j[keep]
-    return x, value, pair
+    return x, value, sorted(counts, key=counts.get, reverse=True)
