@@ -30,15 +30,27 @@ class PiecewisePolynomial:
     def derivative_pieces(self, order):
         if not order:
             return self.pieces
-        # Differentiating costs more than evaluating: key searches ask for speeds thousands of times.
-        cache = self._derivatives
-        if order not in cache:
-            cache[order] = tuple(p.deriv(order) for p in self.pieces)
-        return cache[order]
+        return tuple(Polynomial(c) for c in self._coefficients(order))
 
     @functools.cached_property
     def _derivatives(self):
         return {}
+
+    def _coefficients(self, order):
+        """Coefficient arrays of every piece's derivative ``order``, kept: differentiating through
+        Polynomial objects costs more than evaluating, and key searches ask for speeds thousands of times."""
+        cache = self._derivatives
+        if order not in cache:
+            out = []
+            for p in self.pieces:
+                if not np.array_equal(p.domain, p.window):
+                    p = p.convert()  # plain power series in local time
+                c = np.array(p.coef, dtype=float)
+                for _ in range(order):  # the same products as numpy's polyder, so the same bits
+                    c = c[1:] * np.arange(1, len(c)) if len(c) > 1 else np.zeros(1)
+                out.append(c)
+            cache[order] = tuple(out)
+        return cache[order]
 
     def evaluate(self, t, order=0):
         """Value (``order`` 0), speed (1) or acceleration (2) at times ``t`` [s]."""
@@ -48,11 +60,10 @@ class PiecewisePolynomial:
         starts = np.asarray(self.starts)
         index = np.clip(np.searchsorted(starts, flat, side="right") - 1, 0, len(starts) - 1)
         inside = (flat >= starts[0]) & (flat <= self.end)
-        pieces = self.derivative_pieces(order)
-        for i, poly in enumerate(pieces):
+        for i, coef in enumerate(self._coefficients(order)):
             sel = (index == i) & inside
             if sel.any():
-                out[sel] = poly(flat[sel] - starts[i])
+                out[sel] = _horner(coef, flat[sel] - starts[i])
         before, after = flat < starts[0], flat > self.end
         if order == 0:
             out[before] = self.pieces[0](0.0)
@@ -65,6 +76,14 @@ class PiecewisePolynomial:
         """``(start, end)`` of every piece [s]."""
         ends = tuple(self.starts[1:]) + (self.end,)
         return tuple(zip(self.starts, ends))
+
+
+def _horner(coef, x):
+    """``sum(coef[k] x^k)`` by Horner's rule, the order numpy's polyval uses (the same bits)."""
+    out = np.full(x.shape, coef[-1])
+    for c in coef[-2::-1]:
+        out = out * x + c
+    return out
 
 
 def quintic_between(p0, v0, a0, p1, v1, a1, duration):

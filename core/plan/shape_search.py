@@ -147,13 +147,20 @@ class LineTables:
         self.lower = (offset[:, sign > 0], slope[:, sign > 0])
         self.upper = (offset[:, sign < 0], slope[:, sign < 0])
         self.flat = offset[:, sign == 0]
+        # One matrix for all five products (one multiplication per batch rather than five).
+        parts = (self.flat,) + self.lower + self.upper
+        self._stacked = np.concatenate(parts, axis=1)
+        ends = np.cumsum([0] + [p.shape[1] for p in parts]).tolist()
+        self._cuts = [slice(a, b) for a, b in zip(ends[:-1], ends[1:])]
         self.hint = None  # the (falling, rising) line pairs that crossed at the last batch's minima
 
     def feasible_interval(self, powers):
         """``(lo, hi)``: the a_b interval meeting the limits at each duration pair (empty: ``lo >= hi``)."""
-        ok = np.all(powers @ self.flat >= -1e-9, axis=1)
-        lo = np.max(-(powers @ self.lower[0]) / (powers @ self.lower[1]), axis=1)
-        hi = np.min(-(powers @ self.upper[0]) / (powers @ self.upper[1]), axis=1)
+        products = powers @ self._stacked
+        flat, lower_offset, lower_slope, upper_offset, upper_slope = (products[:, cut] for cut in self._cuts)
+        ok = (flat >= -1e-9).all(axis=1)
+        lo = (-lower_offset / lower_slope).max(axis=1)
+        hi = (-upper_offset / upper_slope).min(axis=1)
         eps = 1e-9 * np.maximum(1.0, np.maximum(np.abs(lo), np.abs(hi)))
         return np.where(ok, lo + eps, np.inf), np.where(ok, hi - eps, -np.inf)
 
@@ -248,8 +255,19 @@ def line_tables(spec):
 def _highest_line(alpha, beta, x):
     """Index and value of the highest line in each row at ``x`` (n,)."""
     values = alpha + beta * x[:, None]
-    k = np.argmax(values, axis=1)
+    k = values.argmax(axis=1)
     return k, values[np.arange(alpha.shape[0]), k]
+
+
+def _on_top(v, model):
+    """Whether the highest value ``v`` is no higher than the pair's own ``model`` (to rounding)."""
+    return v <= model + 1e-12 * np.maximum(1.0, np.abs(model))
+
+
+def _clipped(x, lo, hi):
+    """``x`` held inside ``[lo, hi]`` in place (np.clip's own checks cost more than the work here)."""
+    np.minimum(x, hi, out=x)
+    return np.maximum(x, lo, out=x)
 
 
 def lowest_envelope(alpha, beta, lo, hi, hint=None, passes=60):
@@ -286,10 +304,9 @@ def lowest_envelope(alpha, beta, lo, hi, hint=None, passes=60):
         if not todo.size:
             break
         rows, a, b = alpha[todo], lo[todo], hi[todo]
-        cross = np.clip((rows[:, i] - rows[:, j]) / (beta[j] - beta[i]), a, b)
-        _, v = _highest_line(rows, beta, cross)
-        model = rows[:, j] + beta[j] * cross
-        done = (cross > a) & (cross < b) & (v <= model + 1e-12 * np.maximum(1.0, np.abs(model)))
+        cross = (rows[:, i] - rows[:, j]) / (beta[j] - beta[i])
+        _, v = _highest_line(rows, beta, _clipped(cross.copy(), a, b))
+        done = (cross > a) & (cross < b) & _on_top(v, rows[:, j] + beta[j] * cross)
         if done.any():
             x[todo[done]], value[todo[done]] = cross[done], v[done]
             used.append((i, j))
@@ -314,21 +331,25 @@ def _lowest_envelope_rows(alpha, beta, lo, hi, passes):
     idx = np.flatnonzero((beta[k_lo] < 0.0) & (beta[k_hi] > 0.0))
     a, b, i, j = lo[idx], hi[idx], k_lo[idx], k_hi[idx]
     counts = {}
+    rows = alpha[idx]
     for _ in range(passes):
         if not idx.size:
             break
-        rows = alpha[idx]
-        ai, aj = rows[np.arange(idx.size), i], rows[np.arange(idx.size), j]
-        cross = np.clip((ai - aj) / (beta[j] - beta[i]), a, b)
-        k, v = _highest_line(rows, beta, cross)
-        model = aj + beta[j] * cross
-        done = (v <= model + 1e-12 * np.maximum(1.0, np.abs(model))) | (beta[k] == 0.0)
-        x[idx[done]], value[idx[done]] = cross[done], v[done]
-        for pair in zip(i[done].tolist(), j[done].tolist()):
-            counts[pair] = counts.get(pair, 0) + 1
+        r = np.arange(idx.size)
+        aj = rows[r, j]
+        cross = _clipped((rows[r, i] - aj) / (beta[j] - beta[i]), a, b)
+        values = rows + beta * cross[:, None]
+        k = values.argmax(axis=1)
+        done = _on_top(values[r, k], aj + beta[j] * cross) | (beta[k] == 0.0)
+        solved = done.any()
+        if solved:
+            x[idx[done]], value[idx[done]] = cross[done], values[r, k][done]
+            for pair in zip(i[done].tolist(), j[done].tolist()):
+                counts[pair] = counts.get(pair, 0) + 1
         rising = beta[k] > 0.0
         b, j = np.where(rising, cross, b), np.where(rising, k, j)
         a, i = np.where(rising, a, cross), np.where(rising, i, k)
-        keep = ~done
-        idx, a, b, i, j = idx[keep], a[keep], b[keep], i[keep], j[keep]
+        if solved:  # carry on with the rows left only
+            keep = ~done
+            idx, a, b, i, j, rows = idx[keep], a[keep], b[keep], i[keep], j[keep], rows[keep]
     return x, value, sorted(counts, key=counts.get, reverse=True)
