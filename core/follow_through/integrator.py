@@ -74,7 +74,7 @@ import numpy as np
 
 from .contacts import hold_outside
 from .samples import refine_drive
-from .slots import ChainSlots, flat_matrices, limit_joints  # noqa: F401  (ChainSlots is part of the API)
+from .slots import ChainSlots, joint_groups, limit_joints  # noqa: F401  (ChainSlots is part of the API)
 from .affine_runs import compose_pairs, periodic_start, run_affine
 from .steps import expm_batched, oscillator_steps
 
@@ -95,6 +95,14 @@ MAX_SWEEPS = 40
 STIFFNESS_SWEEPS = 1
 #: Pair levels composed before the frame-by-frame part.
 _PAIR_LEVELS = 3
+#: Values (8 bytes each) in one array of a block of the frame-by-frame work: about 1 MB, so a
+#: block's arrays stay in the processor's cache on a long take; a demo-sized bake is one block.
+_BLOCK_VALUES = 2 ** 17
+
+
+def _block(values_per_item):
+    """Items (nodes or intervals) per block when one item fills ``values_per_item`` values."""
+    return max(8, _BLOCK_VALUES // max(1, values_per_item))
 
 
 def _turned(px, py, pz, d0):
@@ -132,6 +140,24 @@ def _gravity_and_turn(psi, d0, ge, al, gain, loaded):
     return np.stack([fx, fy, fz])
 
 
+def _in_node_blocks(node_wise, first, *rest):
+    """``node_wise(first, *rest)`` evaluated a block of nodes at a time (axis 1 of the
+    component-first (3, nodes, slots) arrays; other arguments passed whole).
+
+    Every such step is node by node, so the result is the same to the bit; on a long take the
+    whole-range temporaries (tens of MB each) no longer stream through memory once per operation.
+    """
+    nodes, block = first.shape[1], _block(first.shape[0] * first.shape[2])
+    if nodes <= block:
+        return node_wise(first, *rest)
+    out = np.empty_like(first)
+    per_node = [isinstance(x, np.ndarray) and x.ndim == 3 and x.shape[1] == nodes for x in rest]
+    for a in range(0, nodes, block):
+        cut = slice(a, a + block)
+        out[:, cut] = node_wise(first[:, cut], *(x[:, cut] if block else x for x, block in zip(rest, per_node)))
+    return out
+
+
 def _map_layout(slots):
     """Where the entries of every bone's rows go in a tree's ``[Phi + E0 | push]`` block.
 
@@ -161,8 +187,22 @@ def _chain_maps(phi, beta, k, c, mu, h, slots):
     ``phi`` (S-1, N, 2, 2) and ``beta`` (S-1, N, 3, 2) per interval and slot.
     Returns ``M`` (S-1, trees, 2n, 2n) and ``Q`` (S-1, trees, 2n, 3n): the state after
     an interval is ``M X + Q U`` with ``U`` the force at the start, middle and end
-    (n rows each). State rows are ``2 i + {0: psi, 1: rate}``.
+    (n rows each). State rows are ``2 i + {0: psi, 1: rate}``. Built
+    a block of intervals at a time (each interval's maps are its own, so the
+    blocks give the same bits; a block's scratch stays in cache on a long take).
     """
+    steps, n, trees = phi.shape[0], slots.size, slots.trees
+    layout = _map_layout(slots)
+    m, q = np.empty((steps, trees, 2 * n, 2 * n)), np.empty((steps, trees, 2 * n, 3 * n))
+    block = _block(trees * 10 * n * n)
+    for a in range(0, steps, block):
+        cut = slice(a, a + block)
+        m[cut], q[cut] = _chain_map_block(phi[cut], beta[cut], k, c, mu, h[cut], slots, layout)
+    return m, q
+
+
+def _chain_map_block(phi, beta, k, c, mu, h, slots, layout):
+    """:func:`_chain_maps` for one block of intervals, ``layout`` from :func:`_map_layout`."""
     steps, n, trees = phi.shape[0], slots.size, slots.trees
     hh = h[:, None]
     kk, kd = k[None, :] + 0.0 * hh, (mu * c)[None, :] + 0.0 * hh
@@ -175,7 +215,7 @@ def _chain_maps(phi, beta, k, c, mu, h, slots):
     g1 = b1[..., :, None] * kc[..., None, :] + bm[..., :, None] * mid_end[..., None, :]
     # [Phi + E0 | push] for every step, by one scatter of flat entries (a bone's own
     # block, its link to its parent, the force nodes' columns)
-    where, source, parent_pos, has_parent = _map_layout(slots)
+    where, source, parent_pos, has_parent = layout
     entries = np.concatenate([phi.reshape(steps, -1), g0.reshape(steps, -1), beta.reshape(steps, -1)], axis=1)
     x = np.zeros((steps, trees * n * 2 * 5 * n))
     x[:, where] = entries[:, source]
@@ -190,7 +230,7 @@ def _chain_maps(phi, beta, k, c, mu, h, slots):
         rows, link = x[:, t, parent_pos[t, i]], g1[:, t, i]  # a 2x2 times two rows, spelled out
         x[:, t, i] += link[..., :, 0, None] * rows[..., None, 0, :] + link[..., :, 1, None] * rows[..., None, 1, :]
     x = x.reshape(steps, trees, 2 * n, 5 * n)
-    return np.ascontiguousarray(x[..., :2 * n]), np.ascontiguousarray(x[..., 2 * n:])
+    return x[..., :2 * n], x[..., 2 * n:]
 
 
 def _error_left(changes):
@@ -222,20 +262,34 @@ def _drive_nodes(drive, g_ref, gain):
     return d0, ge, al, loaded
 
 
-def _nodal_forces(psi, d0, force, stiff, frames, trees, n):
-    """Each interval's forces at its start, middle and end, (steps, trees, 3 * n, 3).
+def _swing(psi, d0):
+    """The offsets less their part about the animated bone axis (component-first)."""
+    return psi - (psi[0] * d0[0] + psi[1] * d0[1] + psi[2] * d0[2]) * d0
+
+
+def _pushed_forces(push, psi, d0, force, stiff, frames, trees, n):
+    """``Q U`` of every interval: its forces at its start, middle and end carried into the state,
+    (steps, trees, 2n, 3), a block of intervals at a time (the same bits as all at once).
 
     The stiffness the exact step applies is given back on the swing only: the twist keeps it
     (it follows the parent a little less, and converges in one sweep).
     """
     steps = frames - 1
-    swing = psi - (psi[0] * d0[0] + psi[1] * d0[1] + psi[2] * d0[2]) * d0
-    nodal = np.concatenate([force[:, :steps] + stiff * swing[:, :steps], force[:, frames:] + stiff * swing[:, frames:],
-                            force[:, 1:frames] + stiff * swing[:, 1:frames]], axis=-1)  # (3, S-1, 3N)
-    return nodal.reshape(3, steps, 3, trees, n).transpose(1, 3, 2, 4, 0).reshape(steps, trees, 3 * n, 3)
+    out = np.empty((steps, trees, 2 * n, 3))
+    block = _block(9 * trees * n)
+    for a in range(0, steps, block):
+        b = min(a + block, steps)
+        st = stiff[a:b]
+        swing = _swing(psi[:, a:b + 1], d0[:, a:b + 1])  # the frames the block's intervals start and end at
+        middle = slice(frames + a, frames + b)
+        nodal = np.concatenate([force[:, a:b] + st * swing[:, :-1], force[:, middle] + st * _swing(psi[:, middle], d0[:, middle]),
+                                force[:, a + 1:b + 1] + st * swing[:, 1:]], axis=-1)  # (3, block, 3N): start, middle, end
+        nodal = nodal.reshape(3, b - a, 3, trees, n).transpose(1, 3, 2, 4, 0).reshape(b - a, trees, 3 * n, 3)
+        np.matmul(push[a:b], nodal, out=out[a:b])
+    return out
 
 
-def _held_path(states, hm, flat, limit, contact):
+def _held_path(states, hm, joints, limit, contact):
     """A sweep's offsets (3, nodes, slots) at the frames then halfway between (the cubic
     Hermite midpoints of ``states`` (F, slots, 2, 3), ``hm`` the steps [s]), held so the
     next sweep's force sees joints within their limits and tips outside the colliders;
@@ -245,7 +299,7 @@ def _held_path(states, hm, flat, limit, contact):
     new = np.concatenate([p, 0.5 * (p[:, :-1] + p[:, 1:]) + hm * (v[:, :-1] - v[:, 1:]) / 8.0], axis=1)
     if not np.all(np.isfinite(new)):
         return None
-    new = limit_joints(new, flat, limit)
+    new = _in_node_blocks(limit_joints, new, joints, limit)
     return new if contact is None else hold_outside(new, contact)
 
 
@@ -298,7 +352,7 @@ def integrate(slots, coefficients, times, drive, g_ref, cyclic=False, substeps=1
     start = np.zeros(state_shape)
     best, change, sweeps, history = None, np.inf, 0, []  # history: changes of the sweeps so far [rad]
     hm = h[None, :, None]
-    flat = flat_matrices(slots)
+    joints = joint_groups(slots)
     for sweeps in range(1, MAX_SWEEPS + 1):
         if sweeps <= STIFFNESS_SWEEPS:
             dx, dy, dz = _turned(psi[0, frames:], psi[1, frames:], psi[2, frames:], d0[:, frames:])
@@ -308,11 +362,11 @@ def integrate(slots, coefficients, times, drive, g_ref, cyclic=False, substeps=1
             phi, beta = oscillator_steps(k_net, c, h[:, None])
             m, push = _chain_maps(phi, beta, k, c, mu, h, slots)
             maps = compose_pairs(m, _PAIR_LEVELS)
-        force = _gravity_and_turn(psi, d0, ge, al, gain, loaded)
-        forces = push @ _nodal_forces(psi, d0, force, stiff, frames, trees, n)
+        force = _in_node_blocks(_gravity_and_turn, psi, d0, ge, al, gain, loaded)
+        forces = _pushed_forces(push, psi, d0, force, stiff, frames, trees, n)
         if cyclic:
             start = periodic_start(maps, forces, state_shape)
-        new = _held_path(run_affine(maps, forces, start).reshape(frames, trees * n, 2, 3), hm, flat, limit, contact)
+        new = _held_path(run_affine(maps, forces, start).reshape(frames, trees * n, 2, 3), hm, joints, limit, contact)
         if new is None:
             break
         change = float(np.max(np.abs(new[:, :frames] - psi[:, :frames]))) if new.size else 0.0

@@ -78,27 +78,60 @@ class ChainSlots:
         return out
 
 
-def limit_joints(psi, flat, limit):
+def limit_joints(psi, joints, limit):
     """Offsets (3, nodes, trees * size), component-first, with every joint's bend
     (its offset relative to its parent's) held within ``limit`` (trees * size,) [rad];
-    ``flat`` from :func:`flat_matrices`."""
-    joint_of, path_of = flat
-    rel = psi @ joint_of
+    ``joints`` from :func:`joint_groups`.
+
+    Linear in the bones: each tree's bends and path sums are products with its own
+    size x size matrices, and trees of the same shape share one product.
+    """
+    rel = _tree_products(psi, joints, 0)
     angle2 = rel[0] * rel[0] + rel[1] * rel[1] + rel[2] * rel[2]
     over = angle2 > limit * limit
     if not np.any(over):
         return psi
     shrink = np.where(over, limit / np.sqrt(np.where(over, angle2, 1.0)) - 1.0, 0.0)
     # each joint pulled back moves itself and everything below it by the same rotation
-    return psi + (rel * shrink) @ path_of
+    return psi + _tree_products(rel * shrink, joints, 1)
 
 
-def flat_matrices(slots):
-    """``(I - P)^T`` and ``path^T`` over all slots: joint rotations and their sums by matmul."""
-    count = slots.trees * slots.size
-    joint, path = np.zeros((count, count)), np.zeros((count, count))
-    for t in range(slots.trees):
-        cut = slice(t * slots.size, (t + 1) * slots.size)
-        joint[cut, cut] = (np.eye(slots.size) - slots.parent_matrix[t]).T
-        path[cut, cut] = slots.path_matrix[t].T
-    return joint, path
+def _tree_products(values, joints, which):
+    """``values`` (3, nodes, trees * size) times each tree's matrix ``which`` (0: bends, 1: path sums).
+
+    Each group is one product of a tall matrix (numpy loops over a stack of small ones).
+    """
+    size = joints.size
+    if len(joints.groups) == 1:  # every tree the same shape: one product
+        flat = np.ascontiguousarray(values).reshape(-1, size)
+        return (flat @ joints.matrices[0][which]).reshape(values.shape)
+    per_tree = values.reshape(values.shape[:2] + (len(joints.tree_of_group), size))
+    out = np.empty_like(per_tree)
+    for group, matrices in zip(joints.groups, joints.matrices):
+        rows = per_tree[:, :, group]
+        out[:, :, group] = (np.ascontiguousarray(rows).reshape(-1, size) @ matrices[which]).reshape(rows.shape)
+    return out.reshape(values.shape)
+
+
+@dataclass(frozen=True)
+class JointGroups:
+    """Trees grouped by shape: for each group its trees (a slice when it is every tree) and
+    its ``((I - P)^T, path^T)`` size x size matrices; what :func:`limit_joints` multiplies."""
+
+    size: int
+    tree_of_group: np.ndarray
+    groups: tuple
+    matrices: tuple
+
+
+def joint_groups(slots):
+    """:class:`JointGroups` of ``slots``."""
+    shapes, index = np.unique(slots.parent_matrix.reshape(slots.trees, -1), axis=0, return_inverse=True)
+    index = np.asarray(index).reshape(-1)
+    groups, matrices = [], []
+    for g in range(len(shapes)):
+        members = np.flatnonzero(index == g)
+        groups.append(slice(None) if len(members) == slots.trees else members)
+        t = members[0]
+        matrices.append(((np.eye(slots.size) - slots.parent_matrix[t]).T, slots.path_matrix[t].T))
+    return JointGroups(slots.size, index, tuple(groups), tuple(matrices))
