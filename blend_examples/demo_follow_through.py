@@ -56,8 +56,9 @@ def follow_through_pass(demo):
     s = scene.leapwright_follow_through
     s.preset = PRESET
     s.use_scene_range = True
-    # The ponytail and the skirt keep out of the mannequin's head, neck, torso and thighs
-    # (capsules fitted to its deform bones, radii measured on its skin).
+    # The ponytail and the skirt keep out of the mannequin's head, neck, torso and thighs (capsules
+    # fitted to its deform bones; its parts are separate meshes, not skinned, so the radii come from
+    # the body's proportions).
     s.keep_out = True
     bones = lag_bones()
     operator_call(bpy.ops.leapwright.bake_follow_through, rig, bones=",".join(bones), preset="SETTINGS")
@@ -108,23 +109,70 @@ def _without_layer(rig, track):
             rig.path_resolve(rec["path"])[rec["index"]] = rec["value"]
 
 
+def _chains():
+    """The baked chains, root to tip: the ponytail and each skirt flap."""
+    import mannequin
+
+    return [tuple(mannequin.PONYTAIL)] + [(f"skirt_{flap}_1", f"skirt_{flap}_2") for flap in SKIRT_FLAPS]
+
+
+def _capsule_depths(scene, rig, frames):
+    """Deepest each chain's bone tips go into the body capsules it was kept out of, and below the
+    ground, over ``frames`` [m] (negative: clear), read back through the depsgraph in world space.
+
+    The capsules are the bake's own fit of the rig (the extension's body map, not registered here)
+    with each chain's radii from the body readout the file keeps; a part the chain was not simulated
+    against (out of its reach) is measured with its full radius all the same. Closest point on a
+    segment: Ericson 2005, "Real-Time Collision Detection", sec. 5.1.2.
+    """
+    import bpy
+
+    from cli.blend import saved_setting
+    from leapwright.follow_through import body_colliders
+
+    body = json.loads(saved_setting(scene, "body_readout", "leapwright_follow_through") or "{}")
+    fit = body_colliders.fit_body(scene, rig)
+    full = {name: values[0] for name, values in body["parts"].items()}
+    worst = {chain[0]: -np.inf for chain in _chains()}
+    for f in frames:
+        scene.frame_set(int(f))
+        ev = rig.evaluated_get(bpy.context.evaluated_depsgraph_get())
+        world = np.array(ev.matrix_world)
+        mats = np.array([world @ np.array(ev.pose.bones[n].matrix) for n in fit.bones])[None]
+        for chain in _chains():
+            radii = dict(full, **body["chains"][chain[0]])
+            r = np.array([radii[p.name] for p in fit.parts])
+            starts, ends = body_colliders.body_segments(fit, np.where(r > 0.0, r, 1.0), mats, 1.0)
+            tips = np.array([list(ev.matrix_world @ ev.pose.bones[b].tail) for b in chain])
+            ab = ends[0] - starts[0]  # (K, 3)
+            t = np.clip(np.einsum("nkc,kc->nk", tips[:, None] - starts[0][None], ab) / np.maximum((ab * ab).sum(-1), 1e-12), 0, 1)
+            gap = np.linalg.norm(tips[:, None] - (starts[0][None] + t[..., None] * ab[None]), axis=-1)
+            depth = np.where(r > 0.0, r[None] - gap, -np.inf).max()
+            worst[chain[0]] = max(worst[chain[0]], float(depth), float(body["ground"] - tips[:, 2].min()))
+    return worst
+
+
 def probe(blend):
-    """Print ``LAG {json}`` for a saved demo file (plain Blender data, add-on not needed)."""
+    """Print ``LAG {json}`` for a saved demo file (plain Blender data; the add-on's body fit is imported,
+    not registered)."""
     import mannequin
 
     scene, rig, track = _open(blend)
     names = [mannequin.PONYTAIL[-1], "skirt_back_2"]
     frames = np.arange(scene.frame_start, scene.frame_end + 1)
     baked = _angles_from_down(scene, rig, names, frames)
+    kept_out = _capsule_depths(scene, rig, frames)
     _without_layer(rig, track)
     animated = _angles_from_down(scene, rig, names, frames)
+    free = _capsule_depths(scene, rig, frames)  # the animated pose, with the layer muted
     track.mute = False
     from leapwright.core.follow_through.presets import chain_preset  # the repository's core: the preset's published sag
 
     print("LAG " + json.dumps({"fps": scene.render.fps / scene.render.fps_base, "frames": frames.tolist(),
                                "bones": names, "baked_deg": baked.tolist(), "animated_deg": animated.tolist(),
                                "markers": _markers(scene), "sag_deg": math.degrees(chain_preset(PRESET).sag),
-                               "track_strips": len(track.strips)}))
+                               "track_strips": len(track.strips), "capsule_depth_m": kept_out,
+                               "capsule_depth_muted_m": free}))
 
 
 def strip_moments(marks):

@@ -256,3 +256,23 @@ def test_ponytail_and_skirt_float_in_flight_and_drop_on_landing(lag_probe, bone,
     assert baked[f == marks["landing"] - 1][0] > standing  # still floating just before touchdown
     soon = (f >= marks["landing"]) & (f <= marks["landing"] + droop_within * fps + 1e-9)
     assert baked[soon].min() < standing, (baked[soon], standing)
+
+
+CHAINS = ("ponytail_1", "skirt_front_1", "skirt_back_1", "skirt_left_1", "skirt_right_1")
+
+
+@pytest.mark.parametrize("chain", [
+    pytest.param("ponytail_1", marks=pytest.mark.xfail(strict=True, reason=(
+        "known limit of the contact hold: after the landing on the crate (frames 47-48) the ponytail's "
+        "last tip sits in the corner where the neck and torso capsules meet; turning it out of the one "
+        "it is deepest in puts it into the other, round after round, and it ends 16.7 mm into the neck "
+        "(measured in the core's own output), though most directions of that bone clear both"))),
+    *CHAINS[1:]])
+def test_ponytail_and_skirt_stay_out_of_the_body_and_above_the_ground(lag_probe, chain):
+    # The demo bakes with Keep out of the body on: every chain's bone tips, read back through the
+    # depsgraph at every frame, stay outside the body capsules the bake used (the radii of its body
+    # readout, segments on the evaluated deform bones; plain geometry, Ericson 2005 sec. 5.1.2) and
+    # above the ground. Slack 1 mm: keys are float32 and the contact is held at the frames exactly.
+    depths = lag_probe["capsule_depth_m"]
+    assert set(depths) == set(CHAINS)
+    assert depths[chain] < 0.001, (chain, depths[chain], lag_probe["capsule_depth_muted_m"][chain])
