@@ -38,6 +38,12 @@ __all__ = ["Colliders", "closest_on_segments", "contact_arrays", "contact_nodes"
 _ROUNDS = 64
 #: A tip this close to the surface [m] counts as outside (far below what shows).
 _REACHED = 1e-6
+#: Angle step [rad] (0.5 deg) and directions per cone of the search that clears a tip caught
+#: between two surfaces.
+_CLEAR_STEP = np.radians(0.5)
+_CLEAR_AZIMUTHS = 36
+#: Halvings of the last step along the chosen direction (the turn to about 1e-6 rad).
+_CLEAR_BISECTIONS = 14
 
 
 @dataclass(frozen=True)
@@ -163,9 +169,14 @@ def _turn_towards(now, want):
     return np.where(sine > 1e-15, turn / np.where(sine > 1e-15, sine, 1.0) * angle, 0.0)
 
 
-def hold_outside(psi, contact):
+def hold_outside(psi, contact, clear_corners=False):
     """Offsets (3, nodes, N) with every bone's tip held outside the capsules and above the
     ground, bones turned about their heads, root to tip.
+
+    With ``clear_corners``, a tip still inside after :data:`_ROUNDS` (caught where two surfaces
+    meet) is turned by a least angle that clears every surface at once (:func:`_turn_clear`).
+    The integrator does this on the path it returns, not inside its sweeps: fed back into the
+    sweeps, the jump from one side of a corner to the other kept them from converging.
 
     ``contact`` is :func:`contact_nodes`' dict: the animated ``d0``, ``heads`` and
     ``levers`` (nodes, N, 3), the capsules at the nodes (``starts``, ``ends`` (nodes, K, 3)),
@@ -186,6 +197,8 @@ def hold_outside(psi, contact):
             node, bone = _turn_out(offsets, heads, d0, contact, node, bone)
             if not node.size:
                 break
+        if node.size and clear_corners:  # caught between two surfaces (a concave corner)
+            _turn_clear(offsets, heads, d0, contact, node, bone)
     return offsets.transpose(2, 0, 1)
 
 
@@ -227,6 +240,69 @@ def _surface_targets(tip, head, length, contact, node):
     circle = head + along[:, None] * axis + (np.sqrt(np.maximum(length * length - along * along, 0.0))
                                              / np.maximum(side, 1e-300))[:, None] * perp
     return np.where(exact[:, None], circle, nearest), depth
+
+
+def _depth_inside(tips, contact, node):
+    """How deep tips (M, C, 3) are inside any capsule at their nodes (M,) or below the ground [m]."""
+    depth = np.full(tips.shape[:2], -np.inf)
+    if len(contact["radii"]):
+        starts, ends = contact["starts"][node][:, None], contact["ends"][node][:, None]  # (M, 1, K, 3)
+        near = closest_on_segments(tips, starts, ends)  # (M, C, K, 3)
+        depth = np.max(contact["radii"] - np.linalg.norm(tips[:, :, None] - near, axis=-1), axis=-1)
+    if contact["ground"] is not None:
+        depth = np.maximum(depth, contact["ground"] - tips @ contact["up"])
+    return depth
+
+
+def _turn_clear(offsets, heads, d0, contact, node, bone):
+    """Turn bones ``(node, bone)`` whose tips stay inside after :data:`_ROUNDS` by a least angle
+    that puts the tip outside every surface at once, in place.
+
+    Turning out of the deepest surface alone can swing a tip between two that meet at a concave
+    corner (the neck and the torso), each turn putting it back into the other. The tip's reachable
+    places are the sphere of the bone's length about its head: cones of growing angle about the
+    bone are searched; in the first cone with directions outside everything, the one nearest where
+    the deepest surface alone would send the tip gives the azimuth, and the least angle along it
+    that clears is found by bisection. A tip no direction clears keeps its last turn.
+    """
+    now = rotate(offsets[node, bone], d0[node, bone])
+    length = contact["lengths"][bone]
+    target, _ = _surface_targets(heads[node, bone] + length[:, None] * now, heads[node, bone], length, contact, node)
+    want = target - heads[node, bone]
+    want /= np.maximum(np.linalg.norm(want, axis=-1, keepdims=True), 1e-12)
+    side = np.cross(now, np.where(np.abs(now[:, :1]) < 0.9, [[1.0, 0.0, 0.0]], [[0.0, 1.0, 0.0]]))
+    side /= np.linalg.norm(side, axis=-1, keepdims=True)
+    other = np.cross(now, side)
+    angle = np.arange(1, int(np.pi / _CLEAR_STEP) + 1) * _CLEAR_STEP  # (A,)
+    around = np.linspace(0.0, 2.0 * np.pi, _CLEAR_AZIMUTHS, endpoint=False)  # (Z,)
+    ring = np.cos(around)[:, None, None] * side[None] + np.sin(around)[:, None, None] * other[None]  # (Z, M, 3)
+    chosen, found = now.copy(), np.zeros(len(node), dtype=bool)
+    for a in angle:  # smallest angle first
+        todo = np.flatnonzero(~found)
+        if not todo.size:
+            break
+        dirs = (np.cos(a) * now[todo][None] + np.sin(a) * ring[:, todo]).transpose(1, 0, 2)  # (m, Z, 3)
+        depth = _depth_inside(heads[node[todo], bone[todo]][:, None] + length[todo, None, None] * dirs, contact, node[todo])
+        # of the clearing directions, the one nearest where the deepest surface alone would send the tip
+        # (the next sweep then finds nearly the same one: the sweeps still converge)
+        score = np.where(depth <= 0.0, np.einsum("mzc,mc->mz", dirs, want[todo]), -np.inf)
+        best = np.argmax(score, axis=1)
+        clear = np.isfinite(score[np.arange(todo.size), best])
+        rows = todo[clear]
+        if rows.size:  # the least angle along that azimuth that clears, by bisection within the last step
+            azimuth = ring[best[clear], rows]
+            lo, hi = np.full(rows.size, a - _CLEAR_STEP), np.full(rows.size, a)
+            for _ in range(_CLEAR_BISECTIONS):
+                mid = 0.5 * (lo + hi)
+                trial = np.cos(mid)[:, None] * now[rows] + np.sin(mid)[:, None] * azimuth
+                ok = _depth_inside(heads[node[rows], bone[rows]][:, None] + length[rows, None, None] * trial[:, None],
+                                   contact, node[rows])[:, 0] <= 0.0
+                lo, hi = np.where(ok, lo, mid), np.where(ok, mid, hi)
+            chosen[rows] = np.cos(hi)[:, None] * now[rows] + np.sin(hi)[:, None] * azimuth
+            found[rows] = True
+    turn = quaternion_multiply(rotvec_to_quaternion(_turn_towards(now[found], chosen[found])),
+                               rotvec_to_quaternion(offsets[node[found], bone[found]]))
+    offsets[node[found], bone[found]] = quaternion_to_rotvec(turn)
 
 
 def _turn_out(offsets, heads, d0, contact, node, bone):

@@ -379,4 +379,6 @@ def integrate(slots, coefficients, times, drive, g_ref, cyclic=False, substeps=1
     if best is None:  # the very first sweep was not finite: nothing moved
         best = (np.inf, np.zeros_like(psi))
     change, psi = best
+    if contact is not None:  # tips the sweeps left in a corner between two surfaces
+        psi = hold_outside(psi, contact, clear_corners=True)
     return psi[:, :frames:substeps].transpose(1, 2, 0), sweeps, change

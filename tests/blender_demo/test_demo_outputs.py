@@ -261,13 +261,7 @@ def test_ponytail_and_skirt_float_in_flight_and_drop_on_landing(lag_probe, bone,
 CHAINS = ("ponytail_1", "skirt_front_1", "skirt_back_1", "skirt_left_1", "skirt_right_1")
 
 
-@pytest.mark.parametrize("chain", [
-    pytest.param("ponytail_1", marks=pytest.mark.xfail(strict=True, reason=(
-        "known limit of the contact hold: after the landing on the crate (frames 47-48) the ponytail's "
-        "last tip sits in the corner where the neck and torso capsules meet; turning it out of the one "
-        "it is deepest in puts it into the other, round after round, and it ends 16.7 mm into the neck "
-        "(measured in the core's own output), though most directions of that bone clear both"))),
-    *CHAINS[1:]])
+@pytest.mark.parametrize("chain", CHAINS)
 def test_ponytail_and_skirt_stay_out_of_the_body_and_above_the_ground(lag_probe, chain):
     # The demo bakes with Keep out of the body on: every chain's bone tips, read back through the
     # depsgraph at every frame, stay outside the body capsules the bake used (the radii of its body

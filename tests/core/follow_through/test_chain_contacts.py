@@ -161,3 +161,29 @@ def test_bad_colliders_are_refused_with_the_values():
         bake_chains(t, heads, rot, parents, params, colliders=Colliders(ground=0.0, lengths=[BONE] * 2))
     with pytest.raises(InvalidGoalError, match="must be Colliders, got dict"):
         bake_chains(t, heads, rot, parents, params, colliders={"ground": 0.0})
+
+
+def test_a_tip_in_the_corner_of_two_capsules_is_turned_out_of_both():
+    # Two overlapping balls under a hanging bone, the crevice between them right below its head:
+    # the rest tip is inside both (by 19 mm), and turning it out of the one it is deepest in puts it
+    # into the other. Plain geometry decides (closest point on a segment, Ericson 2005 sec. 5.1.2):
+    # every baked tip must be outside both balls within 1 mm, at every frame.
+    fps = 24.0
+    t = np.arange(0.0, 1.0, 1.0 / fps)
+    length = 0.11
+    head = np.array([0.0, 0.0, 1.0])
+    heads = np.broadcast_to(head, (len(t), 1, 3)).copy()
+    down = np.column_stack([[1.0, 0.0, 0.0], [0.0, 0.0, -1.0], [0.0, 1.0, 0.0]])  # +Y along -Z
+    rot = np.broadcast_to(down, (len(t), 1, 3, 3)).copy()
+    centres = head + np.array([[0.05, 0.0, -0.12], [-0.05, 0.0, -0.12]])
+    radius = 0.07
+    starts = np.broadcast_to(centres, (len(t), 2, 3)).copy()
+    rest_tip = head + np.array([0.0, 0.0, -length])
+    assert np.all(radius - np.linalg.norm(rest_tip - centres, axis=1) > 0.018)  # inside both at rest
+    colliders = Colliders(starts, starts.copy(), np.full(2, radius), None, np.array([length]))
+    bake = bake_chains(t, heads, rot, [-1], chain_preset("hair"), colliders=colliders)
+    d = (rotvec_to_matrix(bake.world_offsets) @ rot)[:, 0, :, 1]
+    tip = head + length * d
+    gap = np.linalg.norm(tip[:, None] - centres[None], axis=-1) - radius
+    assert gap.min() > -1e-3, gap.min()
+    assert np.all(np.isfinite(bake.world_offsets))
