@@ -284,7 +284,7 @@ def _turn_clear(offsets, heads, d0, contact, node, bone):
         dirs = (np.cos(a) * now[todo][None] + np.sin(a) * ring[:, todo]).transpose(1, 0, 2)  # (m, Z, 3)
         depth = _depth_inside(heads[node[todo], bone[todo]][:, None] + length[todo, None, None] * dirs, contact, node[todo])
         # of the clearing directions, the one nearest where the deepest surface alone would send the tip
-        # (the next sweep then finds nearly the same one: the sweeps still converge)
+        # (on neighbouring frames the same side of the corner, so the tip does not jump across it)
         score = np.where(depth <= 0.0, np.einsum("mzc,mc->mz", dirs, want[todo]), -np.inf)
         best = np.argmax(score, axis=1)
         clear = np.isfinite(score[np.arange(todo.size), best])
