@@ -154,7 +154,7 @@ def _in_node_blocks(node_wise, first, *rest):
     per_node = [isinstance(x, np.ndarray) and x.ndim == 3 and x.shape[1] == nodes for x in rest]
     for a in range(0, nodes, block):
         cut = slice(a, a + block)
-        out[:, cut] = node_wise(first[:, cut], *(x[:, cut] if block else x for x, block in zip(rest, per_node)))
+        out[:, cut] = node_wise(first[:, cut], *(x[:, cut] if sliced else x for x, sliced in zip(rest, per_node)))
     return out
 
 

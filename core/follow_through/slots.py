@@ -105,7 +105,7 @@ def _tree_products(values, joints, which):
     if len(joints.groups) == 1:  # every tree the same shape: one product
         flat = np.ascontiguousarray(values).reshape(-1, size)
         return (flat @ joints.matrices[0][which]).reshape(values.shape)
-    per_tree = values.reshape(values.shape[:2] + (len(joints.tree_of_group), size))
+    per_tree = values.reshape(values.shape[:2] + (len(joints.group_of_tree), size))
     out = np.empty_like(per_tree)
     for group, matrices in zip(joints.groups, joints.matrices):
         rows = per_tree[:, :, group]
@@ -115,11 +115,11 @@ def _tree_products(values, joints, which):
 
 @dataclass(frozen=True)
 class JointGroups:
-    """Trees grouped by shape: for each group its trees (a slice when it is every tree) and
-    its ``((I - P)^T, path^T)`` size x size matrices; what :func:`limit_joints` multiplies."""
+    """Trees grouped by shape: each tree's group, and for each group its trees (a slice when it is
+    every tree) and its ``((I - P)^T, path^T)`` size x size matrices; what :func:`limit_joints` multiplies."""
 
     size: int
-    tree_of_group: np.ndarray
+    group_of_tree: np.ndarray
     groups: tuple
     matrices: tuple
 

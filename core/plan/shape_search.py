@@ -144,11 +144,8 @@ class LineTables:
         # Each slope is one power of a duration times a constant, so its sign is fixed: split the
         # limits once into lower bounds (rising), upper bounds (falling) and flat ones.
         sign = np.sign(np.where(np.abs(slope) > 1e-12, slope, 0.0).sum(axis=0))
-        self.lower = (offset[:, sign > 0], slope[:, sign > 0])
-        self.upper = (offset[:, sign < 0], slope[:, sign < 0])
-        self.flat = offset[:, sign == 0]
         # One matrix for all five products (one multiplication per batch rather than five).
-        parts = (self.flat,) + self.lower + self.upper
+        parts = (offset[:, sign == 0], offset[:, sign > 0], slope[:, sign > 0], offset[:, sign < 0], slope[:, sign < 0])
         self._stacked = np.concatenate(parts, axis=1)
         ends = np.cumsum([0] + [p.shape[1] for p in parts]).tolist()
         self._cuts = [slice(a, b) for a, b in zip(ends[:-1], ends[1:])]
