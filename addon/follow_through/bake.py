@@ -24,7 +24,7 @@ from mathutils import Euler, Quaternion
 from ..blender import layer_rewrite, ownership
 from ..rig import sampling as rig_sampling, space as rig_space
 from ..blender.curves import CurveSpec
-from ..core.follow_through.chains import BakeOptions, ChainParameters, bake_chains
+from ..core.follow_through.chains import BakeOptions, ChainParameters
 from ..core.follow_through.presets import chain_preset
 from ..core.base.constants import STANDARD_GRAVITY
 from . import body_colliders, contact_bake
@@ -241,7 +241,7 @@ def sampling_plan(rig, request, scene=None):
     return names, frames, eulers, channels
 
 
-def simulation(scene, rig, request, matrices):
+def simulation(scene, rig, request, matrices, prepared=None):
     """The core's simulation of ``request`` on sampled ``matrices``, as a call that reads no Blender data.
 
     Everything taken from Blender (units, frame rate, the bone tree) is read here,
@@ -251,6 +251,10 @@ def simulation(scene, rig, request, matrices):
     ----------
     matrices : ndarray (F, B, 4, 4)
         World matrices of the request's bones at its frames [Blender units].
+    prepared : dict, optional
+        Where the drive made from these matrices is kept between bakes (the kept take's
+        :attr:`.sampled_motion.SampledMotion.prepared`): a re-bake of the same motion with other
+        chain settings takes it from there. None makes it for this bake alone.
 
     Returns
     -------
@@ -269,12 +273,16 @@ def simulation(scene, rig, request, matrices):
     options = BakeOptions(cyclic=request.cyclic, resets=resets, key_tolerance=float(request.key_tolerance),
                           on_twos=bool(request.on_twos))
     gravity = (0.0, 0.0, -float(request.gravity))
+    # what the drive depends on besides the matrices; the chain settings are not part of it
+    made_for = (unit, fps, request.frame_start, request.frame_end, chosen, tuple(parents), options.cyclic, resets,
+                gravity)
+    motions = {} if prepared is None else prepared.setdefault(made_for, {})
     if not request.keep_out:
-        return functools.partial(bake_chains, times, heads, rotations, parents, request.parameters,
-                                 gravity=gravity, options=options)
+        return functools.partial(contact_bake.bake_prepared, motions, times, heads, rotations, parents,
+                                 request.parameters, gravity, options)
     body = body_colliders.body_for_bake(scene, rig, request, matrices, parents)
     call = functools.partial(contact_bake.bake_kept_out, times, heads, rotations, parents, request.parameters,
-                             gravity, options, body)
+                             gravity, options, body, motions)
     call.body_text = body["text"]  # the panel's readout of the capsules, written with the keys
     return call
 

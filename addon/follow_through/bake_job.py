@@ -126,7 +126,7 @@ class BakeJob:
         if not self._outcome:
             if self._thread is None:
                 self._started = time.perf_counter()
-                call = bake.simulation(self.scene, self.rig, self.request, self._take.matrices)
+                call = bake.simulation(self.scene, self.rig, self.request, self._take.matrices, self._take.prepared)
                 self._body_text = getattr(call, "body_text", "")
                 if not self.threaded:
                     self._outcome.append(simulate_on_one_blas_thread(call))

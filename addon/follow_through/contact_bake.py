@@ -10,7 +10,7 @@ changes nothing but the call count.
 
 import numpy as np
 
-from ..core.follow_through.chains import ChainBake, Colliders, bake_chains
+from ..core.follow_through.chains import ChainBake, Colliders, bake_motion, chain_motion, drive_options
 
 
 def _group_parents(parents, members):
@@ -27,17 +27,33 @@ def _colliders(body, radii, members):
                      ground=body["ground"], lengths=lengths)
 
 
-def bake_kept_out(times, heads, rotations, parents, parameters, gravity, options, body):
-    """:func:`bake_chains` with each chain kept out of the body and above the ground.
+def bake_prepared(motions, times, heads, rotations, parents, parameters, gravity, options, colliders=None,
+                  members=None):
+    """The core's ``bake_chains`` of the bones ``members`` (all when None), with the drive made from
+    the motion kept in ``motions`` (a dict this fills): baking the same motion again with other chain
+    settings only simulates."""
+    key = (None if members is None else tuple(members), drive_options(options))
+    motion = motions.get(key)
+    if motion is None:
+        pick = slice(None) if members is None else list(members)
+        chosen = parents if members is None else _group_parents(parents, members)
+        motion = motions[key] = chain_motion(times, heads[:, pick], rotations[:, pick], chosen, gravity, options)
+    return bake_motion(motion, parameters, colliders, options)
+
+
+def bake_kept_out(times, heads, rotations, parents, parameters, gravity, options, body, motions=None):
+    """The core's ``bake_chains`` with each chain kept out of the body and above the ground.
 
     Parameters
     ----------
     times, heads, rotations, parents, parameters, gravity, options
-        As :func:`bake_chains` takes them (one set of parameters for all bones).
+        As ``bake_chains`` takes them (one set of parameters for all bones).
     body : dict
         ``starts``, ``ends`` (F, K, 3) capsule segments [m]; ``chains``: list of bone-index lists;
         ``radii``: one (K,) array per chain [m] (0 leaves a part out); ``ground`` [m] or None;
         ``lengths`` (B,) bone lengths [m].
+    motions : dict, optional
+        Drive kept between bakes of the same motion (:func:`bake_prepared`); None keeps none.
 
     Returns
     -------
@@ -49,11 +65,11 @@ def bake_kept_out(times, heads, rotations, parents, parameters, gravity, options
     for members, radii in zip(body["chains"], body["radii"]):
         groups.setdefault(tuple(np.round(radii, 9)), []).extend(members)
     parts = []
+    motions = {} if motions is None else motions
     for radii, members in groups.items():
         members = sorted(members)
-        result = bake_chains(times, heads[:, members], rotations[:, members], _group_parents(parents, members),
-                             parameters, gravity=gravity, options=options,
-                             colliders=_colliders(body, np.array(radii), members))
+        result = bake_prepared(motions, times, heads, rotations, parents, parameters, gravity, options,
+                               _colliders(body, np.array(radii), members), members)
         parts.append((members, result))
     if len(parts) == 1 and parts[0][0] == list(range(heads.shape[1])):
         return parts[0][1]

@@ -12,7 +12,7 @@ forgets everything.
 """
 
 import time
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -44,6 +44,9 @@ class SampledMotion:
         Pose-bone channels read in the same pass.
     seconds : float
         What sampling it took [s] (tells whether a re-sample fits inside a live re-bake).
+    prepared : dict
+        The core's drive made from this take (``chain_motion``), by what it was made for (units,
+        frame rate, bones, options), so a re-bake with other chain settings skips making it again.
     """
 
     key: tuple
@@ -51,6 +54,7 @@ class SampledMotion:
     matrices: np.ndarray
     values: dict
     seconds: float
+    prepared: dict = field(default_factory=dict)
 
 
 def take_key(bones, frames, channels, chosen=None):

@@ -70,9 +70,10 @@ from ..base.rotation_vectors import (quaternion_conjugate, quaternion_multiply, 
 from .apparent_weight import apparent_gravity
 from .contacts import Colliders, contact_arrays, contact_nodes
 from .chain_steps import integrate_chains
-from .integrator import ChainSlots, integrate
+from .integrator import ChainSlots, drive_nodes, integrate
 
-__all__ = ["BakeOptions", "ChainBake", "ChainParameters", "Colliders", "LinkCoefficients", "bake_chains"]
+__all__ = ["BakeOptions", "ChainBake", "ChainMotion", "ChainParameters", "Colliders", "LinkCoefficients", "bake_chains",
+           "bake_motion", "chain_motion", "drive_options"]
 
 @dataclass(frozen=True)
 class BakeOptions:
@@ -167,6 +168,85 @@ def _drive(slots, times, directions, accel, alpha, g_ref, cyclic, padding, lever
     return drive
 
 
+@dataclass(frozen=True)
+class ChainMotion:
+    """The chosen bones' sampled motion made ready to bake, whatever the chain settings.
+
+    Checking the samples and turning them into the drive the chains feel (head and
+    angular accelerations, apparent gravity, the values halfway between samples) is a
+    fixed share of every bake that no chain setting changes. A tool that bakes the
+    same motion again with other settings (tuning) makes this once with
+    :func:`chain_motion` and gives it to :func:`bake_motion` each time. Treat it as
+    read-only: the arrays are shared by every bake made from it.
+
+    Parameters
+    ----------
+    times, heads, rotations, parents, gravity
+        The checked samples as :func:`bake_chains` takes them (rotations with scale
+        removed, gravity as a (3,) array [m/s^2]).
+    options : BakeOptions
+        The options the motion was made for (cyclic, resets and the model decide the drive).
+    slots : ChainSlots
+        The chains laid out in padded trees.
+    padding : numpy.ndarray of int
+        The slots no bone uses.
+    segments : tuple of (int, int, dict)
+        Each stretch between resets of two or more samples, ``(first, end, drive)``, with
+        the integrator's drive over it (:func:`.integrator.integrate`).
+    tolerance : float
+        The options' key tolerance, checked [rad].
+    """
+
+    times: np.ndarray
+    heads: np.ndarray
+    rotations: np.ndarray
+    parents: np.ndarray
+    gravity: np.ndarray
+    options: BakeOptions
+    slots: ChainSlots
+    padding: np.ndarray
+    segments: tuple
+    tolerance: float
+
+
+def chain_motion(times, heads, rotations, parents, gravity=(0.0, 0.0, -STANDARD_GRAVITY), options=BakeOptions()):
+    """The samples checked and turned into the chains' drive, for :func:`bake_motion`.
+
+    Parameters are those of :func:`bake_chains` (without the chain parameters and
+    colliders, which the drive does not depend on).
+
+    Returns
+    -------
+    ChainMotion
+
+    Raises
+    ------
+    InvalidGoalError
+        For bad options or parents (the value and a fix in the message).
+    InvalidTrajectoryError
+        For samples of the wrong shape, non-finite, non-increasing or mirrored, or
+        accelerations no rig could mean (a teleport, a flipped rotation).
+    """
+    times, heads, rots, parents, g_ref = check_samples(times, heads, rotations, parents, gravity)
+    frames = heads.shape[0]
+    _, tolerance = _check_options(options, frames)
+    slots = ChainSlots.from_parents(parents)
+    padding = np.setdiff1d(np.arange(slots.trees * slots.size), slots.slot)
+    segments = []
+    for lo, hi in split_segments(frames, options.resets):
+        if hi - lo < 2:
+            continue  # a lone sample after a cut is the animated pose itself
+        seg_times = times[lo:hi]
+        accel, alpha = frame_accelerations(seg_times, heads[lo:hi], rots[lo:hi], options.cyclic)
+        check_drive(accel, alpha, seg_times, lo)
+        levers = _levers(heads[lo:hi], parents) if options.multi_link else None
+        drive = _drive(slots, seg_times, rots[lo:hi, :, :, 1], accel, alpha, g_ref, options.cyclic, padding, levers)
+        if not options.multi_link and options.substeps == 1:
+            drive["nodes"] = drive_nodes(drive)
+        segments.append((lo, hi, drive))
+    return ChainMotion(times, heads, rots, parents, g_ref, options, slots, padding, tuple(segments), tolerance)
+
+
 def bake_chains(times, heads, rotations, parents, parameters, gravity=(0.0, 0.0, -STANDARD_GRAVITY), options=BakeOptions(),
                 colliders=None):
     """Simulate drag and follow-through for the chosen bones.
@@ -206,29 +286,59 @@ def bake_chains(times, heads, rotations, parents, parameters, gravity=(0.0, 0.0,
     InvalidTrajectoryError
         For samples of the wrong shape, non-finite, non-increasing or mirrored.
     """
-    times, heads, rots, parents, g_ref = check_samples(times, heads, rotations, parents, gravity)
+    return bake_motion(chain_motion(times, heads, rotations, parents, gravity, options), parameters, colliders)
+
+
+def bake_motion(motion, parameters, colliders=None, options=None):
+    """:func:`bake_chains` on motion made ready by :func:`chain_motion` (the same result, bit for bit).
+
+    Parameters
+    ----------
+    motion : ChainMotion
+    parameters : ChainParameters or LinkCoefficients, or a sequence of them (one per bone)
+    colliders : Colliders, optional
+    options : BakeOptions, optional
+        Other keying (``key_tolerance``, ``on_twos``) than the motion was made with; what
+        decides the drive (``cyclic``, ``resets``, ``substeps``, ``multi_link``) must be the
+        motion's own. None keeps the motion's options.
+
+    Returns
+    -------
+    ChainBake
+
+    Raises
+    ------
+    InvalidGoalError
+        For bad parameters, or options the motion was not made for.
+    """
+    if not isinstance(motion, ChainMotion):
+        raise InvalidGoalError(f"a bake of prepared motion needs the motion prepared from the samples, got a "
+                               f"{type(motion).__name__}; prepare it from the times, heads, rotations and parents first")
+    times, heads, rots, parents = motion.times, motion.heads, motion.rotations, motion.parents
     frames, bones = heads.shape[:2]
+    tolerance, given, options = motion.tolerance, options, motion.options
+    if given is not None and given is not motion.options:
+        options = given
+        _, tolerance = _check_options(given, frames)
+        if drive_options(given) != drive_options(motion.options):
+            raise InvalidGoalError(f"this motion was made for {drive_options(motion.options)} (cyclic, resets, "
+                                   f"substeps, multi-link), not {drive_options(options)}; prepare the motion again "
+                                   "with these options")
     coeffs = coefficient_arrays(parameters, bones)
-    substeps, tolerance = _check_options(options, frames)
-    contact = contact_arrays(colliders, frames, bones, substeps, g_ref)
-    slots = ChainSlots.from_parents(parents)
+    substeps = options.substeps
+    contact = contact_arrays(colliders, frames, bones, substeps, motion.gravity)
+    slots = motion.slots
     slot_coeffs = {name: slots.to_slots(value[:, None], 0.0)[:, 0] for name, value in coeffs.items()}
     slot_coeffs["limit"] = slots.to_slots(coeffs["limit"][:, None], math.pi)[:, 0]
-    padding = np.setdiff1d(np.arange(slots.trees * slots.size), slots.slot)
     world = np.zeros((frames, bones, 3))
     mismatch, passes = 0.0, 1
-    for lo, hi in split_segments(frames, options.resets):
-        if hi - lo < 2:
-            continue  # a lone sample after a cut is the animated pose itself
+    simulate = integrate_chains if options.multi_link else integrate
+    for lo, hi, drive in motion.segments:
         seg_times = times[lo:hi]
-        accel, alpha = frame_accelerations(seg_times, heads[lo:hi], rots[lo:hi], options.cyclic)
-        check_drive(accel, alpha, seg_times, lo)
-        levers = _levers(heads[lo:hi], parents) if options.multi_link else None
-        drive = _drive(slots, seg_times, rots[lo:hi, :, :, 1], accel, alpha, g_ref, options.cyclic, padding, levers)
         here = None if contact is None else contact_nodes(contact, lo, hi, slots, seg_times, heads[lo:hi],
                                                           rots[lo:hi, :, :, 1], options.cyclic)
-        simulate = integrate_chains if options.multi_link else integrate
-        offsets, sweeps, _ = simulate(slots, slot_coeffs, seg_times, drive, g_ref, options.cyclic, substeps, here)
+        offsets, sweeps, _ = simulate(slots, slot_coeffs, seg_times, drive, motion.gravity, options.cyclic, substeps,
+                                      here)
         passes = max(passes, sweeps)
         world[lo:hi] = offsets[:, slots.slot]
     # joint rotation in world axes, R(psi_p)^T R(psi_c), then in the bone's own axes
@@ -247,6 +357,11 @@ def bake_chains(times, heads, rotations, parents, parameters, gravity=(0.0, 0.0,
         mask = reduce_keys(quats, tolerance, mask, stepped, split_segments(frames, options.resets))
     peaks = np.max(np.linalg.norm(rotvecs, axis=-1), axis=0) if bones else np.zeros(0)
     return ChainBake(times, rotvecs, quats, world, mask, stepped, peaks, mismatch, passes)
+
+
+def drive_options(options):
+    """What of the options decides a bake's drive: ``(cyclic, resets, substeps, multi_link)``."""
+    return (bool(options.cyclic), tuple(int(r) for r in options.resets), int(options.substeps), bool(options.multi_link))
 
 
 def _levers(heads, parents):

@@ -78,7 +78,7 @@ from .slots import ChainSlots, joint_groups, limit_joints  # noqa: F401  (ChainS
 from .affine_runs import compose_pairs, periodic_start, run_affine
 from .steps import expm_batched, oscillator_steps
 
-__all__ = ["ChainSlots", "expm_batched", "integrate", "SWEEP_TOLERANCE", "ERROR_TOLERANCE", "MAX_SWEEPS"]
+__all__ = ["ChainSlots", "drive_nodes", "expm_batched", "integrate", "SWEEP_TOLERANCE", "ERROR_TOLERANCE", "MAX_SWEEPS"]
 
 #: A sweep that changes no offset by more than this [rad] (0.017 deg) ends the iteration.
 SWEEP_TOLERANCE = 3e-4
@@ -245,21 +245,22 @@ def _error_left(changes):
     return changes[-1] * rate / (1.0 - rate) if rate < 1.0 else np.inf
 
 
-def _drive_nodes(drive, g_ref, gain):
+def drive_nodes(drive):
     """The drive at the frame nodes then the middles, component-first (3, nodes, slots): unit
-    bone directions, apparent gravity [m/s^2], angular acceleration [rad/s^2], and the load
-    ``gain * (d x g_ref)`` under which the animated pose is the rest shape [1/s^2]."""
+    bone directions, apparent gravity [m/s^2] and angular acceleration [rad/s^2]. It depends on
+    the motion alone, so :func:`.chains.chain_motion` keeps it with the drive (key ``nodes``)."""
     mids = drive["directions_mid"] / np.linalg.norm(drive["directions_mid"], axis=-1, keepdims=True)
 
     def first(*parts):
         return np.ascontiguousarray(np.concatenate(parts).transpose(2, 0, 1))
 
-    d0 = first(drive["directions"], mids)
-    ge = first(drive["g_eff"], drive["g_eff_mid"])
-    al = first(drive["alpha"], drive["alpha_mid"])
-    loaded = gain * np.stack([d0[1] * g_ref[2] - d0[2] * g_ref[1], d0[2] * g_ref[0] - d0[0] * g_ref[2],
-                              d0[0] * g_ref[1] - d0[1] * g_ref[0]])
-    return d0, ge, al, loaded
+    return first(drive["directions"], mids), first(drive["g_eff"], drive["g_eff_mid"]), first(drive["alpha"], drive["alpha_mid"])
+
+
+def _loaded(d0, g_ref, gain):
+    """The load ``gain * (d0 x g_ref)`` under which the animated pose is the rest shape [1/s^2]."""
+    return gain * np.stack([d0[1] * g_ref[2] - d0[2] * g_ref[1], d0[2] * g_ref[0] - d0[0] * g_ref[2],
+                            d0[0] * g_ref[1] - d0[1] * g_ref[0]])
 
 
 def _swing(psi, d0):
@@ -346,7 +347,8 @@ def integrate(slots, coefficients, times, drive, g_ref, cyclic=False, substeps=1
     h = np.diff(times)
     used = np.zeros(trees * n, dtype=bool)
     used[slots.slot] = True
-    d0, ge, al, loaded = _drive_nodes(drive, g_ref, gain)
+    d0, ge, al = drive["nodes"] if "nodes" in drive else drive_nodes(drive)
+    loaded = _loaded(d0, g_ref, gain)
     psi = np.zeros((3, 2 * frames - 1, trees * n))
     state_shape = (trees, 2 * n, 3)
     start = np.zeros(state_shape)

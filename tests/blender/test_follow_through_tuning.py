@@ -28,6 +28,7 @@ def _keys(rig):
 def _request(rig, preset="hair", **values):
     bake = _ft().bake
     scene = bpy.context.scene
+    values.setdefault("gravity", scene.leapwright_plan.gravity)  # as the operator asks: the jump panel's gravity
     return bake.LagRequest(bones=PONY, parameters=bake.parameters_for(preset, 1.5, 0.25, 0.3, 1.4, 1.0),
                            frame_start=scene.frame_start, frame_end=scene.frame_end, **values)
 
@@ -74,14 +75,41 @@ def test_a_tuning_rebake_uses_the_kept_motion_and_writes_what_a_fresh_bake_write
     rig, _ = _jumping_rig()
     ft, scene = _ft(), bpy.context.scene
     assert _bake(rig, bones=",".join(PONY), preset="hair") == {"FINISHED"}
+    take = ft.sampled_motion.kept(scene, rig)
+    drives = [m for motions in take.prepared.values() for m in motions.values()]
+    assert len(drives) == 1  # the drive made from the motion is kept with it
     job = ft.bake_job.BakeJob(scene, rig, _request(rig, "cloth"))
     assert job.reused  # springiness, damping or the preset alone: nothing is sampled again
     job.run()
     job.write()
+    # nor is the drive made again
+    assert [m for motions in take.prepared.values() for m in motions.values()] == drives
     kept = _keys(rig)
     ft.sampled_motion.forget()
     assert _bake(rig, bones=",".join(PONY), preset="cloth") == {"FINISHED"}
     _same_keys(kept, _keys(rig))
+
+
+def test_a_rebake_under_other_gravity_or_looped_makes_its_drive_again_and_matches_a_fresh_bake():
+    rig, _ = _jumping_rig()
+    ft, scene = _ft(), bpy.context.scene
+    assert _bake(rig, bones=",".join(PONY), preset="hair") == {"FINISHED"}
+    take = ft.sampled_motion.kept(scene, rig)
+    for values in ({"gravity": 1.62}, {"cyclic": True}):  # lunar surface gravity [m/s^2] (NASA fact sheet)
+        before = len(take.prepared)
+        job = ft.bake_job.BakeJob(scene, rig, _request(rig, **values))
+        assert job.reused
+        job.run()
+        job.write()
+        assert len(take.prepared) == before + 1  # the motion is the same; its drive is not
+        mine = _keys(rig)
+        ft.sampled_motion.forget()
+        fresh = ft.bake_job.BakeJob(scene, rig, _request(rig, **values))
+        assert not fresh.reused
+        fresh.run()
+        fresh.write()
+        _same_keys(mine, _keys(rig))
+        take = ft.sampled_motion.kept(scene, rig)
 
 
 def test_kept_motion_is_sampled_again_after_a_key_a_pose_or_the_range_changes():
