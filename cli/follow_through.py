@@ -34,6 +34,10 @@ def add_parser(subparsers):
     p.add_argument("--on-twos", action="store_true", help="hold each pose for two frames")
     p.add_argument("--key-tolerance", type=float, default=0.0, metavar="DEG",
                    help="drop keys within this angle [deg] (default 0: every frame)")
+    p.add_argument("--multi-link", action="store_true",
+                   help="simulate each chain as a multi-link pendulum: children pull on their parents (slower)")
+    p.add_argument("--keep-out", action="store_true",
+                   help="keep the chains out of the body's capsules and above the jump's ground")
     p.add_argument("--remove", action="store_true", help="remove a previous bake instead of baking")
     add_batch_arguments(p)
     p.add_argument("--json", action="store_true", help="print JSON (the report, or the batch summary)")
@@ -64,7 +68,8 @@ def _find_rig(bpy, name, bones):
 
 def _options(args, bones, preset):
     return dict(bones=bones, preset=preset, rig=args.rig, frames=tuple(args.frames) if args.frames else None,
-                on_twos=args.on_twos, key_tolerance_deg=args.key_tolerance, remove=args.remove)
+                on_twos=args.on_twos, key_tolerance_deg=args.key_tolerance, remove=args.remove,
+                multi_link=args.multi_link, keep_out=args.keep_out)
 
 
 def bake_file(path, options):
@@ -96,18 +101,23 @@ def bake_file(path, options):
                 bones=bones, parameters=follow_bake.chain_preset(options["preset"]), frame_start=start,
                 frame_end=end, key_tolerance=math.radians(options["key_tolerance_deg"]),
                 on_twos=options["on_twos"], reset_frames=follow_bake.marker_resets(scene, start, end, ""),
-                gravity=jump_gravity(scene))
+                gravity=jump_gravity(scene), multi_link=bool(options.get("multi_link")),
+                keep_out=bool(options.get("keep_out")))
             job = addon_module("follow_through.bake_job").BakeJob(scene, rig, request)
             job.run()
             job.write()  # as the panel writes it: deltas corrected to play through the rig's constraints
             work = job.work
             top = max(work.peaks, key=work.peaks.get)
             report.update(preset=options["preset"], frames=[int(start), int(end)], keys=int(work.keys),
+                          multi_link=bool(request.multi_link), keep_out=bool(request.keep_out),
+                          body=json.loads(work.body) if work.body else None,
                           layer=follow_bake.TRACK, largest_swing_deg=math.degrees(work.peaks[top]),
                           largest_swing_bone=top,
                           swing_deg={b: math.degrees(v) for b, v in sorted(work.peaks.items())})
             message = (f"{len(bones)} bones, {work.keys} keys on {follow_bake.TRACK}, largest swing "
                        f"{report['largest_swing_deg']:.1f} deg ({top})")
+            if report["body"] and report["body"].get("problem"):  # kept above the ground only
+                message += f"; no body capsules: {report['body']['problem']}"
     except Exception as exc:  # noqa: BLE001 - sorted just below: the input's fault, or a bug
         if not _expected(exc, follow_bake):
             raise

@@ -63,6 +63,9 @@ class LagRequest:
         Keep the chains out of the body's capsules and above the ground (:mod:`.body_colliders`).
     radii : tuple of (str, float)
         Radii typed in the panel, by part (head, neck, torso, ...) [m]; 0 keeps the fitted one.
+    multi_link : bool
+        Simulate each chain as a multi-link pendulum (a child pulls on its parent); False lets each
+        bone follow its parent only (the core's ``BakeOptions.multi_link``).
     """
 
     bones: tuple
@@ -76,6 +79,7 @@ class LagRequest:
     gravity: float = STANDARD_GRAVITY
     keep_out: bool = False
     radii: tuple = ()
+    multi_link: bool = False
 
 
 @dataclass(frozen=True)
@@ -170,7 +174,8 @@ def request_from_panel(context, rig, bones=None, preset="SETTINGS", frame_range=
     return LagRequest(bones=tuple(bones), parameters=params, frame_start=int(start), frame_end=int(end),
                                key_tolerance=s.key_tolerance, on_twos=s.on_twos, cyclic=s.cyclic,
                                reset_frames=marker_resets(scene, start, end, s.reset_marker),
-                               gravity=gravity, keep_out=bool(s.keep_out), radii=radii)
+                               gravity=gravity, keep_out=bool(s.keep_out), radii=radii,
+                               multi_link=bool(s.multi_link))
 
 
 def check(rig, request):
@@ -271,7 +276,7 @@ def simulation(scene, rig, request, matrices, prepared=None):
     resets = tuple(sorted({f - request.frame_start for f in request.reset_frames
                            if request.frame_start < f <= request.frame_end}))
     options = BakeOptions(cyclic=request.cyclic, resets=resets, key_tolerance=float(request.key_tolerance),
-                          on_twos=bool(request.on_twos))
+                          on_twos=bool(request.on_twos), multi_link=bool(request.multi_link))
     gravity = (0.0, 0.0, -float(request.gravity))
     # what the drive depends on besides the matrices; the chain settings are not part of it
     made_for = (unit, fps, request.frame_start, request.frame_end, chosen, tuple(parents), options.cyclic, resets,

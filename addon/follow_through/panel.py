@@ -37,6 +37,7 @@ class LEAPWRIGHT_PT_follow_through(SubPanel, bpy.types.Panel):
         col.enabled = s.preset == "custom"
         for name in ("frequency", "damping_ratio", "sag", "angle_limit", "transmission"):
             col.prop(s, name)
+        box.prop(s, "multi_link")
 
         box = layout.box()
         box.prop(s, "use_scene_range")

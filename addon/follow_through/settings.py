@@ -59,6 +59,10 @@ class LeapwrightFollowThroughSettings(bpy.types.PropertyGroup):
     transmission: FloatProperty(update=_tuned, name="Carry-through", default=1.0, min=0.0, max=1.0,
                                 description="1: a loose whip, the parent's swing carries into the child; "
                                             "lower: the chain trails in still air")
+    multi_link: BoolProperty(update=_tuned, name="Children pull on parents", default=False,
+                             description="Simulate each chain as one multi-link pendulum: a bone's weight and swing "
+                                         "pull on every bone above it, so the float and the drop travel along the "
+                                         "chain (slower to bake). Off: each bone follows its parent only")
     use_scene_range: BoolProperty(name="Scene frame range", default=True)
     frame_start: IntProperty(name="Start", default=1)
     frame_end: IntProperty(name="End", default=250)

@@ -235,7 +235,7 @@ def test_selected_pose_bones_are_the_default_choice():
         f'pose.bones["{n}"].rotation_quaternion' for n in PONY[1:]}
 
 
-def test_command_line_bake_saves_the_layer_and_remove_gives_the_file_back(tmp_path):
+def test_command_line_bake_saves_the_layer_and_remove_gives_the_file_back(tmp_path, capsys):
     import os
     import sys
     repo = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
@@ -250,6 +250,22 @@ def test_command_line_bake_saves_the_layer_and_remove_gives_the_file_back(tmp_pa
     bpy.ops.wm.open_mainfile(filepath=path)
     rig = bpy.data.objects["Rig"]
     assert {fc.data_path for fc in _lag_curves(rig)} == {f'pose.bones["{n}"].rotation_quaternion' for n in PONY}
+    follows = {(fc.data_path, fc.array_index): _key_values(fc) for fc in _lag_curves(rig)}
+    # children pulling on their parents: the same curves, other values (the tip's swing differs)
+    assert main(["follow-through", path, "--bones", ",".join(PONY), "--preset", "cloth", "--multi-link"]) == 0
+    bpy.ops.wm.open_mainfile(filepath=path)
+    pulls = {(fc.data_path, fc.array_index): _key_values(fc) for fc in _lag_curves(bpy.data.objects["Rig"])}
+    assert pulls.keys() == follows.keys()
+    assert max(float(np.abs(pulls[k] - follows[k]).max()) for k in pulls) > 0.01
+    # keep out of the body on a rig that is no body (a bare ponytail rig): baked above the ground, and the
+    # report says why there are no capsules
+    capsys.readouterr()
+    assert main(["follow-through", path, "--bones", ",".join(PONY), "--keep-out", "--json"]) == 0
+    out = capsys.readouterr().out
+    report = json.loads(out[out.index("{"):])
+    assert report["keep_out"] and not report["multi_link"] and report["body"]["ground"] == 0.0
+    assert not report["body"]["parts"] and "bone map" in report["body"]["problem"]
+    assert "no body capsules" in report["message"]
     assert main(["follow-through", path, "--bones", "no_such_bone"]) == 2
     assert main(["follow-through", path, "--bones", *PONY, "--remove"]) == 0
     bpy.ops.wm.open_mainfile(filepath=path)

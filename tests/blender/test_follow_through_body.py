@@ -85,9 +85,10 @@ def _worst(rig, bones, body):
     return worst
 
 
-def _check_kept_out(make_jump, typed_neck=0.0):
+def _check_kept_out(make_jump, typed_neck=0.0, multi_link=False):
     rig, bones = make_jump()
     bpy.context.scene.leapwright_follow_through.neck_radius = typed_neck
+    bpy.context.scene.leapwright_follow_through.multi_link = multi_link
     before = snapshot()
     body = _bake(rig, bones, keep_out=True)
     assert all(part in body["parts"] for part in CHECKED)
@@ -113,7 +114,14 @@ def test_rigifys_ponytail_stays_out_of_the_head_neck_torso_and_ground():
     _check_kept_out(_rigify_jump)
 
 
-def test_rigifys_ponytail_plays_what_was_simulated():
+@pytest.mark.parametrize("make_jump, typed_neck", [(_mannequin_jump, 0.1), (_rigify_jump, 0.0)],
+                         ids=["mannequin", "rigify"])
+def test_a_ponytail_whose_bones_pull_on_their_parents_stays_out_too(make_jump, typed_neck):
+    _check_kept_out(make_jump, typed_neck, multi_link=True)
+
+
+@pytest.mark.parametrize("multi_link", [False, True], ids=["follows-parent", "pulls-on-parent"])
+def test_rigifys_ponytail_plays_what_was_simulated(multi_link):
     # Rigify's tentacle controls copy their parent's local rotation (a rig we did not build), so a delta
     # keyed on a parent turns the bones below it again: the bake reads the layer back and corrects the
     # deltas. Every tip read back through the depsgraph lies where the core's simulated rotations put it:
@@ -121,14 +129,29 @@ def test_rigifys_ponytail_plays_what_was_simulated():
     rig, bones = _rigify_jump()
     scene = bpy.context.scene
     scene.leapwright_follow_through.preset = "hair"
+    scene.leapwright_follow_through.multi_link = multi_link
     ft = addon().follow_through
     request = ft.bake.request_from_panel(bpy.context, rig, list(bones), frame_range=(scene.frame_start, scene.frame_end))
+    assert request.multi_link == multi_link
     job = ft.bake_job.BakeJob(scene, rig, request)
     job.run()
     job.write()
     assert job.result.peak_offsets.max() > 0.3  # the ponytail swings (17 deg or more), so a wrong delta shows
     rotate = addon().core.base.rotation_vectors.rotate
     animated = job._take.matrices[:, :len(bones)]
+    # the panel's choice of model reaches the core: its own bake of the sampled motion with that model
+    chains = addon().core.follow_through.chains
+    fps = scene.render.fps / scene.render.fps_base
+    times = np.arange(scene.frame_start, scene.frame_end + 1) / fps
+    unit = scene.unit_settings.scale_length or 1.0
+    gravity = (0.0, 0.0, -scene.leapwright_plan.gravity)
+    core_bake = {model: chains.bake_chains(times, animated[:, :, :3, 3] * unit, animated[:, :, :3, :3], [-1, 0, 1],
+                                           addon().core.follow_through.presets.chain_preset("hair"), gravity,
+                                           chains.BakeOptions(multi_link=model))
+                 for model in (False, True)}
+    np.testing.assert_allclose(job.result.world_offsets, core_bake[multi_link].world_offsets, atol=1e-12)
+    models_apart = np.degrees(np.abs(core_bake[True].world_offsets - core_bake[False].world_offsets).max())
+    assert models_apart > 2.0, models_apart  # so the comparison above tells the models apart
     offsets = job.result.world_offsets
     heads = animated[:, :, :3, 3].copy()
     directions = np.stack([rotate(offsets[:, b], animated[:, b, :3, 1] / np.linalg.norm(animated[:, b, :3, 1],
