@@ -9,15 +9,18 @@ the last one (changing only chain settings) finishes in that first step.
 """
 
 import json
+import math
 
 import bpy
 from bpy.props import EnumProperty, StringProperty
 
 from . import bake as follow_bake
+from . import live_tuning
 from .bake_job import BakeJob
 from ..blender.write_guard import in_object_or_pose_mode
 from ..rig import verify
 from ..core.base.errors import LeapwrightError
+from ..core.follow_through import presets
 from .settings import PRESET_ITEMS
 
 #: Longest first step before the bake shows a progress bar and listens for Esc [s].
@@ -192,4 +195,47 @@ class LEAPWRIGHT_OT_remove_follow_through(bpy.types.Operator):
         return {"FINISHED"}
 
 
-classes = (LEAPWRIGHT_OT_bake_follow_through, LEAPWRIGHT_OT_remove_follow_through)
+def described_parameters(settings, unit_scale):
+    """The chain parameters of the panel's physical description (``settings.describe_as`` and its
+    values; ``unit_scale`` the scene's metres per unit), from the core's hanging-chain presets."""
+    length = settings.hanging_length * unit_scale
+    if settings.describe_as == "skirt":
+        return presets.skirt_parameters(length, settings.fabric_weight / 1000.0)  # g/m^2 -> kg/m^2
+    if settings.describe_as == "tail":
+        return presets.tail_parameters(length, 1, tip_mass_ratio=settings.tip_weight)[0]  # the same for every bone
+    return presets.hair_parameters(length)
+
+
+class LEAPWRIGHT_OT_describe_chain(bpy.types.Operator):
+    """Set springiness, damping, sag, angle limit and carry-through from the description: how long it hangs and what it is made of"""
+
+    bl_idname = "leapwright.describe_chain"
+    bl_label = "Set Values from Description"
+    bl_options = {"REGISTER", "UNDO"}
+    lw_rig = staticmethod(_rig)  # with "re-bake as you tune" on it re-bakes this rig: guarded as the bake is
+
+    @classmethod
+    def poll(cls, context):
+        return _lag(context) is not None
+
+    def execute(self, context):
+        s = _lag(context)
+        try:
+            params = described_parameters(s, context.scene.unit_settings.scale_length or 1.0)
+        except LeapwrightError as exc:
+            self.report({"ERROR"}, str(exc))
+            return {"CANCELLED"}
+        live, s.live_rebake = s.live_rebake, False  # one re-bake for the whole set, not one per value
+        try:
+            s.preset = "custom"
+            s.frequency, s.damping_ratio, s.sag = params.frequency, params.damping_ratio, params.sag
+            s.angle_limit, s.transmission = params.angle_limit, params.transmission
+        finally:
+            s.live_rebake = live
+        live_tuning.retune(s, context)
+        self.report({"INFO"}, f"Springiness {params.frequency:.2f} Hz, damping {params.damping_ratio:.2f}, sag "
+                              f"{math.degrees(params.sag):.0f}°, carry-through {params.transmission:.2f}")
+        return {"FINISHED"}
+
+
+classes = (LEAPWRIGHT_OT_bake_follow_through, LEAPWRIGHT_OT_remove_follow_through, LEAPWRIGHT_OT_describe_chain)

@@ -38,6 +38,7 @@ class LEAPWRIGHT_PT_follow_through(SubPanel, bpy.types.Panel):
         for name in ("frequency", "damping_ratio", "sag", "angle_limit", "transmission"):
             col.prop(s, name)
         box.prop(s, "multi_link")
+        _draw_description(layout, s)
 
         box = layout.box()
         box.prop(s, "use_scene_range")
@@ -58,6 +59,18 @@ class LEAPWRIGHT_PT_follow_through(SubPanel, bpy.types.Panel):
         _draw_readout(layout, s.readout)
         layout.operator("leapwright.bake_follow_through", icon="FORCE_WIND")
         layout.operator("leapwright.remove_follow_through", icon="TRASH")
+
+
+def _draw_description(layout, s):
+    box = layout.box()
+    box.label(text="Values from a physical description")
+    box.prop(s, "describe_as")
+    box.prop(s, "hanging_length")
+    if s.describe_as == "skirt":
+        box.prop(s, "fabric_weight")
+    elif s.describe_as == "tail":
+        box.prop(s, "tip_weight")
+    box.operator("leapwright.describe_chain", icon="PHYSICS")
 
 
 def _draw_body(layout, s):

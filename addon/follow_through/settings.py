@@ -33,6 +33,11 @@ SOURCE_ITEMS = (
     ("SELECTED", "Selected bones", "The pose bones selected now"),
     ("COLLECTION", "Bone collection", "Every bone of a bone collection of the rig"),
 )
+DESCRIPTION_ITEMS = (
+    ("hair", "Hair", "Hair or a ponytail hanging from the head: its hanging length"),
+    ("skirt", "Skirt or cape", "A panel of fabric hanging from its seam: its length and the fabric's weight"),
+    ("tail", "Tail", "A tail tapering to its tip: its length and how much lighter the tip is"),
+)
 PRESET_ITEMS = (
     ("hair", "Hair", "Light and lively; bends visibly under its weight"),
     ("cloth", "Cloth", "Softer and more damped; hangs with more sag"),
@@ -63,6 +68,14 @@ class LeapwrightFollowThroughSettings(bpy.types.PropertyGroup):
                              description="Simulate each chain as one multi-link pendulum: a bone's weight and swing "
                                          "pull on every bone above it, so the float and the drop travel along the "
                                          "chain (slower to bake). Off: each bone follows its parent only")
+    describe_as: EnumProperty(name="Describe as", items=DESCRIPTION_ITEMS, default="hair")
+    hanging_length: FloatProperty(name="Hanging length", subtype="DISTANCE", unit="LENGTH", default=0.25, min=0.01,
+                                  soft_max=3.0, description="From where it hangs to its tip")
+    fabric_weight: FloatProperty(name="Fabric weight (g/m²)", default=200.0, min=5.0, soft_max=800.0,
+                                 description="Mass per square metre: about 100 for voile, 200 for a dress fabric, "
+                                             "400 for denim")
+    tip_weight: FloatProperty(name="Tip weight", default=0.2, min=0.01, max=1.0,
+                              description="Mass per length at the tip over the root's (1: the same all along)")
     use_scene_range: BoolProperty(name="Scene frame range", default=True)
     frame_start: IntProperty(name="Start", default=1)
     frame_end: IntProperty(name="End", default=250)

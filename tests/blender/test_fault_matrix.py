@@ -28,7 +28,7 @@ from scene_probe import addon, file_state
 WRITERS = (
     ("write_plan", {"on_conflict": "REPLACE"}), ("remove_plan", {}), ("use_active_bone", {}), ("find_rig_controls", {}),
     ("check_export", {"snap_keys": True}), ("split_clips", {}),
-    ("bake_follow_through", {"bones": "spine"}), ("remove_follow_through", {}),
+    ("bake_follow_through", {"bones": "spine"}), ("remove_follow_through", {}), ("describe_chain", {}),
     ("keep_body_on_arc", {}), ("remove_body_arc", {}), ("edit_body_map", {}),
     ("check_jump", {}), ("go_to_finding", {}), ("clear_check", {}),
     ("find_arm_bones", {}), ("place_arm_swing", {}), ("retime_arm_swing", {}), ("remove_arm_swing", {}),

@@ -12,7 +12,7 @@ import bpy
 import conftest
 
 OPERATORS = ("write_plan", "remove_plan", "use_active_bone", "find_rig_controls",  # the blocking pass
-             "bake_follow_through", "remove_follow_through",  # follow-through
+             "bake_follow_through", "remove_follow_through", "describe_chain",  # follow-through
              "check_body_arc", "keep_body_on_arc", "remove_body_arc", "edit_body_map",  # the body in the air
              "check_jump", "go_to_finding", "clear_check",  # the checker
              "check_export", "split_clips",  # game output
