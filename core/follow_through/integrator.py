@@ -109,16 +109,40 @@ def _turned(px, py, pz, d0):
     """Components of ``d0`` (3, ...) turned by the rotation vectors ``(px, py, pz)`` (Rodrigues)."""
     theta = np.sqrt(px * px + py * py + pz * pz)
     # sin(t)/t = sin(t/2) cos(t/2) / (t/2) and (1 - cos t)/t^2 = (sin(t/2)/(t/2))^2 / 2,
-    # written with the half angle so that neither loses digits near t = 0
+    # written with the half angle so that neither loses digits near t = 0. In place where a
+    # temporary is not read again: at the demo's size each array operation costs about as much
+    # as making its output (the same bits as the plain expressions).
     half = 0.5 * theta
-    sinc_half = np.sin(half) / np.where(half > 0.0, half, 1.0)
-    sinc_half[half == 0.0] = 1.0
-    a = sinc_half * np.cos(half)
-    b = 0.5 * sinc_half * sinc_half
+    a = np.cos(half)
+    sinc_half = np.sin(half)
+    zero = half == 0.0
+    half[zero] = 1.0
+    sinc_half /= half
+    sinc_half[zero] = 1.0
+    a *= sinc_half
+    b = sinc_half * sinc_half
+    b *= 0.5
     dx, dy, dz = d0
-    c1x, c1y, c1z = py * dz - pz * dy, pz * dx - px * dz, px * dy - py * dx
-    c2x, c2y, c2z = py * c1z - pz * c1y, pz * c1x - px * c1z, px * c1y - py * c1x
-    return dx + a * c1x + b * c2x, dy + a * c1y + b * c2y, dz + a * c1z + b * c2z
+    c1x = py * dz
+    c1x -= pz * dy
+    c1y = pz * dx
+    c1y -= px * dz
+    c1z = px * dy
+    c1z -= py * dx
+    c2x = py * c1z
+    c2x -= pz * c1y
+    c2y = pz * c1x
+    c2y -= px * c1z
+    c2z = px * c1y
+    c2z -= py * c1x
+    out = []
+    for d, c1, c2 in ((dx, c1x, c2x), (dy, c1y, c2y), (dz, c1z, c2z)):
+        c1 *= a
+        c1 += d
+        c2 *= b
+        c1 += c2
+        out.append(c1)
+    return tuple(out)
 
 
 def _gravity_and_turn(psi, d0, ge, al, gain, loaded):
@@ -129,15 +153,27 @@ def _gravity_and_turn(psi, d0, ge, al, gain, loaded):
     dx, dy, dz = _turned(psi[0], psi[1], psi[2], d0)
     gx, gy, gz = ge
     ax, ay, az = al
-    along = ax * dx + ay * dy + az * dz
-    fx = gain * (dy * gz - dz * gy) - loaded[0] - ax + along * dx
-    fy = gain * (dz * gx - dx * gz) - loaded[1] - ay + along * dy
-    fz = gain * (dx * gy - dy * gx) - loaded[2] - az + along * dz
+    along = ax * dx
+    along += ay * dy
+    along += az * dz
+    out = np.empty(psi.shape)
+    for f, (p, q, r, s, load, acc, d) in enumerate(((dy, gz, dz, gy, loaded[0], ax, dx), (dz, gx, dx, gz, loaded[1], ay, dy),
+                                                    (dx, gy, dy, gx, loaded[2], az, dz))):
+        # gain * (d x g) - load - alpha + (alpha . d) d, component f
+        term = p * q
+        term -= r * s
+        np.multiply(gain, term, out=out[f])
+        out[f] -= load
+        out[f] -= acc
+        out[f] += along * d
     # no torque about the bone's own (animated) axis: a point mass has no inertia there
     ex, ey, ez = d0
-    tw = fx * ex + fy * ey + fz * ez
-    fx, fy, fz = fx - tw * ex, fy - tw * ey, fz - tw * ez
-    return np.stack([fx, fy, fz])
+    tw = out[0] * ex
+    tw += out[1] * ey
+    tw += out[2] * ez
+    for f, e in enumerate((ex, ey, ez)):
+        out[f] -= tw * e
+    return out
 
 
 def _in_node_blocks(node_wise, first, *rest):
