@@ -219,6 +219,16 @@ def _monodromy(run):
     return total
 
 
+def _corners_cleared(out, contact):
+    """The run's offsets (F, t, n, 3) with every tip still inside where two surfaces meet turned
+    out of both (:func:`.contacts.hold_outside` with ``clear_corners``), at every frame at once."""
+    frames = out.shape[0]
+    flat = out.reshape(frames, -1, 3).transpose(2, 0, 1)
+    nodes = {name: (value[:frames] if name in ("heads", "levers", "d0", "starts", "ends") else value)
+             for name, value in contact.items()}
+    return hold_outside(flat, nodes, clear_corners=True).transpose(1, 2, 0).reshape(out.shape)
+
+
 def _refined(times, drive, substeps):
     return refine_drive(times, drive, substeps) if substeps > 1 else (times, drive)
 
@@ -270,5 +280,7 @@ def integrate_chains(slots, coefficients, times, drive, g_ref, cyclic=False, sub
             q, v = q + fix[..., 0, :], v + fix[..., 1, :]
             out, end = _run(run, q, v)
         change, out = best
+    if contact is not None:  # tips the frame-by-frame holds left in a corner between two surfaces
+        out = _corners_cleared(out, contact)
     offsets = out[::substeps].reshape(-1, slots.trees * slots.size, 3)
     return offsets, runs, change

@@ -163,7 +163,8 @@ def test_bad_colliders_are_refused_with_the_values():
         bake_chains(t, heads, rot, parents, params, colliders={"ground": 0.0})
 
 
-def test_a_tip_in_the_corner_of_two_capsules_is_turned_out_of_both():
+@pytest.mark.parametrize("multi_link", [False, True], ids=["follows-parent", "pulls-on-parent"])
+def test_a_tip_in_the_corner_of_two_capsules_is_turned_out_of_both(multi_link):
     # Two overlapping balls under a hanging bone, the crevice between them right below its head:
     # the rest tip is inside both (by 19 mm), and turning it out of the one it is deepest in puts it
     # into the other. Plain geometry decides (closest point on a segment, Ericson 2005 sec. 5.1.2):
@@ -181,7 +182,8 @@ def test_a_tip_in_the_corner_of_two_capsules_is_turned_out_of_both():
     rest_tip = head + np.array([0.0, 0.0, -length])
     assert np.all(radius - np.linalg.norm(rest_tip - centres, axis=1) > 0.018)  # inside both at rest
     colliders = Colliders(starts, starts.copy(), np.full(2, radius), None, np.array([length]))
-    bake = bake_chains(t, heads, rot, [-1], chain_preset("hair"), colliders=colliders)
+    bake = bake_chains(t, heads, rot, [-1], chain_preset("hair"), colliders=colliders,
+                       options=BakeOptions(multi_link=multi_link))
     d = (rotvec_to_matrix(bake.world_offsets) @ rot)[:, 0, :, 1]
     tip = head + length * d
     gap = np.linalg.norm(tip[:, None] - centres[None], axis=-1) - radius
