@@ -105,6 +105,17 @@ def _block(values_per_item):
     return max(8, _BLOCK_VALUES // max(1, values_per_item))
 
 
+def _cross(px, py, pz, vx, vy, vz):
+    """Components of ``p x v``, each made from its first product in place."""
+    cx = py * vz
+    cx -= pz * vy
+    cy = pz * vx
+    cy -= px * vz
+    cz = px * vy
+    cz -= py * vx
+    return cx, cy, cz
+
+
 def _turned(px, py, pz, d0):
     """Components of ``d0`` (3, ...) turned by the rotation vectors ``(px, py, pz)`` (Rodrigues)."""
     theta = np.sqrt(px * px + py * py + pz * pz)
@@ -122,21 +133,10 @@ def _turned(px, py, pz, d0):
     a *= sinc_half
     b = sinc_half * sinc_half
     b *= 0.5
-    dx, dy, dz = d0
-    c1x = py * dz
-    c1x -= pz * dy
-    c1y = pz * dx
-    c1y -= px * dz
-    c1z = px * dy
-    c1z -= py * dx
-    c2x = py * c1z
-    c2x -= pz * c1y
-    c2y = pz * c1x
-    c2y -= px * c1z
-    c2z = px * c1y
-    c2z -= py * c1x
+    c1 = _cross(px, py, pz, *d0)
+    c2 = _cross(px, py, pz, *c1)
     out = []
-    for d, c1, c2 in ((dx, c1x, c2x), (dy, c1y, c2y), (dz, c1z, c2z)):
+    for d, c1, c2 in zip(d0, c1, c2):
         c1 *= a
         c1 += d
         c2 *= b
