@@ -72,6 +72,7 @@ of a general class of recurrence equations", IEEE Trans. Computers C-22(8):786-7
 
 import numpy as np
 
+from .bone_forces import gravity_and_turn, loaded_pose_load, swing_part, turned
 from .contacts import hold_outside
 from .samples import refine_drive
 from .slots import ChainSlots, joint_groups, limit_joints  # noqa: F401  (ChainSlots is part of the API)
@@ -103,77 +104,6 @@ _BLOCK_VALUES = 2 ** 17
 def _block(values_per_item):
     """Items (nodes or intervals) per block when one item fills ``values_per_item`` values."""
     return max(8, _BLOCK_VALUES // max(1, values_per_item))
-
-
-def _cross(px, py, pz, vx, vy, vz):
-    """Components of ``p x v``, each made from its first product in place."""
-    cx = py * vz
-    cx -= pz * vy
-    cy = pz * vx
-    cy -= px * vz
-    cz = px * vy
-    cz -= py * vx
-    return cx, cy, cz
-
-
-def _turned(px, py, pz, d0):
-    """Components of ``d0`` (3, ...) turned by the rotation vectors ``(px, py, pz)`` (Rodrigues)."""
-    theta = np.sqrt(px * px + py * py + pz * pz)
-    # sin(t)/t = sin(t/2) cos(t/2) / (t/2) and (1 - cos t)/t^2 = (sin(t/2)/(t/2))^2 / 2,
-    # written with the half angle so that neither loses digits near t = 0. In place where a
-    # temporary is not read again: at the demo's size each array operation costs about as much
-    # as making its output (the same bits as the plain expressions).
-    half = 0.5 * theta
-    a = np.cos(half)
-    sinc_half = np.sin(half)
-    zero = half == 0.0
-    half[zero] = 1.0
-    sinc_half /= half
-    sinc_half[zero] = 1.0
-    a *= sinc_half
-    b = sinc_half * sinc_half
-    b *= 0.5
-    c1 = _cross(px, py, pz, *d0)
-    c2 = _cross(px, py, pz, *c1)
-    out = []
-    for d, c1, c2 in zip(d0, c1, c2):
-        c1 *= a
-        c1 += d
-        c2 *= b
-        c1 += c2
-        out.append(c1)
-    return tuple(out)
-
-
-def _gravity_and_turn(psi, d0, ge, al, gain, loaded):
-    """Force on each bone [rad/s^2] from gravity (relative to the loaded pose) and the turning.
-
-    Every vector is component-first, (3, nodes, slots); so is the result.
-    """
-    dx, dy, dz = _turned(psi[0], psi[1], psi[2], d0)
-    gx, gy, gz = ge
-    ax, ay, az = al
-    along = ax * dx
-    along += ay * dy
-    along += az * dz
-    out = np.empty(psi.shape)
-    for f, (p, q, r, s, load, acc, d) in enumerate(((dy, gz, dz, gy, loaded[0], ax, dx), (dz, gx, dx, gz, loaded[1], ay, dy),
-                                                    (dx, gy, dy, gx, loaded[2], az, dz))):
-        # gain * (d x g) - load - alpha + (alpha . d) d, component f
-        term = p * q
-        term -= r * s
-        np.multiply(gain, term, out=out[f])
-        out[f] -= load
-        out[f] -= acc
-        out[f] += along * d
-    # no torque about the bone's own (animated) axis: a point mass has no inertia there
-    ex, ey, ez = d0
-    tw = out[0] * ex
-    tw += out[1] * ey
-    tw += out[2] * ez
-    for f, e in enumerate((ex, ey, ez)):
-        out[f] -= tw * e
-    return out
 
 
 def _in_node_blocks(node_wise, first, *rest):
@@ -293,17 +223,6 @@ def drive_nodes(drive):
     return first(drive["directions"], mids), first(drive["g_eff"], drive["g_eff_mid"]), first(drive["alpha"], drive["alpha_mid"])
 
 
-def _loaded(d0, g_ref, gain):
-    """The load ``gain * (d0 x g_ref)`` under which the animated pose is the rest shape [1/s^2]."""
-    return gain * np.stack([d0[1] * g_ref[2] - d0[2] * g_ref[1], d0[2] * g_ref[0] - d0[0] * g_ref[2],
-                            d0[0] * g_ref[1] - d0[1] * g_ref[0]])
-
-
-def _swing(psi, d0):
-    """The offsets less their part about the animated bone axis (component-first)."""
-    return psi - (psi[0] * d0[0] + psi[1] * d0[1] + psi[2] * d0[2]) * d0
-
-
 def _pushed_forces(push, psi, d0, force, stiff, frames, trees, n):
     """``Q U`` of every interval: its forces at its start, middle and end carried into the state,
     (steps, trees, 2n, 3), a block of intervals at a time (the same bits as all at once).
@@ -317,9 +236,9 @@ def _pushed_forces(push, psi, d0, force, stiff, frames, trees, n):
     for a in range(0, steps, block):
         b = min(a + block, steps)
         st = stiff[a:b]
-        swing = _swing(psi[:, a:b + 1], d0[:, a:b + 1])  # the frames the block's intervals start and end at
+        swing = swing_part(psi[:, a:b + 1], d0[:, a:b + 1])  # the frames the block's intervals start and end at
         middle = slice(frames + a, frames + b)
-        nodal = np.concatenate([force[:, a:b] + st * swing[:, :-1], force[:, middle] + st * _swing(psi[:, middle], d0[:, middle]),
+        nodal = np.concatenate([force[:, a:b] + st * swing[:, :-1], force[:, middle] + st * swing_part(psi[:, middle], d0[:, middle]),
                                 force[:, a + 1:b + 1] + st * swing[:, 1:]], axis=-1)  # (3, block, 3N): start, middle, end
         nodal = nodal.reshape(3, b - a, 3, trees, n).transpose(1, 3, 2, 4, 0).reshape(b - a, trees, 3 * n, 3)
         np.matmul(push[a:b], nodal, out=out[a:b])
@@ -384,7 +303,7 @@ def integrate(slots, coefficients, times, drive, g_ref, cyclic=False, substeps=1
     used = np.zeros(trees * n, dtype=bool)
     used[slots.slot] = True
     d0, ge, al = drive["nodes"] if "nodes" in drive else drive_nodes(drive)
-    loaded = _loaded(d0, g_ref, gain)
+    loaded = loaded_pose_load(d0, g_ref, gain)
     psi = np.zeros((3, 2 * frames - 1, trees * n))
     state_shape = (trees, 2 * n, 3)
     start = np.zeros(state_shape)
@@ -393,14 +312,14 @@ def integrate(slots, coefficients, times, drive, g_ref, cyclic=False, substeps=1
     joints = joint_groups(slots)
     for sweeps in range(1, MAX_SWEEPS + 1):
         if sweeps <= STIFFNESS_SWEEPS:
-            dx, dy, dz = _turned(psi[0, frames:], psi[1, frames:], psi[2, frames:], d0[:, frames:])
+            dx, dy, dz = turned(psi[0, frames:], psi[1, frames:], psi[2, frames:], d0[:, frames:])
             stiff = np.maximum(gain * (dx * ge[0, frames:] + dy * ge[1, frames:] + dz * ge[2, frames:]), -k)
             # unused slots get any stiffness whose exact step is cheap; their force is 0
             k_net = np.where(used, k + stiff, 1.0 / h[:, None] ** 2)
             phi, beta = oscillator_steps(k_net, c, h[:, None])
             m, push = _chain_maps(phi, beta, k, c, mu, h, slots)
             maps = compose_pairs(m, _PAIR_LEVELS)
-        force = _in_node_blocks(_gravity_and_turn, psi, d0, ge, al, gain, loaded)
+        force = _in_node_blocks(gravity_and_turn, psi, d0, ge, al, gain, loaded)
         forces = _pushed_forces(push, psi, d0, force, stiff, frames, trees, n)
         if cyclic:
             start = periodic_start(maps, forces, state_shape)
