@@ -63,11 +63,11 @@ import numpy as np
 from ..base.constants import STANDARD_GRAVITY
 from .chain_keys import hold_on_twos, reduce_keys
 from .parameters import ChainParameters, LinkCoefficients, coefficient_arrays
-from .samples import check_drive, check_samples, frame_accelerations, midpoint_values, split_segments
+from ..base.blocks import blocks_along
+from .samples import chain_drive, check_drive, check_samples, frame_accelerations, split_segments
 from ..base.errors import InvalidGoalError
 from ..base.rotation_vectors import (quaternion_conjugate, quaternion_multiply, quaternion_to_rotvec,
     rotvec_to_quaternion)
-from .apparent_weight import apparent_gravity
 from .contacts import Colliders, contact_arrays, contact_nodes
 from .chain_steps import integrate_chains
 from .integrator import ChainSlots, drive_nodes, integrate
@@ -149,25 +149,6 @@ class ChainBake:
     passes: int
 
 
-def _drive(slots, times, directions, accel, alpha, g_ref, cyclic, padding, levers=None):
-    """The integrator's drive on the slots, at the samples and halfway between (``_mid``):
-    animated bone directions, apparent gravity at the heads [m/s^2], angular
-    accelerations [rad/s^2] and, for the multi-link model, each head's offset from its
-    parent's head [m]."""
-    drive = {}
-    parts = [("directions", directions), ("head_acceleration", accel), ("alpha", alpha)]
-    if levers is not None:
-        parts.append(("levers", levers))
-    for name, value in parts:
-        drive[name] = slots.to_slots(value)
-        drive[name + "_mid"] = slots.to_slots(midpoint_values(times, value, cyclic))
-    for suffix in ("", "_mid"):
-        # from the accelerations, so a still rig feels g_ref exactly (zero offset)
-        drive["g_eff" + suffix] = apparent_gravity(g_ref, drive.pop("head_acceleration" + suffix))
-        drive["directions" + suffix][:, padding, 1] = 1.0  # unused slots get any unit direction
-    return drive
-
-
 @dataclass(frozen=True)
 class ChainMotion:
     """The chosen bones' sampled motion made ready to bake, whatever the chain settings.
@@ -240,7 +221,7 @@ def chain_motion(times, heads, rotations, parents, gravity=(0.0, 0.0, -STANDARD_
         accel, alpha = frame_accelerations(seg_times, heads[lo:hi], rots[lo:hi], options.cyclic)
         check_drive(accel, alpha, seg_times, lo)
         levers = _levers(heads[lo:hi], parents) if options.multi_link else None
-        drive = _drive(slots, seg_times, rots[lo:hi, :, :, 1], accel, alpha, g_ref, options.cyclic, padding, levers)
+        drive = chain_drive(slots, seg_times, rots[lo:hi, :, :, 1], accel, alpha, g_ref, options.cyclic, padding, levers)
         if not options.multi_link and options.substeps == 1:
             drive["nodes"] = drive_nodes(drive)
         segments.append((lo, hi, drive))
@@ -341,14 +322,11 @@ def bake_motion(motion, parameters, colliders=None, options=None):
                                       here)
         passes = max(passes, sweeps)
         world[lo:hi] = offsets[:, slots.slot]
-    # joint rotation in world axes, R(psi_p)^T R(psi_c), then in the bone's own axes
-    q_world = rotvec_to_quaternion(world)
-    q_parent = np.where((parents >= 0)[None, :, None], q_world[:, np.maximum(parents, 0)], np.array([1.0, 0, 0, 0]))
-    joint = quaternion_to_rotvec(quaternion_multiply(quaternion_conjugate(q_parent), q_world))
-    rotvecs = np.einsum("fbji,fbj->fbi", rots, joint)
+    rotvecs, quats = np.empty(world.shape), np.empty(world.shape[:2] + (4,))
+    for cut in blocks_along(frames, 16 * bones):  # frame by frame, a block at a time
+        rotvecs[cut], quats[cut] = _joint_rotations(world[cut], rots[cut], parents)
     if options.cyclic:
         mismatch = float(np.max(np.linalg.norm(rotvecs[-1] - rotvecs[0], axis=-1)))
-    quats = rotvec_to_quaternion(rotvecs)
     stepped = bool(options.on_twos)
     mask = np.ones((frames, bones), dtype=bool)
     if stepped:
@@ -357,6 +335,17 @@ def bake_motion(motion, parameters, colliders=None, options=None):
         mask = reduce_keys(quats, tolerance, mask, stepped, split_segments(frames, options.resets))
     peaks = np.max(np.linalg.norm(rotvecs, axis=-1), axis=0) if bones else np.zeros(0)
     return ChainBake(times, rotvecs, quats, world, mask, stepped, peaks, mismatch, passes)
+
+
+def _joint_rotations(world, rots, parents):
+    """Each bone's simulated offset from its parent's, in its own axes: rotation vectors [rad]
+    and unit quaternions, from world offsets ``world`` (F, B, 3) and bone axes ``rots``."""
+    # joint rotation in world axes, R(psi_p)^T R(psi_c), then in the bone's own axes
+    q_world = rotvec_to_quaternion(world)
+    q_parent = np.where((parents >= 0)[None, :, None], q_world[:, np.maximum(parents, 0)], np.array([1.0, 0, 0, 0]))
+    joint = quaternion_to_rotvec(quaternion_multiply(quaternion_conjugate(q_parent), q_world))
+    rotvecs = np.einsum("fbji,fbj->fbi", rots, joint)
+    return rotvecs, rotvec_to_quaternion(rotvecs)
 
 
 def drive_options(options):

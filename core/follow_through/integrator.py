@@ -72,6 +72,7 @@ of a general class of recurrence equations", IEEE Trans. Computers C-22(8):786-7
 
 import numpy as np
 
+from ..base.blocks import blocks_along
 from .bone_forces import gravity_and_turn, loaded_pose_load, swing_part, turned
 from .contacts import hold_outside
 from .samples import refine_drive
@@ -215,12 +216,22 @@ def drive_nodes(drive):
     """The drive at the frame nodes then the middles, component-first (3, nodes, slots): unit
     bone directions, apparent gravity [m/s^2] and angular acceleration [rad/s^2]. It depends on
     the motion alone, so :func:`.chains.chain_motion` keeps it with the drive (key ``nodes``)."""
-    mids = drive["directions_mid"] / np.linalg.norm(drive["directions_mid"], axis=-1, keepdims=True)
+    frames, slots = drive["directions"].shape[:2]
 
-    def first(*parts):
-        return np.ascontiguousarray(np.concatenate(parts).transpose(2, 0, 1))
+    def first(name, unit=False):
+        """Component-first copy of one quantity, a block of frames at a time (a transpose of the
+        whole take streams through memory with a stride of 3; a block's stays in the cache)."""
+        out = np.empty((3, 2 * frames - 1, slots))
+        for cut in blocks_along(frames, 6 * slots):
+            out[:, cut] = drive[name][cut].transpose(2, 0, 1)
+            if cut.start < frames - 1:
+                mid = drive[name + "_mid"][cut.start:min(cut.stop, frames - 1)]
+                if unit:
+                    mid = mid / np.linalg.norm(mid, axis=-1, keepdims=True)
+                out[:, frames + cut.start:frames + cut.start + len(mid)] = mid.transpose(2, 0, 1)
+        return out
 
-    return first(drive["directions"], mids), first(drive["g_eff"], drive["g_eff_mid"]), first(drive["alpha"], drive["alpha_mid"])
+    return first("directions", unit=True), first("g_eff"), first("alpha")
 
 
 def _pushed_forces(push, psi, d0, force, stiff, frames, trees, n):
@@ -297,16 +308,59 @@ def integrate(slots, coefficients, times, drive, g_ref, cyclic=False, substeps=1
     if substeps > 1:
         times, drive = refine_drive(times, drive, substeps)
     trees, n = slots.trees, slots.size
+    frames = len(times)
+    nodes = drive["nodes"] if "nodes" in drive else drive_nodes(drive)
+    state = np.zeros((trees, 2 * n, 3))
+    span = frames - 1 if cyclic else _window(trees * n)
+    out = np.empty((3, frames, trees * n))
+    sweeps = change = 0
+    for a in range(0, max(frames - 1, 1), span):
+        b = min(a + span, frames - 1)  # the window's frames a..b; the next one starts at b
+        here = [_window_nodes(x, a, b, frames, 1) for x in nodes]
+        near = None if contact is None else {key: _window_nodes(x, a, b, frames, 0) if key in _CONTACT_NODES else x
+                                             for key, x in contact.items()}
+        psi, done, moved, state = _sweep_window(slots, coefficients, times[a:b + 1], here, g_ref, cyclic, state, near)
+        out[:, a:b + 1] = psi[:, :b - a + 1]
+        sweeps, change = max(sweeps, done), max(change, moved)
+    return out[:, ::substeps].transpose(1, 2, 0), sweeps, change
+
+
+#: Colliders' values given at every node (axis 0), cut with the drive into windows.
+_CONTACT_NODES = ("starts", "ends", "heads", "levers", "d0")
+#: Bone-frames in one window of a long take (about 0.6 MB per component-first array): each
+#: window is swept to convergence from the last one's end state, so its arrays stay in the
+#: processor's cache. The converged path is the same (a step depends only on earlier ones).
+_WINDOW_VALUES = 2 ** 15
+#: Fewest frame intervals in a window (Python's fixed cost per sweep stays small beside its work).
+_MIN_WINDOW = 32
+
+
+def _window(slots_count):
+    """Frame intervals per window of a take with ``slots_count`` slots."""
+    return max(_MIN_WINDOW, _WINDOW_VALUES // max(1, slots_count))
+
+
+def _window_nodes(x, a, b, frames, axis):
+    """The frame nodes a..b, then the middles a..b-1, of ``x``'s node axis (frames, then middles)."""
+    if a == 0 and b == frames - 1:
+        return x
+    first = np.take(x, np.arange(a, b + 1), axis=axis)
+    return np.concatenate([first, np.take(x, np.arange(frames + a, frames + b), axis=axis)], axis=axis)
+
+
+def _sweep_window(slots, coefficients, times, nodes, g_ref, cyclic, start, contact):
+    """One window swept to convergence from ``start``: the path's offsets (3, nodes, slots),
+    the sweeps, the last change [rad] and the state at the window's end."""
+    trees, n = slots.trees, slots.size
     k, c, gain, mu, limit = (coefficients[name] for name in ("spring", "damping", "gain", "transmission", "limit"))
     frames = len(times)
     h = np.diff(times)
     used = np.zeros(trees * n, dtype=bool)
     used[slots.slot] = True
-    d0, ge, al = drive["nodes"] if "nodes" in drive else drive_nodes(drive)
+    d0, ge, al = nodes
     loaded = loaded_pose_load(d0, g_ref, gain)
     psi = np.zeros((3, 2 * frames - 1, trees * n))
     state_shape = (trees, 2 * n, 3)
-    start = np.zeros(state_shape)
     best, change, sweeps, history = None, np.inf, 0, []  # history: changes of the sweeps so far [rad]
     hm = h[None, :, None]
     joints = joint_groups(slots)
@@ -323,19 +377,20 @@ def integrate(slots, coefficients, times, drive, g_ref, cyclic=False, substeps=1
         forces = _pushed_forces(push, psi, d0, force, stiff, frames, trees, n)
         if cyclic:
             start = periodic_start(maps, forces, state_shape)
-        new = _held_path(run_affine(maps, forces, start).reshape(frames, trees * n, 2, 3), hm, joints, limit, contact)
+        states = run_affine(maps, forces, start)
+        new = _held_path(states.reshape(frames, trees * n, 2, 3), hm, joints, limit, contact)
         if new is None:
             break
         change = float(np.max(np.abs(new[:, :frames] - psi[:, :frames]))) if new.size else 0.0
         psi = new
         if best is None or change <= best[0]:
-            best = (change, psi)
+            best = (change, psi, states[-1])
         history.append(change)
         if change <= SWEEP_TOLERANCE or _error_left(history) <= ERROR_TOLERANCE:
             break
     if best is None:  # the very first sweep was not finite: nothing moved
-        best = (np.inf, np.zeros_like(psi))
-    change, psi = best
+        best = (np.inf, np.zeros_like(psi), np.zeros(state_shape))
+    change, psi, end = best
     if contact is not None:  # tips the sweeps left in a corner between two surfaces
         psi = hold_outside(psi, contact, clear_corners=True)
-    return psi[:, :frames:substeps].transpose(1, 2, 0), sweeps, change
+    return psi, sweeps, change, end

@@ -2,9 +2,11 @@
 
 import numpy as np
 
+from ..base.blocks import blocks_along
 from ..base.errors import InvalidGoalError, InvalidTrajectoryError
 from ..base.rotation_vectors import (matrix_to_quaternion, nearest_rotations, quaternion_conjugate,
     quaternion_multiply, quaternion_to_rotvec)
+from .apparent_weight import apparent_gravity
 
 #: Largest head acceleration accepted [m/s^2], about 1,000 g: far past any landing
 #: (a few to tens of g) or a smear frame; beyond it the samples hold a teleport or a
@@ -106,6 +108,30 @@ def _rotation_parts(matrices):
     :func:`nearest_rotations` (the SVD polar factor), which also refuses mirrored
     and degenerate matrices.
     """
+    flat = matrices.reshape((-1, 3, 3))
+    rows = blocks_along(len(flat), 40)  # each matrix's own
+    scale2, off, det = (np.empty(len(flat)) for _ in range(3))
+    for cut in rows:
+        scale2[cut], off[cut], det[cut] = _scale_and_skew(flat[cut])
+    if not np.all(det > 0.0) or not np.all(off <= NEAR_ORTHOGONAL * scale2):
+        return nearest_rotations(matrices, "rotations")
+    rot = flat / np.sqrt(scale2)[:, None, None]
+    if np.all(off <= 1e-6 * scale2):
+        return rot.reshape(matrices.shape)
+    # float32 rounding through a deep hierarchy leaves ~1e-6: two Bjorck-Bowie steps
+    # X (3 I - X^T X) / 2 reach the polar factor (the SVD's U V^T) to ~1e-12, at a
+    # fraction of a batched SVD's cost
+    for cut in rows:
+        part = rot[cut]
+        for _ in range(2):
+            part = part @ (1.5 * np.eye(3) - 0.5 * np.swapaxes(part, -1, -2) @ part)
+        rot[cut] = part
+    return rot.reshape(matrices.shape)
+
+
+def _scale_and_skew(matrices):
+    """Squared mean column length, largest departure from orthogonality (same units) and
+    determinant of each matrix (..., 3, 3)."""
     c0, c1, c2 = matrices[..., 0], matrices[..., 1], matrices[..., 2]
 
     def dot(a, b):
@@ -118,17 +144,7 @@ def _rotation_parts(matrices):
     det = (c0[..., 0] * (c1[..., 1] * c2[..., 2] - c1[..., 2] * c2[..., 1])
            + c0[..., 1] * (c1[..., 2] * c2[..., 0] - c1[..., 0] * c2[..., 2])
            + c0[..., 2] * (c1[..., 0] * c2[..., 1] - c1[..., 1] * c2[..., 0]))
-    if not np.all(det > 0.0) or not np.all(off <= NEAR_ORTHOGONAL * scale2):
-        return nearest_rotations(matrices, "rotations")
-    rot = matrices / np.sqrt(scale2)[..., None, None]
-    if np.all(off <= 1e-6 * scale2):
-        return rot
-    # float32 rounding through a deep hierarchy leaves ~1e-6: two Bjorck-Bowie steps
-    # X (3 I - X^T X) / 2 reach the polar factor (the SVD's U V^T) to ~1e-12, at a
-    # fraction of a batched SVD's cost
-    for _ in range(2):
-        rot = rot @ (1.5 * np.eye(3) - 0.5 * np.swapaxes(rot, -1, -2) @ rot)
-    return rot
+    return scale2, off, det
 
 
 def check_drive(accel, alpha, times, first=0):
@@ -206,6 +222,14 @@ def frame_accelerations(times, heads, rotations, cyclic=False):
     alpha : numpy.ndarray, shape (F, B, 3)
         [rad/s^2] in world axes, from the turn between neighbouring samples.
     """
+    accel, alpha = np.empty(heads.shape), np.empty(heads.shape)
+    for bones in blocks_along(heads.shape[1], 12 * len(times)):  # each bone's own
+        accel[:, bones], alpha[:, bones] = _bone_accelerations(times, heads[:, bones], rotations[:, bones], cyclic)
+    return accel, alpha
+
+
+def _bone_accelerations(times, heads, rotations, cyclic):
+    """:func:`frame_accelerations` of a block of bones."""
     steps = np.diff(times)
     velocity = np.diff(heads, axis=0) / steps[:, None, None]
     quats = matrix_to_quaternion(rotations)
@@ -245,31 +269,46 @@ def midpoint_values(times, values, cyclic=False):
         Fourth-order accurate for a smooth signal, so a drive that changes within a
         few frames is not flattened the way straight lines between samples would.
     """
+    values = np.asarray(values)
+    if values.ndim < 2:
+        return _midpoints(times, values, cyclic)
+    out = np.empty((len(times) - 1,) + values.shape[1:])
+    for cut in blocks_along(values.shape[1], 5 * values[:, :1].size):  # each column's own
+        out[:, cut] = _midpoints(times, values[:, cut], cyclic)
+    return out
+
+
+def _midpoints(times, values, cyclic):
+    """:func:`midpoint_values` of one block: each interval's weights times shifted runs of samples."""
     frames = len(times)
     if frames == 2 or (cyclic and frames == 3):
         return 0.5 * (values[1:] + values[:-1])
-    period = times[-1] - times[0]
     k = np.arange(frames - 1)
     mid = 0.5 * (times[:-1] + times[1:])
     if cyclic:
         # index F-1 is index 0 again, so neighbours come from the F-1 distinct samples
         idx = k[:, None] + np.arange(-1, 3)
-        shift = np.floor_divide(idx, frames - 1)
-        nodes = times[np.mod(idx, frames - 1)] + shift * period
-        idx = np.mod(idx, frames - 1)
-    else:
-        lo = np.clip(k - 1, 0, frames - 3)
-        idx = lo[:, None] + np.arange(3)
-        inner = (k >= 1) & (k <= frames - 3)
-        idx4 = np.clip(k[:, None] + np.arange(-1, 3), 0, frames - 1)
-        w3 = _lagrange_weights(times[idx], mid)
-        out = np.einsum("km,km...->k...", w3, values[idx])
-        if np.any(inner):
-            w4 = _lagrange_weights(times[idx4[inner]], mid[inner])
-            out[inner] = np.einsum("km,km...->k...", w4, values[idx4[inner]])
-        return out
-    weights = _lagrange_weights(nodes, mid)
-    return np.einsum("km,km...->k...", weights, values[idx])
+        nodes = times[np.mod(idx, frames - 1)] + np.floor_divide(idx, frames - 1) * (times[-1] - times[0])
+        wrapped = np.concatenate([values[frames - 2:frames - 1], values[:frames - 1], values[:2]])
+        return _weighted_runs(_lagrange_weights(nodes, mid), wrapped, frames - 1)
+    out = np.empty((frames - 1,) + values.shape[1:])
+    for end, lo in ((0, 0), (frames - 2, frames - 3)):  # the end intervals: the parabola through three
+        w3 = _lagrange_weights(times[lo:lo + 3], mid[end])
+        out[end] = w3[0] * values[lo] + w3[1] * values[lo + 1] + w3[2] * values[lo + 2]
+    if frames > 3:  # the cubic through the four nearest
+        inner = np.arange(1, frames - 2)
+        out[1:frames - 2] = _weighted_runs(_lagrange_weights(times[inner[:, None] + np.arange(-1, 3)], mid[inner]),
+                                           values, frames - 3)
+    return out
+
+
+def _weighted_runs(weights, values, count):
+    """``sum_m weights[k, m] values[k + m]`` for ``k < count`` (slices, no gathered copies)."""
+    shape = (count,) + (1,) * (values.ndim - 1)
+    out = weights[:, 0].reshape(shape) * values[:count]
+    for m in range(1, weights.shape[1]):
+        out += weights[:, m].reshape(shape) * values[m:m + count]
+    return out
 
 
 def refine_drive(times, drive, substeps):
@@ -294,3 +333,22 @@ def refine_drive(times, drive, substeps):
         out[name] = np.concatenate([nodes, drive[name][-1:]])
         out[name + "_mid"] = at(s, m, e, wm).reshape((-1,) + s.shape[1:])
     return fine_t, out
+
+
+def chain_drive(slots, times, directions, accel, alpha, g_ref, cyclic, padding, levers=None):
+    """The integrator's drive on the slots, at the samples and halfway between (``_mid``):
+    animated bone directions, apparent gravity at the heads [m/s^2], angular
+    accelerations [rad/s^2] and, for the multi-link model, each head's offset from its
+    parent's head [m]."""
+    drive = {}
+    parts = [("directions", directions), ("head_acceleration", accel), ("alpha", alpha)]
+    if levers is not None:
+        parts.append(("levers", levers))
+    for name, value in parts:
+        drive[name] = slots.to_slots(value)
+        drive[name + "_mid"] = slots.to_slots(midpoint_values(times, value, cyclic))
+    for suffix in ("", "_mid"):
+        # from the accelerations, so a still rig feels g_ref exactly (zero offset)
+        drive["g_eff" + suffix] = apparent_gravity(g_ref, drive.pop("head_acceleration" + suffix))
+        drive["directions" + suffix][:, padding, 1] = 1.0  # unused slots get any unit direction
+    return drive
