@@ -72,7 +72,7 @@ of a general class of recurrence equations", IEEE Trans. Computers C-22(8):786-7
 
 import numpy as np
 
-from ..base.blocks import blocks_along
+from ..base.blocks import BLOCK_VALUES, blocks_along
 from .bone_forces import gravity_and_turn, loaded_pose_load, swing_part, turned
 from .contacts import hold_outside
 from .samples import refine_drive
@@ -97,14 +97,12 @@ MAX_SWEEPS = 40
 STIFFNESS_SWEEPS = 1
 #: Pair levels composed before the frame-by-frame part.
 _PAIR_LEVELS = 3
-#: Values (8 bytes each) in one array of a block of the frame-by-frame work: about 1 MB, so a
-#: block's arrays stay in the processor's cache on a long take; a demo-sized bake is one block.
-_BLOCK_VALUES = 2 ** 17
 
 
 def _block(values_per_item):
-    """Items (nodes or intervals) per block when one item fills ``values_per_item`` values."""
-    return max(8, _BLOCK_VALUES // max(1, values_per_item))
+    """Items (nodes or intervals) per block of about :data:`..base.blocks.BLOCK_VALUES` values (at
+    least 8) when one item fills ``values_per_item`` values; a demo-sized bake is one block."""
+    return max(8, BLOCK_VALUES // max(1, values_per_item))
 
 
 def _in_node_blocks(node_wise, first, *rest):
