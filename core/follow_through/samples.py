@@ -109,7 +109,7 @@ def _rotation_parts(matrices):
     and degenerate matrices.
     """
     flat = matrices.reshape((-1, 3, 3))
-    rows = blocks_along(len(flat), 40)  # each matrix's own
+    rows = blocks_along(len(flat), 16)  # each matrix's own (a demo-sized take is one block)
     scale2, off, det = (np.empty(len(flat)) for _ in range(3))
     for cut in rows:
         scale2[cut], off[cut], det[cut] = _scale_and_skew(flat[cut])
