@@ -226,6 +226,21 @@ def _balance(sag, n):
     return brentq(lambda d: d - sag * (n * math.cos(d) - 1.0), -math.pi / 2, math.pi / 2, xtol=1e-14)
 
 
+def bouncing_strand(fps=24.0, seconds=6.0, links=5):
+    """A strand hanging down and back from a head that bounces hard (a kink at every ground
+    contact), its parameters (hair-like, 80 deg limit) and parents: (times, heads, rotations,
+    parents, parameters)."""
+    t = np.arange(0.0, seconds + 1e-9, 1.0 / fps)
+    pivot = np.zeros((len(t), 3))
+    pivot[:, 1] = 0.05 * np.sin(2.1 * t)
+    pivot[:, 2] = 1.7 + 0.3 * np.abs(np.sin(3.0 * t))
+    direction = np.array([0.0, 0.7, -0.7]) / math.sqrt(0.98)
+    heads = pivot[:, None, :] + 0.064 * np.arange(links)[None, :, None] * direction
+    rot = np.broadcast_to(frame_with_direction(direction), (len(t), links, 3, 3)).copy()
+    params = ChainParameters(1.5, 0.25, math.radians(20.0), angle_limit=math.radians(80.0))
+    return t, heads, rot, list(range(-1, links - 1)), params
+
+
 def test_sweeps_stop_within_their_error_estimate(monkeypatch):
     # A five-bone strand hanging down and back from a head that bounces hard (kinks at
     # every ground contact) swings its tip past the 80 deg limit, the case that needs the
@@ -235,16 +250,7 @@ def test_sweeps_stop_within_their_error_estimate(monkeypatch):
     # keeps must be within ERROR_TOLERANCE of the path iterated to 1e-10 rad.
     import leapwright.core.follow_through.integrator as integrator
 
-    fps, seconds, links = 24.0, 6.0, 5
-    t = np.arange(0.0, seconds + 1e-9, 1.0 / fps)
-    pivot = np.zeros((len(t), 3))
-    pivot[:, 1] = 0.05 * np.sin(2.1 * t)
-    pivot[:, 2] = 1.7 + 0.3 * np.abs(np.sin(3.0 * t))
-    direction = np.array([0.0, 0.7, -0.7]) / math.sqrt(0.98)
-    heads = pivot[:, None, :] + 0.064 * np.arange(links)[None, :, None] * direction
-    rot = np.broadcast_to(frame_with_direction(direction), (len(t), links, 3, 3)).copy()
-    params = ChainParameters(1.5, 0.25, math.radians(20.0), angle_limit=math.radians(80.0))
-    parents = [-1, 0, 1, 2, 3]
+    t, heads, rot, parents, params = bouncing_strand()
     kept = bake_chains(t, heads, rot, parents, params)
     tolerance = integrator.ERROR_TOLERANCE
     monkeypatch.setattr(integrator, "SWEEP_TOLERANCE", 1e-10)

@@ -15,7 +15,7 @@ import leapwright.core.follow_through.integrator as integrator
 import test_chain_contacts as contacts
 import test_chains_dynamics as dynamics
 import test_chains_weight as weight
-from leapwright.core.follow_through.chains import ChainParameters, bake_chains
+from leapwright.core.follow_through.chains import bake_chains
 
 
 @pytest.fixture
@@ -58,16 +58,7 @@ def test_windows_stop_within_the_sweeps_error_estimate(windows, monkeypatch):
     # 80 deg limit): cut into windows, each stopped by the same a-posteriori bound of a
     # linearly converging fixed-point iteration (Banach; Kreyszig 1978, sec. 5.1), the kept
     # path must still be within ERROR_TOLERANCE of the whole take iterated to 1e-10 rad.
-    fps, seconds, links = 24.0, 6.0, 5
-    t = np.arange(0.0, seconds + 1e-9, 1.0 / fps)
-    pivot = np.zeros((len(t), 3))
-    pivot[:, 1] = 0.05 * np.sin(2.1 * t)
-    pivot[:, 2] = 1.7 + 0.3 * np.abs(np.sin(3.0 * t))
-    direction = np.array([0.0, 0.7, -0.7]) / math.sqrt(0.98)
-    heads = pivot[:, None, :] + 0.064 * np.arange(links)[None, :, None] * direction
-    rot = np.broadcast_to(dynamics.frame_with_direction(direction), (len(t), links, 3, 3)).copy()
-    params = ChainParameters(1.5, 0.25, math.radians(20.0), angle_limit=math.radians(80.0))
-    parents = [-1, 0, 1, 2, 3]
+    t, heads, rot, parents, params = dynamics.bouncing_strand()
     kept = bake_chains(t, heads, rot, parents, params)
     assert len(windows) == math.ceil((len(t) - 1) / 8)
     tolerance = integrator.ERROR_TOLERANCE
