@@ -76,7 +76,7 @@ from ..base.blocks import BLOCK_VALUES, blocks_along
 from .bone_forces import gravity_and_turn, loaded_pose_load, swing_part, turned
 from .contacts import hold_outside
 from .samples import refine_drive
-from .slots import ChainSlots, joint_groups, limit_joints  # noqa: F401  (ChainSlots is part of the API)
+from .slots import ChainSlots, limit_joints  # noqa: F401  (ChainSlots is part of the API)
 from .affine_runs import compose_pairs, periodic_start, run_affine
 from .steps import expm_batched, oscillator_steps
 
@@ -123,29 +123,6 @@ def _in_node_blocks(node_wise, first, *rest):
     return out
 
 
-def _map_layout(slots):
-    """Where the entries of every bone's rows go in a tree's ``[Phi + E0 | push]`` block.
-
-    Returns flat indices into (trees, n, 2, 5n), the matching columns of the per-step source
-    ``[phi | g0 | beta]``, and per tree position (trees, n) its parent's and whether it has one.
-    """
-    trees, n = slots.trees, slots.size
-    cols = 5 * n
-    t, i, r, s = np.meshgrid(np.arange(trees), np.arange(n), np.arange(2), np.arange(2), indexing="ij")
-    row = ((t * n + i) * 2 + r) * cols
-    own = (row + 2 * i + s).ravel()
-    own_src = (((t * n + i) * 2 + r) * 2 + s).ravel()
-    parent_pos = slots.parent_matrix.argmax(axis=-1)  # (trees, n)
-    has_parent = slots.parent_matrix.sum(axis=-1) > 0
-    linked = has_parent[t, i].ravel()
-    link = (row + 2 * parent_pos[t, i] + s).ravel()[linked]
-    link_src = (4 * trees * n + own_src)[linked]
-    t, i, r, node = np.meshgrid(np.arange(trees), np.arange(n), np.arange(2), np.arange(3), indexing="ij")
-    push = (((t * n + i) * 2 + r) * cols + 2 * n + node * n + i).ravel()
-    push_src = (8 * trees * n + ((t * n + i) * 3 + node) * 2 + r).ravel()
-    return np.concatenate([own, link, push]), np.concatenate([own_src, link_src, push_src]), parent_pos, has_parent
-
-
 def _chain_maps(phi, beta, k, c, mu, h, slots):
     """Per-interval affine maps of whole trees and the transfer of the nodal forces.
 
@@ -157,7 +134,7 @@ def _chain_maps(phi, beta, k, c, mu, h, slots):
     blocks give the same bits; a block's scratch stays in cache on a long take).
     """
     steps, n, trees = phi.shape[0], slots.size, slots.trees
-    layout = _map_layout(slots)
+    layout = slots.map_layout
     m, q = np.empty((steps, trees, 2 * n, 2 * n)), np.empty((steps, trees, 2 * n, 3 * n))
     block = _block(trees * 10 * n * n)
     for a in range(0, steps, block):
@@ -167,7 +144,7 @@ def _chain_maps(phi, beta, k, c, mu, h, slots):
 
 
 def _chain_map_block(phi, beta, k, c, mu, h, slots, layout):
-    """:func:`_chain_maps` for one block of intervals, ``layout`` from :func:`_map_layout`."""
+    """:func:`_chain_maps` for one block of intervals, ``layout`` from :attr:`.slots.ChainSlots.map_layout`."""
     steps, n, trees = phi.shape[0], slots.size, slots.trees
     hh = h[:, None]
     kk, kd = k[None, :] + 0.0 * hh, (mu * c)[None, :] + 0.0 * hh
@@ -361,7 +338,7 @@ def _sweep_window(slots, coefficients, times, nodes, g_ref, cyclic, start, conta
     state_shape = (trees, 2 * n, 3)
     best, change, sweeps, history = None, np.inf, 0, []  # history: changes of the sweeps so far [rad]
     hm = h[None, :, None]
-    joints = joint_groups(slots)
+    joints = slots.joints
     for sweeps in range(1, MAX_SWEEPS + 1):
         if sweeps <= STIFFNESS_SWEEPS:
             dx, dy, dz = turned(psi[0, frames:], psi[1, frames:], psi[2, frames:], d0[:, frames:])

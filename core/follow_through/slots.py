@@ -2,6 +2,7 @@
 and the joints' bend held within its limit.
 """
 
+import functools
 from dataclasses import dataclass
 
 import numpy as np
@@ -31,6 +32,16 @@ class ChainSlots:
     size: int
     parent_matrix: np.ndarray
     path_matrix: np.ndarray
+
+    @functools.cached_property
+    def joints(self):
+        """:func:`joint_groups` of these slots, made once (a tuning re-bake keeps its slots)."""
+        return joint_groups(self)
+
+    @functools.cached_property
+    def map_layout(self):
+        """:func:`map_layout` of these slots, made once."""
+        return map_layout(self)
 
     @classmethod
     def from_parents(cls, parents):
@@ -135,3 +146,26 @@ def joint_groups(slots):
         t = members[0]
         matrices.append(((np.eye(slots.size) - slots.parent_matrix[t]).T, slots.path_matrix[t].T))
     return JointGroups(slots.size, index, tuple(groups), tuple(matrices))
+
+
+def map_layout(slots):
+    """Where the entries of every bone's rows go in a tree's ``[Phi + E0 | push]`` block.
+
+    Returns flat indices into (trees, n, 2, 5n), the matching columns of the per-step source
+    ``[phi | g0 | beta]``, and per tree position (trees, n) its parent's and whether it has one.
+    """
+    trees, n = slots.trees, slots.size
+    cols = 5 * n
+    t, i, r, s = np.meshgrid(np.arange(trees), np.arange(n), np.arange(2), np.arange(2), indexing="ij")
+    row = ((t * n + i) * 2 + r) * cols
+    own = (row + 2 * i + s).ravel()
+    own_src = (((t * n + i) * 2 + r) * 2 + s).ravel()
+    parent_pos = slots.parent_matrix.argmax(axis=-1)  # (trees, n)
+    has_parent = slots.parent_matrix.sum(axis=-1) > 0
+    linked = has_parent[t, i].ravel()
+    link = (row + 2 * parent_pos[t, i] + s).ravel()[linked]
+    link_src = (4 * trees * n + own_src)[linked]
+    t, i, r, node = np.meshgrid(np.arange(trees), np.arange(n), np.arange(2), np.arange(3), indexing="ij")
+    push = (((t * n + i) * 2 + r) * cols + 2 * n + node * n + i).ravel()
+    push_src = (8 * trees * n + ((t * n + i) * 3 + node) * 2 + r).ravel()
+    return np.concatenate([own, link, push]), np.concatenate([own_src, link_src, push_src]), parent_pos, has_parent
