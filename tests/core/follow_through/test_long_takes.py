@@ -15,7 +15,7 @@ import leapwright.core.follow_through.integrator as integrator
 import test_chain_contacts as contacts
 import test_chains_dynamics as dynamics
 import test_chains_weight as weight
-from leapwright.core.follow_through.chains import bake_chains
+from leapwright.core.follow_through.chains import BakeOptions, bake_chains
 
 
 @pytest.fixture
@@ -72,3 +72,20 @@ def test_windows_stop_within_the_sweeps_error_estimate(windows, monkeypatch):
     monkeypatch.setattr(integrator, "_WINDOW_VALUES", 1)
     cut = bake_chains(t, heads, rot, parents, params)
     assert np.abs(cut.world_offsets - converged.world_offsets).max() < 1e-8
+
+
+@pytest.mark.parametrize("options", [BakeOptions(substeps=2), BakeOptions(resets=(50,)), BakeOptions(cyclic=True)],
+                         ids=["substeps", "reset", "cyclic"])
+def test_converged_window_by_window_the_path_is_the_whole_takes(windows, monkeypatch, options):
+    # A step depends only on earlier ones, so iterated to 1e-10 rad the path cut into windows is
+    # the path of the whole take, on a finer grid (substeps), across a reset and for a loop (which
+    # is solved whole: its start is the periodic state of every step's product).
+    t, heads, rot, parents, params = dynamics.bouncing_strand(seconds=4.0)
+    monkeypatch.setattr(integrator, "SWEEP_TOLERANCE", 1e-10)
+    monkeypatch.setattr(integrator, "ERROR_TOLERANCE", 1e-10)
+    cut = bake_chains(t, heads, rot, parents, params, options=options)
+    assert (len(windows) == 1) if options.cyclic else (len(windows) > 3)
+    monkeypatch.setattr(integrator, "_WINDOW_VALUES", 10 ** 9)  # one window
+    whole = bake_chains(t, heads, rot, parents, params, options=options)
+    assert np.abs(whole.world_offsets).max() > 0.5
+    assert np.abs(cut.world_offsets - whole.world_offsets).max() < 1e-8
