@@ -223,7 +223,7 @@ def chain_motion(times, heads, rotations, parents, gravity=(0.0, 0.0, -STANDARD_
         levers = _levers(heads[lo:hi], parents) if options.multi_link else None
         drive = chain_drive(slots, seg_times, rots[lo:hi, :, :, 1], accel, alpha, g_ref, options.cyclic, padding, levers)
         if not options.multi_link and options.substeps == 1:
-            drive["nodes"] = drive_nodes(drive)
+            drive = {"nodes": drive_nodes(drive)}  # all the sweeps read; the rest would double the memory kept
         segments.append((lo, hi, drive))
     return ChainMotion(times, heads, rots, parents, g_ref, options, slots, padding, tuple(segments), tolerance)
 
