@@ -89,8 +89,7 @@ def gravity_and_turn(psi, d0, ge, al, gain, loaded):
 
 def loaded_pose_load(d0, g_ref, gain):
     """The load ``gain * (d0 x g_ref)`` under which the animated pose is the rest shape [1/s^2]."""
-    return gain * np.stack([d0[1] * g_ref[2] - d0[2] * g_ref[1], d0[2] * g_ref[0] - d0[0] * g_ref[2],
-                            d0[0] * g_ref[1] - d0[1] * g_ref[0]])
+    return gain * np.stack(cross_parts(d0[0], d0[1], d0[2], *g_ref))
 
 
 def swing_part(psi, d0):

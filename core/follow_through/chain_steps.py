@@ -35,7 +35,7 @@ Goldstein, H., Poole, C. & Safko, J. 2002, "Classical Mechanics", 3rd ed., ch. 6
 import numpy as np
 
 from .chain_mechanics import ChainTree, chain_matrices, gravity_stiffness, loaded_forces, node_forces, turned_pose
-from .contacts import hold_outside
+from .contacts import contact_part, hold_outside
 from .samples import refine_drive
 from .steps import oscillator_steps
 
@@ -170,8 +170,7 @@ class _Run:
         out = hold_joints(psi, self.tree, self.limit)
         if self.contact is not None:
             flat = out.reshape(1, -1, 3).transpose(2, 0, 1)
-            node = {name: (value[f:f + 1] if name in ("heads", "levers", "d0", "starts", "ends") else value)
-                    for name, value in self.contact.items()}
+            node = contact_part(self.contact, lambda value: value[f:f + 1])
             touched = hold_outside(flat, node).transpose(1, 2, 0).reshape(psi.shape)
             out = out if np.array_equal(touched, out) else touched
         if out is psi:
@@ -224,8 +223,7 @@ def _corners_cleared(out, contact):
     out of both (:func:`.contacts.hold_outside` with ``clear_corners``), at every frame at once."""
     frames = out.shape[0]
     flat = out.reshape(frames, -1, 3).transpose(2, 0, 1)
-    nodes = {name: (value[:frames] if name in ("heads", "levers", "d0", "starts", "ends") else value)
-             for name, value in contact.items()}
+    nodes = contact_part(contact, lambda value: value[:frames])
     return hold_outside(flat, nodes, clear_corners=True).transpose(1, 2, 0).reshape(out.shape)
 
 

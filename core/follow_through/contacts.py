@@ -30,7 +30,8 @@ from ..base.errors import InvalidGoalError
 from ..base.rotation_vectors import quaternion_multiply, quaternion_to_rotvec, rotate, rotvec_to_quaternion
 from .samples import midpoint_values
 
-__all__ = ["Colliders", "closest_on_segments", "contact_arrays", "contact_nodes", "hold_outside", "push_outside"]
+__all__ = ["Colliders", "closest_on_segments", "contact_arrays", "contact_nodes", "contact_part", "hold_outside",
+           "push_outside"]
 
 #: Most rounds of turning a bone so its tip leaves the surface it is deepest inside (the
 #: turn is exact for that surface; a tip then inside another one is looked at again:
@@ -131,6 +132,16 @@ def contact_nodes(contact, lo, hi, slots, times, heads, directions, cyclic):
     out["parent_slot"] = parent_slot
     out["levels"] = [np.sort(slots.slot[depth == level]) for level in range(int(depth.max(initial=-1)) + 1)]
     return out
+
+
+#: What :func:`contact_nodes` gives at every node (axis 0, frames then middles); the rest is per bone.
+NODE_KEYS = ("starts", "ends", "heads", "levers", "d0")
+
+
+def contact_part(contact, cut):
+    """``contact`` from :func:`contact_nodes` with ``cut`` applied to each value given at every node
+    (a frame, the first frames, a window's nodes); the per-bone values are shared."""
+    return {name: cut(value) if name in NODE_KEYS else value for name, value in contact.items()}
 
 
 def closest_on_segments(points, starts, ends):

@@ -74,7 +74,7 @@ import numpy as np
 
 from ..base.blocks import BLOCK_VALUES, blocks_along
 from .bone_forces import gravity_and_turn, loaded_pose_load, swing_part, turned
-from .contacts import hold_outside
+from .contacts import contact_part, hold_outside
 from .samples import refine_drive
 from .slots import ChainSlots, limit_joints  # noqa: F401  (ChainSlots is part of the API)
 from .affine_runs import compose_pairs, periodic_start, run_affine
@@ -292,16 +292,13 @@ def integrate(slots, coefficients, times, drive, g_ref, cyclic=False, substeps=1
     for a in range(0, max(frames - 1, 1), span):
         b = min(a + span, frames - 1)  # the window's frames a..b; the next one starts at b
         here = [_window_nodes(x, a, b, frames, 1) for x in nodes]
-        near = None if contact is None else {key: _window_nodes(x, a, b, frames, 0) if key in _CONTACT_NODES else x
-                                             for key, x in contact.items()}
+        near = None if contact is None else contact_part(contact, lambda x: _window_nodes(x, a, b, frames, 0))
         psi, done, moved, state = _sweep_window(slots, coefficients, times[a:b + 1], here, g_ref, cyclic, state, near)
         out[:, a:b + 1] = psi[:, :b - a + 1]
         sweeps, change = max(sweeps, done), max(change, moved)
     return out[:, ::substeps].transpose(1, 2, 0), sweeps, change
 
 
-#: Colliders' values given at every node (axis 0), cut with the drive into windows.
-_CONTACT_NODES = ("starts", "ends", "heads", "levers", "d0")
 #: Bone-frames in one window of a long take (about 0.6 MB per component-first array): each
 #: window is swept to convergence from the last one's end state, so its arrays stay in the
 #: processor's cache. The converged path is the same (a step depends only on earlier ones).

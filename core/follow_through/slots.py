@@ -40,8 +40,8 @@ class ChainSlots:
 
     @functools.cached_property
     def map_layout(self):
-        """:func:`map_layout` of these slots, made once."""
-        return map_layout(self)
+        """:func:`step_map_layout` of these slots, made once."""
+        return step_map_layout(self)
 
     @classmethod
     def from_parents(cls, parents):
@@ -148,7 +148,7 @@ def joint_groups(slots):
     return JointGroups(slots.size, index, tuple(groups), tuple(matrices))
 
 
-def map_layout(slots):
+def step_map_layout(slots):
     """Where the entries of every bone's rows go in a tree's ``[Phi + E0 | push]`` block.
 
     Returns flat indices into (trees, n, 2, 5n), the matching columns of the per-step source
