@@ -2,7 +2,9 @@
 
 The panel re-plans on every value change, so a plan must be quick enough to
 follow a dragged slider. Each figure is the minimum over 30 plans of fresh
-goals (the shape search keeps nothing between plans that could flatter it), and,
+goals (the shape search keeps nothing between plans that could flatter it; what
+stays is the per-kind layout of a stretch's limits, built once per process like the
+sample tables), and,
 as the panel sees it while a slider drags, the minimum over plans whose dip depth
 changes by a millimetre each time (the stretches the depth does not touch are kept).
 The last line is one JSON object.

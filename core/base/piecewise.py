@@ -104,9 +104,15 @@ def quintic_between(p0, v0, a0, p1, v1, a1, duration):
     """
     T = float(duration)
     c0, c1, c2 = p0, v0, 0.5 * a0
-    m = np.array([[T**3, T**4, T**5], [3 * T**2, 4 * T**3, 5 * T**4], [6 * T, 12 * T**2, 20 * T**3]])
-    rhs = np.array([p1 - (c0 + c1 * T + c2 * T * T), v1 - (c1 + 2 * c2 * T), a1 - 2 * c2])
-    c3, c4, c5 = np.linalg.solve(m, rhs)
+    # What the end conditions leave for t^3..t^5 (position, speed, acceleration at T). With
+    # c_k = d_k / T^k the system is [[1, 1, 1], [3, 4, 5], [6, 12, 20]] d = (r0, r1 T, r2 T^2),
+    # whose inverse is [[10, -4, 1/2], [-15, 7, -1], [6, -3, 1/2]] (determinant 2).
+    r0 = p1 - (c0 + c1 * T + c2 * T * T)
+    r1 = (v1 - (c1 + 2.0 * c2 * T)) * T
+    r2 = (a1 - 2.0 * c2) * T * T
+    c3 = (10.0 * r0 - 4.0 * r1 + 0.5 * r2) / T**3
+    c4 = (-15.0 * r0 + 7.0 * r1 - r2) / T**4
+    c5 = (6.0 * r0 - 3.0 * r1 + 0.5 * r2) / T**5
     return Polynomial([c0, c1, c2, c3, c4, c5])
 
 

@@ -11,7 +11,7 @@ acceleration at the bottom. Every sample is therefore a line in a_b whose
 offset is a polynomial in 1/T (and the speed limits, divided by their slope,
 too). For fixed durations the ground-cannot-pull and one-way-speed limits cut
 a_b to an interval and the peak force is the upper envelope of the lines:
-:func:`lowest_envelope` finds its minimum exactly. Along a free duration the
+:func:`.line_envelope.lowest_envelope` finds its minimum exactly. Along a free duration the
 least peak is then piecewise quadratic in u = 1/T, its minimum the vertex of
 one quadratic or the crossing of two (a closed form once the two are known);
 :mod:`.shape_choice` finds them from a few batches of durations.
@@ -22,6 +22,7 @@ import functools
 import numpy as np
 
 from ..base.piecewise import quintic_between
+from .line_envelope import lowest_envelope
 
 SAMPLES = 97  # grid points per piece
 FORCE_MARGIN = 2e-3  # BW kept above zero on the inner samples so the force stays >= 0 between them
@@ -53,6 +54,7 @@ _GRID = np.linspace(0.0, 1.0, SAMPLES)
 _D = {order: _derivative_table(_GRID, order) for order in (1, 2)}
 _D3_ENDS = _derivative_table(np.array([0.0, 1.0]), 3)
 _TURN_D2 = _derivative_table(np.linspace(0.0, 1.0, _TURN_SAMPLES)[1:], 2)
+_ENVELOPE_SLOPE = np.concatenate([_D[2][5], _D[2][2]])
 
 # Columns of the duration powers: T1^-3, T1^-2, T1^-1, 1, T1, T2^-3, T2^-2, T2^-1, T2.
 _POWER = {(1, -3): 0, (1, -2): 1, (1, -1): 2, (1, 0): 3, (1, 1): 4,
@@ -91,73 +93,119 @@ def _slope_rows(table, piece, order):
     return rows
 
 
+def _limit_rows(x, first_kind, second_kind, zero_force, lined):
+    """Every limit of a stretch as ``offset + slope a_b >= 0``, each (9, m), for parameters ``x``.
+
+    ``x`` is (start height, speed, acceleration, bottom height, end height, speed,
+    acceleration, g); the offsets are linear in it and the slopes do not depend on it, so
+    :func:`_layout` builds them once per kind of stretch. Also the envelope's offsets
+    (the acceleration at every sample) and the dip's turn-check offsets.
+    """
+    sh, sv, sa, zb, eh, ev, ea, g = x
+    ends = {1: (sh, sv, sa, zb, 0.0, 0.0), 2: (zb, 0.0, 0.0, eh, ev, ea)}
+    acc = np.concatenate([_piece_rows(_D[2], ends[k], k, 2) for k in (1, 2)], axis=1)
+    margin = np.full(2 * SAMPLES, g * FORCE_MARGIN)
+    margin[[0, SAMPLES - 1, SAMPLES, 2 * SAMPLES - 1]] = 0.0  # the ends may sit exactly at -g
+    force = acc.copy()
+    force[3] += g - margin
+    offsets, slopes = [force], [np.concatenate([_slope_rows(_D[2], k, 2) for k in (1, 2)], axis=1)]
+    for piece, column, into, zero in ((1, 0, 1.0, zero_force[0]), (2, 1, -1.0, zero_force[1])):
+        if zero:
+            # A zero-force end (touchdown, take-off) needs the force growing into the piece.
+            table = _D3_ENDS[:, [column]]
+            offsets.append(into * _piece_rows(table, ends[piece], piece, 3))
+            slopes.append(into * _slope_rows(table, piece, 3))
+    for piece, kind in ((1, first_kind), (2, second_kind)):
+        sign = _SPEED_SIGN[kind]  # the speed keeps its sign strictly inside the piece
+        inner = _D[1][:, 1:-1]
+        offsets.append(sign * _piece_rows(inner, ends[piece], piece, 1))
+        slopes.append(sign * _slope_rows(inner, piece, 1))
+    # Outer bounds keep a_b finite (a thousand g either way); a dip needs an upward push at the bottom.
+    for offset, slope in ((1e3 * g, 1.0), (1e3 * g, -1.0)) + (((0.0, 1.0),) if first_kind == "dip" else ()):
+        offsets.append(np.zeros((9, 1)))
+        offsets[-1][3] = offset
+        slopes.append(np.zeros((9, 1)))
+        slopes[-1][3] = slope
+    turn = _piece_rows(_TURN_D2, ends[1], 1, 2) if first_kind == "dip" else np.zeros((9, 0))
+    if lined:
+        # A dip from rest with no acceleration has a(s) = s q(s), q quadratic: on the grid it turns
+        # once exactly when its first sample is below zero and its last (a_b) above, two more lines.
+        band = _TURN_BAND * g
+        offsets += [-turn[:, :1], np.zeros((9, 1))]
+        offsets[-2][3] -= band
+        offsets[-1][3] = -band
+        slopes += [np.zeros((9, 1)), np.zeros((9, 1))]
+        slopes[-2][3], slopes[-1][3] = -_TURN_D2[5][0], 1.0
+    return acc, np.concatenate(offsets, axis=1), np.concatenate(slopes, axis=1), turn
+
+
+class _Layout:
+    """A kind of stretch's limits as linear maps of its parameters (see :func:`_layout`)."""
+
+    def __init__(self, envelope, stacked, turn, cuts, groups):
+        self.envelope, self.stacked, self.turn, self.cuts, self.groups = envelope, stacked, turn, cuts, groups
+
+
+@functools.lru_cache(maxsize=32)
+def _layout(first_kind, second_kind, zero_force, lined):
+    """The limits of one kind of stretch, kept as bounds on a_b, each a matrix product.
+
+    Every slope is one duration power ``p_k`` times a constant ``c`` (``p_k > 0``), so a
+    limit's bound ``-offset / slope`` is ``(powers @ (-offset / c)) / p_k``: rising limits
+    (``c > 0``) are lower bounds, falling ones upper bounds, flat ones a plain test. Grouped by
+    ``k``, each group's tightest bound is one reduction before the division by its power.
+    Offsets are linear in the stretch's parameters, so each table is kept per parameter
+    (8, 9, m) and a stretch's own is one contraction.
+    """
+    rows = [_limit_rows(unit, first_kind, second_kind, zero_force, lined) for unit in np.eye(8)]
+    slope = rows[0][2]
+    live = np.abs(slope) > 1e-12
+    if np.any(live.sum(axis=0) > 1):
+        raise AssertionError("a limit's slope spans two duration powers")  # _limit_rows forbids it
+    power = live.argmax(axis=0)
+    c = np.where(live.any(axis=0), slope[power, np.arange(slope.shape[1])], 0.0)
+    offset = np.stack([r[1] for r in rows])  # (8, 9, m)
+    parts, groups = [offset[:, :, c == 0.0]], []
+    for side in (c > 0.0, c < 0.0):
+        order = np.flatnonzero(side)[np.argsort(power[side], kind="stable")]
+        ks, starts = np.unique(power[order], return_index=True)
+        groups.append((starts, ks))
+        parts.append(-offset[:, :, order] / c[order])
+    ends = np.cumsum([0] + [p.shape[2] for p in parts]).tolist()
+    return _Layout(np.stack([r[0] for r in rows]), np.concatenate(parts, axis=2),
+                   np.stack([r[3] for r in rows]), [slice(a, b) for a, b in zip(ends[:-1], ends[1:])], groups)
+
+
 class LineTables:
     """Every sample of a stretch as a line in a_b, its offset and slope linear in the duration powers."""
 
     def __init__(self, spec, turn_by_lines=True):
         s, e, zb, g = spec.start, spec.end, spec.bottom_height, spec.gravity
-        ends = {1: (s.height, s.speed, s.acceleration, zb, 0.0, 0.0),
-                2: (zb, 0.0, 0.0, e.height, e.speed, e.acceleration)}
         self.spec = spec
-        acc = np.concatenate([_piece_rows(_D[2], ends[k], k, 2) for k in (1, 2)], axis=1)
-        self.envelope_offset = acc
-        self.envelope_slope = np.concatenate([_D[2][5], _D[2][2]])
-        # Limits written as offset + slope * a_b >= 0.
-        margin = np.full(2 * SAMPLES, g * FORCE_MARGIN)
-        margin[[0, SAMPLES - 1, SAMPLES, 2 * SAMPLES - 1]] = 0.0  # the ends may sit exactly at -g
-        force = acc.copy()
-        force[3] += g - margin
-        offsets, slopes = [force], [np.concatenate([_slope_rows(_D[2], k, 2) for k in (1, 2)], axis=1)]
-        for piece, column, into, end_acc in ((1, 0, 1.0, s.acceleration), (2, 1, -1.0, e.acceleration)):
-            if abs(end_acc + g) <= 1e-9 * g:
-                # A zero-force end (touchdown, take-off) needs the force growing into the piece.
-                table = _D3_ENDS[:, [column]]
-                offsets.append(into * _piece_rows(table, ends[piece], piece, 3))
-                slopes.append(into * _slope_rows(table, piece, 3))
-        for piece, kind in ((1, spec.first_kind), (2, spec.second_kind)):
-            sign = _SPEED_SIGN[kind]  # the speed keeps its sign strictly inside the piece
-            inner = _D[1][:, 1:-1]
-            offsets.append(sign * _piece_rows(inner, ends[piece], piece, 1))
-            slopes.append(sign * _slope_rows(inner, piece, 1))
-        # Outer bounds keep a_b finite (a thousand g either way); a dip needs an upward push at the bottom.
-        for offset, slope in ((1e3 * g, 1.0), (1e3 * g, -1.0)) + (((0.0, 1.0),) if spec.first_kind == "dip" else ()):
-            offsets.append(np.zeros((9, 1)))
-            offsets[-1][3] = offset
-            slopes.append(np.zeros((9, 1)))
-            slopes[-1][3] = slope
         self.dip = spec.first_kind == "dip"
-        if self.dip:
-            self.turn_offset = _piece_rows(_TURN_D2, ends[1], 1, 2)
-            self.turn_slope = _TURN_D2[5]
-        # A dip from rest with no acceleration has a(s) = s q(s), q quadratic: on the grid it turns
-        # once exactly when its first sample is below zero and its last (a_b) above, two more lines.
-        # (``turn_by_lines=False`` keeps the sample-by-sample check: the slow exact path the tests compare with.)
+        # (``turn_by_lines=False`` keeps the sample-by-sample check of the dip's one turn: the
+        # slow exact path the tests compare with.)
         self.turn_by_lines = turn_by_lines and self.dip and abs(s.acceleration) <= 1e-12 * g
-        if self.turn_by_lines:
-            band = _TURN_BAND * g
-            offsets += [-self.turn_offset[:, :1], np.zeros((9, 1))]
-            offsets[-2][3] -= band
-            offsets[-1][3] = -band
-            slopes += [np.zeros((9, 1)), np.zeros((9, 1))]
-            slopes[-2][3], slopes[-1][3] = -self.turn_slope[0], 1.0
-        offset, slope = np.concatenate(offsets, axis=1), np.concatenate(slopes, axis=1)
-        # Each slope is one power of a duration times a constant, so its sign is fixed: split the
-        # limits once into lower bounds (rising), upper bounds (falling) and flat ones.
-        sign = np.sign(np.where(np.abs(slope) > 1e-12, slope, 0.0).sum(axis=0))
-        # One matrix for all five products (one multiplication per batch rather than five).
-        parts = (offset[:, sign == 0], offset[:, sign > 0], slope[:, sign > 0], offset[:, sign < 0], slope[:, sign < 0])
-        self._stacked = np.concatenate(parts, axis=1)
-        ends = np.cumsum([0] + [p.shape[1] for p in parts]).tolist()
-        self._cuts = [slice(a, b) for a, b in zip(ends[:-1], ends[1:])]
+        zero_force = tuple(bool(abs(a + g) <= 1e-9 * g) for a in (s.acceleration, e.acceleration))
+        layout = _layout(spec.first_kind, spec.second_kind, zero_force, self.turn_by_lines)
+        x = np.array([s.height, s.speed, s.acceleration, zb, e.height, e.speed, e.acceleration, g], dtype=float)
+        self.envelope_offset = np.tensordot(x, layout.envelope, 1)
+        self.envelope_slope = _ENVELOPE_SLOPE
+        if self.dip:
+            self.turn_offset = np.tensordot(x, layout.turn, 1)
+            self.turn_slope = _TURN_D2[5]
+        self._stacked = np.tensordot(x, layout.stacked, 1)
+        self._cuts, self._groups = layout.cuts, layout.groups
         self.hint = None  # the (falling, rising) line pairs that crossed at the last batch's minima
 
     def feasible_interval(self, powers):
         """``(lo, hi)``: the a_b interval meeting the limits at each duration pair (empty: ``lo >= hi``)."""
         products = powers @ self._stacked
-        flat, lower_offset, lower_slope, upper_offset, upper_slope = (products[:, cut] for cut in self._cuts)
-        ok = (flat >= -1e-9).all(axis=1)
-        lo = (-lower_offset / lower_slope).max(axis=1)
-        hi = (-upper_offset / upper_slope).min(axis=1)
+        flat, lower, upper = (products[:, cut] for cut in self._cuts)
+        (lower_starts, lower_k), (upper_starts, upper_k) = self._groups
+        ok = flat.min(axis=1, initial=np.inf) >= -1e-9
+        lo = (np.maximum.reduceat(lower, lower_starts, axis=1) / powers[:, lower_k]).max(axis=1)
+        hi = (np.minimum.reduceat(upper, upper_starts, axis=1) / powers[:, upper_k]).min(axis=1)
         eps = 1e-9 * np.maximum(1.0, np.maximum(np.abs(lo), np.abs(hi)))
         return np.where(ok, lo + eps, np.inf), np.where(ok, hi - eps, -np.inf)
 
@@ -247,106 +295,3 @@ class LineTables:
 def line_tables(spec):
     """:class:`LineTables` of a stretch (kept: a rebound stretch is shared by every hop)."""
     return LineTables(spec)
-
-
-def _highest_line(alpha, beta, x):
-    """Index and value of the highest line in each row at ``x`` (n,)."""
-    values = alpha + beta * x[:, None]
-    k = values.argmax(axis=1)
-    return k, values[np.arange(alpha.shape[0]), k]
-
-
-def _on_top(v, model):
-    """Whether the highest value ``v`` is no higher than the pair's own ``model`` (to rounding)."""
-    return v <= model + 1e-12 * np.maximum(1.0, np.abs(model))
-
-
-def _clipped(x, lo, hi):
-    """``x`` held inside ``[lo, hi]`` in place (np.clip's own checks cost more than the work here)."""
-    np.minimum(x, hi, out=x)
-    return np.maximum(x, lo, out=x)
-
-
-def lowest_envelope(alpha, beta, lo, hi, hint=None, passes=60):
-    """Minimum over x in [lo, hi] of max_i(alpha_i + beta_i x), row by row, exactly.
-
-    Parameters
-    ----------
-    alpha : ndarray (n, m)
-        Line offsets; ``beta`` (m,) their slopes, shared by every row.
-    lo, hi : ndarray (n,)
-        The interval of each row.
-    hint : sequence of (int, int), optional
-        (falling, rising) line pairs likely to cross at the minimum, tried first in turn.
-
-    Returns
-    -------
-    (x, value, pairs) : ndarrays (n,) and the distinct (falling, rising) pairs that crossed at
-    a row's minimum (the next batch's hint: neighbouring durations share their active pairs)
-
-    Notes
-    -----
-    The envelope is convex and piecewise linear. Keep a bracket whose left end
-    has a falling highest line and right end a rising one; the two lines cross
-    at the envelope's minimum unless another line is higher there, which then
-    replaces the bracket end on its side. Each pass removes at least one corner.
-    A hinted pair is accepted only where its crossing passes the same test, so a
-    hint changes the work, never the answer.
-    """
-    n = alpha.shape[0]
-    x, value = np.empty(n), np.empty(n)
-    todo = np.arange(n)
-    used = []
-    for i, j in hint or ():
-        if not todo.size:
-            break
-        rows, a, b = alpha[todo], lo[todo], hi[todo]
-        cross = (rows[:, i] - rows[:, j]) / (beta[j] - beta[i])
-        _, v = _highest_line(rows, beta, _clipped(cross.copy(), a, b))
-        done = (cross > a) & (cross < b) & _on_top(v, rows[:, j] + beta[j] * cross)
-        if done.any():
-            x[todo[done]], value[todo[done]] = cross[done], v[done]
-            used.append((i, j))
-            todo = todo[~done]
-    if todo.size:
-        x[todo], value[todo], found = _lowest_envelope_rows(alpha[todo], beta, lo[todo], hi[todo], passes)
-        used += [pair for pair in found if pair not in used]
-    return x, value, used[:_HINT_PAIRS]
-
-
-#: Pairs kept as the next batch's hint (a bracket around one crossing of two quadratics has two).
-_HINT_PAIRS = 3
-
-
-def _lowest_envelope_rows(alpha, beta, lo, hi, passes):
-    """:func:`lowest_envelope` from the interval ends, without a hint; also the pairs found, most used first."""
-    k_lo, v_lo = _highest_line(alpha, beta, lo)
-    k_hi, v_hi = _highest_line(alpha, beta, hi)
-    x, value = lo.copy(), v_lo.copy()
-    at_hi = (beta[k_hi] <= 0.0) & (beta[k_lo] < 0.0)  # falling all the way: the minimum is at hi
-    x[at_hi], value[at_hi] = hi[at_hi], v_hi[at_hi]
-    idx = np.flatnonzero((beta[k_lo] < 0.0) & (beta[k_hi] > 0.0))
-    a, b, i, j = lo[idx], hi[idx], k_lo[idx], k_hi[idx]
-    counts = {}
-    rows = alpha[idx]
-    for _ in range(passes):
-        if not idx.size:
-            break
-        r = np.arange(idx.size)
-        aj = rows[r, j]
-        cross = _clipped((rows[r, i] - aj) / (beta[j] - beta[i]), a, b)
-        values = rows + beta * cross[:, None]
-        k = values.argmax(axis=1)
-        done = _on_top(values[r, k], aj + beta[j] * cross) | (beta[k] == 0.0)
-        solved = done.any()
-        if solved:
-            x[idx[done]], value[idx[done]] = cross[done], values[r, k][done]
-            for pair in zip(i[done].tolist(), j[done].tolist()):
-                counts[pair] = counts.get(pair, 0) + 1
-        rising = beta[k] > 0.0
-        b, j = np.where(rising, cross, b), np.where(rising, k, j)
-        a, i = np.where(rising, a, cross), np.where(rising, i, k)
-        if solved:  # carry on with the rows left only
-            keep = ~done
-            idx, a, b, i, j, rows = idx[keep], a[keep], b[keep], i[keep], j[keep], rows[keep]
-    return x, value, sorted(counts, key=counts.get, reverse=True)
