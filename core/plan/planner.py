@@ -36,6 +36,7 @@ from .flight_path import flight_for_speed, flight_for_time
 from .forward_path import landing_unit_path, push_unit_paths
 from .goals import resolved, similarity
 from ..base.piecewise import PiecewisePolynomial
+from ..base.quadratic import quadratic_roots
 from .plausibility import plausibility_report
 from .refusals import landing_refusal, start_refusal
 from .release import release_duration, release_path, release_start
@@ -372,21 +373,9 @@ def _acceleration_zero(dip, duration):
         return ((acc[3] * t + acc[2]) * t + acc[1]) * t + acc[0]
 
     if acc[0] == 0.0:  # from rest: t times a quadratic, whose roots are closed-form
-        candidates = _quadratic_roots(acc[3], acc[2], acc[1])
+        candidates = quadratic_roots(acc[3], acc[2], acc[1])
     else:
         candidates = [r.real for r in np.polynomial.polynomial.polyroots(acc) if abs(r.imag) < 1e-9]
     roots = [r for r in candidates if 0.0 < r < duration]
     crossing = [r for r in roots if at(min(r + 1e-6 * duration, duration)) > 0.0]
     return max(crossing) if crossing else 0.5 * duration
-
-
-def _quadratic_roots(c2, c1, c0):
-    """Real roots of ``c2 t^2 + c1 t + c0`` (the form without cancellation; a zero leading
-    coefficient leaves the line's root)."""
-    if c2 == 0.0:
-        return [] if c1 == 0.0 else [-c0 / c1]
-    disc = c1 * c1 - 4.0 * c2 * c0
-    if disc < 0.0:
-        return []
-    q = -0.5 * (c1 + math.copysign(math.sqrt(disc), c1))
-    return [q / c2, c0 / q] if q != 0.0 else [0.0, 0.0]

@@ -17,6 +17,7 @@ import math
 
 import numpy as np
 
+from ..base.quadratic import quadratic_roots
 from .shape_search import line_tables
 
 _COARSE = 41  # geometric grid over the whole duration range (steps of 11 %)
@@ -51,18 +52,6 @@ def _parabola(u, p):
     return c2, c1, p0 - c1 * u0 - c2 * u0 * u0
 
 
-def _real_roots(c2, c1, c0):
-    """Real roots of c2 x^2 + c1 x + c0 (leading zero coefficients dropped, as numpy.roots does)."""
-    if c2 == 0.0:
-        return [] if c1 == 0.0 else [-c0 / c1]
-    disc = c1 * c1 - 4.0 * c2 * c0
-    if disc < 0.0:
-        return []
-    # The form without cancellation: q = -(c1 + sign(c1) sqrt(disc)) / 2, roots q / c2 and c0 / q.
-    q = -0.5 * (c1 + math.copysign(math.sqrt(disc), c1))
-    return [q / c2, c0 / q] if q != 0.0 else [0.0, 0.0]
-
-
 def _crossing(u, p, m):
     """Closed-form minimiser of a piecewise quadratic around the lowest sample ``m``, or ``None``."""
     if m < 3 or m > len(u) - 4 or not all(math.isfinite(x) for x in p[m - 3:m + 4]):
@@ -75,7 +64,7 @@ def _crossing(u, p, m):
             return None
         vertex = -left[1] / (2.0 * left[0])
         return vertex if lo <= vertex <= hi else None
-    roots = [r for r in _real_roots(*difference) if lo <= r <= hi]
+    roots = [r for r in quadratic_roots(*difference) if lo <= r <= hi]
     return roots[0] if len(roots) == 1 else None
 
 
