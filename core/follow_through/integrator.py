@@ -129,39 +129,56 @@ def _chain_maps(phi, beta, k, c, mu, h, slots):
     ``phi`` (S-1, N, 2, 2) and ``beta`` (S-1, N, 3, 2) per interval and slot.
     Returns ``M`` (S-1, trees, 2n, 2n) and ``Q`` (S-1, trees, 2n, 3n): the state after
     an interval is ``M X + Q U`` with ``U`` the force at the start, middle and end
-    (n rows each). State rows are ``2 i + {0: psi, 1: rate}``. Built
-    a block of intervals at a time (each interval's maps are its own, so the
-    blocks give the same bits; a block's scratch stays in cache on a long take).
+    (n rows each). State rows are ``2 i + {0: psi, 1: rate}``. Both are views of one
+    array ``[M | Q]``, filled where it lies (fresh memory costs a page fault per 4 kB
+    touched: a scratch copy doubled the maps' cost at the demo's size), a block of
+    intervals at a time (each interval's maps are its own, so the blocks give the same
+    bits; a block's scratch stays in cache on a long take).
     """
     steps, n, trees = phi.shape[0], slots.size, slots.trees
     layout = slots.map_layout
-    m, q = np.empty((steps, trees, 2 * n, 2 * n)), np.empty((steps, trees, 2 * n, 3 * n))
+    x = np.zeros((steps, trees, n, 2, 5 * n))
     block = _block(trees * 10 * n * n)
     for a in range(0, steps, block):
         cut = slice(a, a + block)
-        m[cut], q[cut] = _chain_map_block(phi[cut], beta[cut], k, c, mu, h[cut], slots, layout)
-    return m, q
+        _fill_chain_maps(x[cut], phi[cut], beta[cut], k, c, mu, h[cut], layout)
+    x = x.reshape(steps, trees, 2 * n, 5 * n)
+    return x[..., :2 * n], x[..., 2 * n:]
 
 
-def _chain_map_block(phi, beta, k, c, mu, h, slots, layout):
-    """:func:`_chain_maps` for one block of intervals, ``layout`` from :attr:`.slots.ChainSlots.map_layout`."""
-    steps, n, trees = phi.shape[0], slots.size, slots.trees
+def _parent_links(beta, k, c, mu, h):
+    """How a bone's state after an interval takes its parent's states at the interval's start
+    (``g0``) and end (``g1``), each (S-1, N, 2, 2): the pull ``k psi_p + mu c psi_p'`` at the
+    start, the end and the middle (the cubic Hermite interpolant's), carried by ``beta``.
+
+    Component by component over (S-1, N) lanes (a trailing axis of two would make every
+    array pass step two numbers at a time).
+    """
     hh = h[:, None]
     kk, kd = k[None, :] + 0.0 * hh, (mu * c)[None, :] + 0.0 * hh
-    kc = np.stack([kk, kd], -1)  # (S-1, N, 2)
-    # parent's force k psi + mu c psi' in the middle, from the cubic Hermite interpolant
-    mid_start = np.stack([0.5 * kk - 1.5 * kd / hh, kk * hh / 8.0 - 0.25 * kd], -1)
-    mid_end = np.stack([0.5 * kk + 1.5 * kd / hh, -kk * hh / 8.0 - 0.25 * kd], -1)
-    b0, bm, b1 = beta[..., 0, :], beta[..., 1, :], beta[..., 2, :]
-    g0 = b0[..., :, None] * kc[..., None, :] + bm[..., :, None] * mid_start[..., None, :]
-    g1 = b1[..., :, None] * kc[..., None, :] + bm[..., :, None] * mid_end[..., None, :]
+    # the parent's pull in the middle per unit of its start (end) angle and rate
+    mid_start = (0.5 * kk - 1.5 * kd / hh, kk * hh / 8.0 - 0.25 * kd)
+    mid_end = (0.5 * kk + 1.5 * kd / hh, -kk * hh / 8.0 - 0.25 * kd)
+    g0, g1 = np.empty(beta.shape[:2] + (2, 2)), np.empty(beta.shape[:2] + (2, 2))
+    for r in range(2):
+        b0, bm, b1 = beta[..., 0, r], beta[..., 1, r], beta[..., 2, r]
+        for s, pull in enumerate((kk, kd)):
+            g0[..., r, s] = b0 * pull + bm * mid_start[s]
+            g1[..., r, s] = b1 * pull + bm * mid_end[s]
+    return g0, g1
+
+
+def _fill_chain_maps(x, phi, beta, k, c, mu, h, layout):
+    """:func:`_chain_maps` for one block of intervals, into its zeroed part ``x`` (S, trees, n, 2, 5n),
+    ``layout`` from :attr:`.slots.ChainSlots.map_layout`."""
+    steps, trees, n = x.shape[:3]
+    g0, g1 = _parent_links(beta, k, c, mu, h)
     # [Phi + E0 | push] for every step, by one scatter of flat entries (a bone's own
     # block, its link to its parent, the force nodes' columns)
     where, source, parent_pos, has_parent = layout
     entries = np.concatenate([phi.reshape(steps, -1), g0.reshape(steps, -1), beta.reshape(steps, -1)], axis=1)
-    x = np.zeros((steps, trees * n * 2 * 5 * n))
-    x[:, where] = entries[:, source]
-    x = x.reshape(steps, trees, n, 2, 5 * n)
+    flat = x.reshape(steps, -1)  # a view: each step's block is contiguous
+    flat[:, where] = entries[:, source]
     # (I - E1) X = [Phi + E0 | push]: E1 links a bone to its parent's end state, and
     # parents come first within a tree, so each bone adds its finished parent's rows
     g1 = g1.reshape(steps, trees, n, 2, 2)
@@ -169,10 +186,13 @@ def _chain_map_block(phi, beta, k, c, mu, h, slots, layout):
         t = np.nonzero(has_parent[:, i])[0]
         if t.size == 0:
             continue
-        rows, link = x[:, t, parent_pos[t, i]], g1[:, t, i]  # a 2x2 times two rows, spelled out
+        if t.size == trees and np.all(parent_pos[:, i] == parent_pos[0, i]):
+            t = slice(None)  # every tree alike here (chains): plain slices, no gather and scatter
+            rows = x[:, :, parent_pos[0, i]]
+        else:
+            rows = x[:, t, parent_pos[t, i]]
+        link = g1[:, t, i]  # a 2x2 times two rows, spelled out
         x[:, t, i] += link[..., :, 0, None] * rows[..., None, 0, :] + link[..., :, 1, None] * rows[..., None, 1, :]
-    x = x.reshape(steps, trees, 2 * n, 5 * n)
-    return x[..., :2 * n], x[..., 2 * n:]
 
 
 def _error_left(changes):
