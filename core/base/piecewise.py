@@ -43,7 +43,7 @@ class PiecewisePolynomial:
         if order not in cache:
             out = []
             for p in self.pieces:
-                if not np.array_equal(p.domain, p.window):
+                if p.domain[0] != p.window[0] or p.domain[1] != p.window[1]:  # array_equal's checks cost more
                     p = p.convert()  # plain power series in local time
                 c = np.array(p.coef, dtype=float)
                 for _ in range(order):  # the same products as numpy's polyder, so the same bits
@@ -59,11 +59,17 @@ class PiecewisePolynomial:
         out = np.empty_like(flat)
         starts = np.asarray(self.starts)
         index = np.clip(np.searchsorted(starts, flat, side="right") - 1, 0, len(starts) - 1)
-        inside = (flat >= starts[0]) & (flat <= self.end)
-        for i, coef in enumerate(self._coefficients(order)):
-            sel = (index == i) & inside
-            if sel.any():
-                out[sel] = _horner(coef, flat[sel] - starts[i])
+        if np.all(index[1:] >= index[:-1]):  # times in order: each piece's are one run, no masks
+            runs = np.searchsorted(index, np.arange(len(starts) + 1))
+            for i, coef in enumerate(self._coefficients(order)):
+                if runs[i] < runs[i + 1]:  # times outside the curve are set below
+                    out[runs[i]:runs[i + 1]] = _horner(coef, flat[runs[i]:runs[i + 1]] - starts[i])
+        else:
+            inside = (flat >= starts[0]) & (flat <= self.end)
+            for i, coef in enumerate(self._coefficients(order)):
+                sel = (index == i) & inside
+                if sel.any():
+                    out[sel] = _horner(coef, flat[sel] - starts[i])
         before, after = flat < starts[0], flat > self.end
         if order == 0:
             out[before] = self.pieces[0](0.0)

@@ -54,14 +54,15 @@ def grade_lower(value, limits):
 def _force_extremes(z_path, phases, groups, gravity):
     """Extreme force [BW] of each ``(names, pick)`` group over its phases, 801 samples a phase.
 
-    One evaluation of the path for every phase at once (the panel re-plans while a value is dragged).
+    One evaluation of the path for every phase at once, the phases in time order (the panel
+    re-plans while a value is dragged: times in order are evaluated piece by piece, unmasked).
     """
     times, owners = [], []
-    for n, (names, _) in enumerate(groups):
-        for p in phases:
-            if p.name in names and p.end_s > p.start_s:
-                times.append(np.linspace(p.start_s, p.end_s, 801))
-                owners.append(n)
+    for p in sorted(phases, key=lambda p: p.start_s):
+        owner = next((n for n, (names, _) in enumerate(groups) if p.name in names), None)
+        if owner is not None and p.end_s > p.start_s:
+            times.append(np.linspace(p.start_s, p.end_s, 801))
+            owners.append(owner)
     force = (1.0 + z_path.evaluate(np.concatenate(times), 2) / gravity).reshape(len(times), 801) if times else None
     out = []
     for n, (_, pick) in enumerate(groups):
