@@ -18,6 +18,7 @@ one quadratic or the crossing of two (a closed form once the two are known);
 """
 
 import functools
+from dataclasses import dataclass
 
 import numpy as np
 
@@ -139,11 +140,18 @@ def _limit_rows(x, first_kind, second_kind, zero_force, lined):
     return acc, np.concatenate(offsets, axis=1), np.concatenate(slopes, axis=1), turn
 
 
+@dataclass(frozen=True)
 class _Layout:
-    """A kind of stretch's limits as linear maps of its parameters (see :func:`_layout`)."""
+    """A kind of stretch's limits as linear maps of its eight parameters (see :func:`_layout`):
+    the envelope's offsets (8, 9, m), the bounds on a_b stacked (8, 9, limits), the dip's turn
+    lines, where the flat, lower and upper bounds sit in the stack, and each bound group's
+    ``(starts, duration power)``."""
 
-    def __init__(self, envelope, stacked, turn, cuts, groups):
-        self.envelope, self.stacked, self.turn, self.cuts, self.groups = envelope, stacked, turn, cuts, groups
+    envelope: np.ndarray
+    stacked: np.ndarray
+    turn: np.ndarray
+    cuts: list
+    groups: list
 
 
 @functools.lru_cache(maxsize=32)
