@@ -199,7 +199,7 @@ class LineTables:
         x = np.array([s.height, s.speed, s.acceleration, zb, e.height, e.speed, e.acceleration, g], dtype=float)
         self.envelope_offset = np.tensordot(x, layout.envelope, 1)
         self.envelope_slope = _ENVELOPE_SLOPE
-        if self.dip:
+        if self.dip and not self.turn_by_lines:  # the sample-by-sample turn check alone reads them
             self.turn_offset = np.tensordot(x, layout.turn, 1)
             self.turn_slope = _TURN_D2[5]
         self._stacked = np.tensordot(x, layout.stacked, 1)
