@@ -12,8 +12,9 @@ __all__ = ["BLOCK_VALUES", "blocks_along"]
 BLOCK_VALUES = 2 ** 17
 
 
-def blocks_along(length, values_per_item):
+def blocks_along(length, values_per_item, least=1):
     """Slices cutting an axis of ``length`` items into blocks of about :data:`BLOCK_VALUES`
-    values, one item holding ``values_per_item`` (every other axis)."""
-    width = max(1, BLOCK_VALUES // max(1, values_per_item))
+    values, one item holding ``values_per_item`` (every other axis), and at least ``least``
+    items (Python's fixed cost per block stays small beside its work)."""
+    width = max(least, BLOCK_VALUES // max(1, values_per_item))
     return [slice(a, min(a + width, length)) for a in range(0, length, width)]

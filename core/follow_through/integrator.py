@@ -72,7 +72,7 @@ of a general class of recurrence equations", IEEE Trans. Computers C-22(8):786-7
 
 import numpy as np
 
-from ..base.blocks import BLOCK_VALUES, blocks_along
+from ..base.blocks import blocks_along
 from .bone_forces import gravity_and_turn, loaded_pose_load, swing_part, turned
 from .contacts import contact_part, hold_outside
 from .samples import refine_drive
@@ -97,12 +97,8 @@ MAX_SWEEPS = 40
 STIFFNESS_SWEEPS = 1
 #: Pair levels composed before the frame-by-frame part.
 _PAIR_LEVELS = 3
-
-
-def _block(values_per_item):
-    """Items (nodes or intervals) per block of about :data:`..base.blocks.BLOCK_VALUES` values (at
-    least 8) when one item fills ``values_per_item`` values; a demo-sized bake is one block."""
-    return max(8, BLOCK_VALUES // max(1, values_per_item))
+#: Fewest nodes or intervals in a block of a sweep's work (a demo-sized bake is one block).
+_LEAST_BLOCK = 8
 
 
 def _in_node_blocks(node_wise, first, *rest):
@@ -112,13 +108,13 @@ def _in_node_blocks(node_wise, first, *rest):
     Every such step is node by node, so the result is the same to the bit; on a long take the
     whole-range temporaries (tens of MB each) no longer stream through memory once per operation.
     """
-    nodes, block = first.shape[1], _block(first.shape[0] * first.shape[2])
-    if nodes <= block:
+    nodes = first.shape[1]
+    cuts = blocks_along(nodes, first.shape[0] * first.shape[2], least=_LEAST_BLOCK)
+    if len(cuts) == 1:
         return node_wise(first, *rest)
     out = np.empty_like(first)
     per_node = [isinstance(x, np.ndarray) and x.ndim == 3 and x.shape[1] == nodes for x in rest]
-    for a in range(0, nodes, block):
-        cut = slice(a, a + block)
+    for cut in cuts:
         out[:, cut] = node_wise(first[:, cut], *(x[:, cut] if sliced else x for x, sliced in zip(rest, per_node)))
     return out
 
@@ -138,9 +134,7 @@ def _chain_maps(phi, beta, k, c, mu, h, slots):
     steps, n, trees = phi.shape[0], slots.size, slots.trees
     layout = slots.map_layout
     x = np.zeros((steps, trees, n, 2, 5 * n))
-    block = _block(trees * 10 * n * n)
-    for a in range(0, steps, block):
-        cut = slice(a, a + block)
+    for cut in blocks_along(steps, trees * 10 * n * n, least=_LEAST_BLOCK):
         _fill_chain_maps(x[cut], phi[cut], beta[cut], k, c, mu, h[cut], layout)
     x = x.reshape(steps, trees, 2 * n, 5 * n)
     return x[..., :2 * n], x[..., 2 * n:]
@@ -238,9 +232,8 @@ def _pushed_forces(push, psi, d0, force, stiff, frames, trees, n):
     """
     steps = frames - 1
     out = np.empty((steps, trees, 2 * n, 3))
-    block = _block(9 * trees * n)
-    for a in range(0, steps, block):
-        b = min(a + block, steps)
+    for cut in blocks_along(steps, 9 * trees * n, least=_LEAST_BLOCK):
+        a, b = cut.start, cut.stop
         st = stiff[a:b]
         swing = swing_part(psi[:, a:b + 1], d0[:, a:b + 1])  # the frames the block's intervals start and end at
         middle = slice(frames + a, frames + b)
