@@ -127,7 +127,7 @@ def _chain_maps(phi, beta, k, c, mu, h, slots):
     an interval is ``M X + Q U`` with ``U`` the force at the start, middle and end
     (n rows each). State rows are ``2 i + {0: psi, 1: rate}``. Both are views of one
     array ``[M | Q]``, filled where it lies (fresh memory costs a page fault per 4 kB
-    touched: a scratch copy doubled the maps' cost at the demo's size), a block of
+    touched, so the maps are not built in a scratch array and copied), a block of
     intervals at a time (each interval's maps are its own, so the blocks give the same
     bits; a block's scratch stays in cache on a long take).
     """
