@@ -54,11 +54,12 @@ def grade_lower(value, limits):
 def _force_extremes(z_path, phases, groups, gravity):
     """Extreme force [BW] of each ``(names, pick)`` group over its phases, 801 samples a phase.
 
-    One evaluation of the path for every phase at once, the phases in time order (the panel
-    re-plans while a value is dragged: times in order are evaluated piece by piece, unmasked).
+    One evaluation of the path for every phase at once (the panel re-plans while a value is
+    dragged). The plan keeps its phases in time order, so the samples come in order and are
+    evaluated piece by piece, unmasked (phases out of order give the same figures, masked).
     """
     times, owners = [], []
-    for p in sorted(phases, key=lambda p: p.start_s):
+    for p in phases:
         owner = next((n for n, (names, _) in enumerate(groups) if p.name in names), None)
         if owner is not None and p.end_s > p.start_s:
             times.append(np.linspace(p.start_s, p.end_s, 801))
